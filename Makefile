@@ -1,0 +1,44 @@
+# bearbound: set-up, tests, demo and checks.  `make help` lists the targets.
+# Every target that runs code first runs `setup`, so a fresh machine needs only `make test`.
+
+PYTHON ?= python3
+VENV   ?= .venv
+# Lives inside the venv, so deleting the venv also forces a fresh set-up.
+STAMP  := $(VENV)/bearbound-setup.stamp
+PY     := $(VENV)/bin/python
+
+MAKEFLAGS += --no-print-directory
+
+.PHONY: help setup venv test demo verify bench clean
+
+help:
+	@echo "make setup   create $(VENV) and install bearbound with test tools"
+	@echo "make test    run the test suite"
+	@echo "make demo    solve examples/pump-house.toml"
+	@echo "make verify  run the verification cases"
+	@echo "make bench   run the benchmarks"
+	@echo "make clean   remove out/ and caches (keeps $(VENV))"
+
+setup venv: $(STAMP)
+	@:
+
+# Re-run when the dependencies or the set-up script change; otherwise this is a no-op.
+$(STAMP): pyproject.toml scripts/setup_env.sh
+	@PYTHON="$(PYTHON)" VENV="$(VENV)" bash scripts/setup_env.sh
+	@touch "$@"
+
+test: setup
+	@$(PY) -m pytest -q
+
+demo: setup
+	@$(VENV)/bin/bearbound run examples/pump-house.toml
+
+verify: setup
+	@$(VENV)/bin/bearbound verify
+
+bench: setup
+	@$(PY) benchmarks/run.py
+
+clean:
+	@rm -rf out/ .pytest_cache/ .hypothesis/ build/ dist/ ./*.egg-info
+	@find . \( -path ./$(VENV) -o -path ./.git \) -prune -o -type d -name __pycache__ -exec rm -rf {} +

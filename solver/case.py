@@ -1,0 +1,349 @@
+"""Read and check a case file (TOML) and build the :class:`~solver.model.Case`.
+
+Every key a case file may hold is listed once, in the schema tables below
+(``FOOTING_KEYS``, ``GROUND_KEYS``, ``ANALYSIS_KEYS``, ``LAYER_KEYS``,
+``MODEL_KEYS``): a new key is one line there (plus its field in
+:mod:`solver.model`). Checks that tie keys together (thickness on every layer
+but the last, strength not all zero, unique layer names, footing base inside
+the soil) follow the tables.
+
+Any bad input raises :class:`CaseError` with one line a user can act on:
+``<key path>: <value> is not allowed; must be <what is allowed>``. Layers are
+counted from 1, top to bottom: ``layers[1]`` is the top layer.
+"""
+from __future__ import annotations
+
+import difflib
+import hashlib
+import math
+import numbers
+import operator
+import pathlib
+import tomllib
+from dataclasses import dataclass
+from typing import Any
+
+from solver.model import Analysis, Case, Footing, Ground, Layer
+
+MAX_FILE_BYTES = 1_000_000  # a case is a few dozen lines; anything this big is the wrong file
+
+
+class CaseError(ValueError):
+    """One line a user can act on: names the key, the value and what is allowed."""
+
+
+REQUIRED = object()  # default of a key the user must give
+_BOUNDS = (("gt", ">", operator.gt), ("ge", ">=", operator.ge),
+           ("lt", "<", operator.lt), ("le", "<=", operator.le))
+_KIND = {float: "a number", int: "a whole number", str: "a string"}
+
+
+@dataclass(frozen=True)
+class Key:
+    """Schema of one key: its type, allowed range or choices, unit and default.
+
+    >>> Key(float, "m", gt=0).allowed
+    'a number > 0 (m)'
+    >>> Key(str, choices=("rough", "smooth")).read("smooth")
+    'smooth'
+    """
+
+    kind: type  # float (int accepted), int or str
+    unit: str = ""
+    gt: float | None = None
+    ge: float | None = None
+    lt: float | None = None
+    le: float | None = None
+    choices: tuple[str, ...] = ()
+    default: Any = REQUIRED
+    max_len: int = 200  # str only: one printable line of at most this many characters
+
+    @property
+    def allowed(self) -> str:
+        """What the key may hold, phrased to follow 'must be'."""
+        if self.choices:
+            return "one of " + ", ".join(repr(c) for c in self.choices)
+        if self.kind is str:
+            return f"a non-empty one-line string of at most {self.max_len} characters"
+        limits = " and ".join(f"{sym} {getattr(self, op):g}" for op, sym, _ in _BOUNDS
+                              if getattr(self, op) is not None)
+        return " ".join(filter(None, (_KIND[self.kind], limits, self.unit and f"({self.unit})")))
+
+    def read(self, value: Any) -> Any:
+        """Return ``value`` as a clean Python value, or raise ValueError if not allowed."""
+        if self.kind is str:
+            ok = isinstance(value, str) and (
+                value in self.choices if self.choices
+                else value.strip() != "" and value.isprintable() and len(value) <= self.max_len)
+        elif isinstance(value, bool):  # bool is an int in Python, never a number here
+            ok = False
+        elif self.kind is int:
+            ok = isinstance(value, numbers.Integral)
+            value = int(value) if ok else value
+        else:
+            try:  # float() of a huge int overflows
+                ok = isinstance(value, numbers.Real) and math.isfinite(float(value))
+            except OverflowError:
+                ok = False
+            value = float(value) + 0.0 if ok else value  # + 0.0 turns -0.0 into 0.0
+        if not ok or not all(holds(value, getattr(self, op)) for op, _, holds in _BOUNDS
+                             if getattr(self, op) is not None):
+            raise ValueError(value)
+        return value
+
+
+# -- the schema: one line per key ---------------------------------------------
+
+TOP_KEYS = {"title": Key(str, default=None)}  # None: the case name
+FOOTING_KEYS = {
+    "width": Key(float, "m", gt=0),
+    "base": Key(str, choices=("rough", "smooth"), default="rough"),
+    "embedment": Key(float, "m", ge=0, default=0.0),
+}
+GROUND_KEYS = {
+    "surcharge": Key(float, "kPa", ge=0, default=0.0),
+}
+ANALYSIS_KEYS = {
+    "bounds": Key(str, choices=("lower", "upper", "both"), default="both"),
+    "elements": Key(int, ge=200, le=400_000, default=4000),
+    "backend": Key(str, choices=("clarabel", "cvxpy"), default="clarabel"),
+}
+# Strength keys of each soil model; a layer holds the keys of its own model only.
+MODEL_KEYS = {
+    "mohr-coulomb": {
+        "cohesion": Key(float, "kPa", ge=0, default=0.0),
+        "friction_angle": Key(float, "degrees", ge=0, lt=90, default=0.0),
+    },
+    "tresca": {
+        "undrained_strength": Key(float, "kPa", ge=0),
+        "strength_gradient": Key(float, "kPa/m", ge=0, default=0.0),
+    },
+}
+LAYER_KEYS = {
+    "name": Key(str, max_len=80),
+    # None: runs down to the model base; allowed on the last layer only.
+    "thickness": Key(float, "m", gt=0, default=None),
+    "model": Key(str, choices=tuple(MODEL_KEYS)),
+    "unit_weight": Key(float, "kN/m^3", ge=0, le=30),  # 30: sanity limit, catches N/m^3 or kg/m^3
+}
+# The tables holding one dataclass each: key in the file -> (dataclass, schema).
+TABLES = {"footing": (Footing, FOOTING_KEYS), "ground": (Ground, GROUND_KEYS),
+          "analysis": (Analysis, ANALYSIS_KEYS)}
+REQUIRED_TABLES = ("footing",)
+
+
+# -- reading ------------------------------------------------------------------
+
+def _show(value: Any) -> str:
+    """repr of a value, cut short and on one line, for a message (booleans as TOML spells them)."""
+    text = str(value).lower() if isinstance(value, bool) else " ".join(repr(value).split())
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _not_allowed(path: str, value: Any, allowed: str, hint: str = "") -> CaseError:
+    return CaseError(f"{path}: {_show(value)} is not allowed; must be {allowed}{hint}")
+
+
+def _did_you_mean(word: str, options: list[str]) -> str:
+    close = difflib.get_close_matches(word, options, n=1)
+    return f"did you mean {close[0]!r}?" if close else "allowed: " + ", ".join(options)
+
+
+def _check_keys(table: dict, allowed: dict, path: str,
+                foreign: dict[str, str] | None = None) -> None:
+    """Raise on the first key of ``table`` the schema ``allowed`` does not list."""
+    for key in table:
+        if key not in allowed:
+            where = f"{path}.{key}" if path else str(key)
+            if foreign and key in foreign:
+                raise CaseError(f"{where}: {foreign[key]}")
+            raise CaseError(f"{where}: unknown key; {_did_you_mean(str(key), list(allowed))}")
+
+
+def _read_table(table: dict, schema: dict[str, Key], path: str,
+                foreign: dict[str, str] | None = None) -> dict[str, Any]:
+    """Check ``table`` against ``schema``; return every schema key's value (defaults filled)."""
+    _check_keys(table, schema, path, foreign)
+    values = {}
+    for key, spec in schema.items():
+        where = f"{path}.{key}" if path else key
+        if key not in table:
+            if spec.default is REQUIRED:
+                raise CaseError(f"{where}: missing; required, must be {spec.allowed}")
+            values[key] = spec.default
+            continue
+        try:
+            values[key] = spec.read(table[key])
+        except ValueError:
+            close = difflib.get_close_matches(table[key], spec.choices, n=1) \
+                if spec.choices and isinstance(table[key], str) else []
+            raise _not_allowed(where, table[key], spec.allowed,
+                               f" (did you mean {close[0]!r}?)" if close else "") from None
+    return values
+
+
+def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
+    if not isinstance(raw, dict):
+        raise _not_allowed(path, raw, "a table [[layers]] of layer keys")
+    model = _read_table({"model": raw["model"]} if "model" in raw else {},
+                        {"model": LAYER_KEYS["model"]}, path)["model"]
+    schema = LAYER_KEYS | MODEL_KEYS[model]
+    foreign = {key: f"not a {model} key; it belongs to model = {other!r} "
+                    f"({model} takes {', '.join(MODEL_KEYS[model])})"
+               for other, keys in MODEL_KEYS.items() if other != model for key in keys}
+    values = _read_table(raw, schema, path, foreign)
+
+    if values["thickness"] is None and not is_last:
+        raise CaseError(f"{path}.thickness: missing; every layer but the last needs one, "
+                        f"must be {LAYER_KEYS['thickness'].allowed}")
+    strength = list(MODEL_KEYS[model])
+    if not any(key in raw for key in strength):
+        raise CaseError(f"{path}: missing {' and '.join(strength)}; a {model} layer "
+                        "needs at least one of them")
+    if all(values[key] == 0.0 for key in strength):
+        first, *rest = strength
+        raise CaseError(f"{path}.{first}: {_show(values[first])} with "
+                        + ", ".join(f"{key} = {_show(values[key])}" for key in rest)
+                        + f" is not allowed; a {model} layer needs strength: "
+                        + " or ".join(f"{key} > 0" for key in strength))
+    return Layer(**values)
+
+
+def _read_layers(raw: Any) -> tuple[Layer, ...]:
+    if raw is None:
+        raise CaseError("layers: missing; required, at least one [[layers]] table (top to bottom)")
+    if not isinstance(raw, list) or not raw:
+        raise _not_allowed("layers", raw,
+                           "an array of tables [[layers]], at least one (top to bottom)")
+    layers = tuple(_read_layer(item, f"layers[{i}]", is_last=i == len(raw))
+                   for i, item in enumerate(raw, 1))
+    seen: dict[str, int] = {}
+    for i, layer in enumerate(layers, 1):
+        if layer.name in seen:
+            raise _not_allowed(f"layers[{i}].name", layer.name,
+                               f"unique among layers (layers[{seen[layer.name]}] has it too)")
+        seen[layer.name] = i
+    return layers
+
+
+def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Case:
+    """Check the keys of a case (as read from TOML) and return the :class:`Case`.
+
+    Parameters
+    ----------
+    data : dict
+        The case as nested dicts and lists, keys as in the case file.
+    name : str
+        Short name of the case (the case file's stem); also the default title.
+    source_sha256 : str
+        Hash of the case file's bytes, carried into reports.
+
+    Returns
+    -------
+    Case
+
+    Raises
+    ------
+    CaseError
+        On the first key that is unknown, missing, of the wrong type or out of range.
+
+    Examples
+    --------
+    >>> case = parse_case({"footing": {"width": 2.0}, "layers": [
+    ...     {"name": "clay", "model": "tresca", "unit_weight": 18, "undrained_strength": 40}]})
+    >>> case.title, case.footing.base, case.layers[0].unit_weight, case.layers[0].thickness
+    ('case', 'rough', 18.0, None)
+    >>> parse_case({"footing": {"width": -1}, "layers": []})
+    Traceback (most recent call last):
+    ...
+    solver.case.CaseError: footing.width: -1 is not allowed; must be a number > 0 (m)
+    """
+    if not isinstance(data, dict):
+        raise _not_allowed("case", data, "a table of keys")
+    _check_keys(data, TOP_KEYS | dict.fromkeys(TABLES) | {"layers": None}, "")
+    title = _read_table({k: data[k] for k in TOP_KEYS if k in data}, TOP_KEYS, "")["title"]
+
+    parts = {}
+    for table, (cls, schema) in TABLES.items():
+        raw = data.get(table)
+        if raw is None and table in REQUIRED_TABLES:
+            needs = ", ".join(k for k, spec in schema.items() if spec.default is REQUIRED)
+            raise CaseError(f"{table}: missing; required table [{table}] (needs {needs})")
+        if not isinstance(raw, dict | None):
+            raise _not_allowed(table, raw, f"a table [{table}]")
+        parts[table] = cls(**_read_table(raw or {}, schema, table))
+    layers = _read_layers(data.get("layers"))
+
+    total = sum(layer.thickness for layer in layers[:-1]) + (layers[-1].thickness or math.inf)
+    if parts["footing"].embedment >= total:
+        raise _not_allowed("footing.embedment", parts["footing"].embedment,
+                           f"< {total:g} (m), the total thickness of the layers, so that the "
+                           "footing base sits in soil (or leave out the last layer's thickness)")
+    return Case(title=name if title is None else title, layers=layers, name=name,
+                source_sha256=source_sha256, **parts)
+
+
+def load_case(path: str | pathlib.Path) -> Case:
+    """Read a case file (TOML, UTF-8, at most 1 MB) and return the checked :class:`Case`.
+
+    The case name is the file's stem and ``source_sha256`` the SHA-256 of its bytes.
+    Any problem with the file or its keys raises :class:`CaseError` (one line).
+    """
+    try:
+        path = pathlib.Path(path)
+        with path.open("rb") as stream:
+            raw = stream.read(MAX_FILE_BYTES + 1)  # never read more than the limit
+    except FileNotFoundError:
+        raise CaseError(f"{path}: no such case file") from None
+    except IsADirectoryError:
+        raise CaseError(f"{path}: is a directory; must be a case file (TOML)") from None
+    except (OSError, TypeError, ValueError) as exc:  # permissions, bad path type, NUL in the path
+        where = str(path) if str(path).isprintable() else _show(str(path))
+        reason = " ".join(str(exc).split())
+        raise CaseError(f"{where}: cannot read the case file ({reason})") from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise CaseError(f"{path}: larger than 1 MB; a case file is short TOML text, "
+                        "is this the right file?")
+    if b"\0" in raw:
+        raise CaseError(f"{path}: binary data (NUL bytes); must be a TOML text file")
+    try:
+        text = raw.decode("utf-8-sig")  # tolerate the byte-order mark some editors write
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        raise CaseError(f"{path}: not UTF-8 text (bad byte at line {line}); "
+                        "save the case file as UTF-8") from None
+    if not text.strip():
+        raise CaseError(f"{path}: the file is empty; a case needs a [footing] table "
+                        "and at least one [[layers]] table")
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
+    return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest())
+
+
+def case_to_dict(case: Case) -> dict:
+    """The case as the nested dict a case file holds; the inverse of :func:`parse_case`.
+
+    Every key is written, defaults included, except those whose value is None
+    (not given, such as the last layer's thickness); a layer holds only its
+    model's keys. ``name`` and ``source_sha256`` are not
+    case-file keys: pass them to :func:`parse_case` again to get an equal Case.
+
+    >>> case = parse_case({"footing": {"width": 1.5}, "layers": [
+    ...     {"name": "sand", "model": "mohr-coulomb", "unit_weight": 19, "friction_angle": 32}]})
+    >>> sand = case_to_dict(case)["layers"][0]
+    >>> sand["friction_angle"], sand["cohesion"], "thickness" in sand
+    (32.0, 0.0, False)
+    >>> parse_case(case_to_dict(case)) == case
+    True
+    """
+    def keys_of(obj: Any, schema: dict[str, Key]) -> dict[str, Any]:
+        # None means "not given" (TOML has no null), so it is left out.
+        return {key: getattr(obj, key) for key in schema if getattr(obj, key) is not None}
+
+    out: dict[str, Any] = {"title": case.title}
+    for table, (_, schema) in TABLES.items():
+        out[table] = keys_of(getattr(case, table), schema)
+    out["layers"] = [keys_of(layer, LAYER_KEYS | MODEL_KEYS[layer.model]) for layer in case.layers]
+    return out

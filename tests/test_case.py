@@ -1,0 +1,248 @@
+"""Tests of solver.case: reading, checking and writing back a case.
+
+The case data below is invented for the tests.
+"""
+from __future__ import annotations
+
+import copy
+import doctest
+import hashlib
+import math
+import pathlib
+
+import pytest
+
+import solver.case
+from solver.case import CaseError, case_to_dict, load_case, parse_case
+from solver.model import Case, Layer
+
+BAD_CASES = pathlib.Path(__file__).parent / "bad_cases"
+
+VALID_TOML = """\
+title = "Pump-house wall footing"
+[footing]
+width = 1.8
+base = "smooth"
+embedment = 0.6
+[ground]
+surcharge = 10
+[[layers]]
+name = "fill"
+thickness = 1.2
+model = "mohr-coulomb"
+cohesion = 2.0
+friction_angle = 34.0
+unit_weight = 19.0
+[[layers]]
+name = "soft clay"
+model = "tresca"
+undrained_strength = 25.0
+strength_gradient = 1.5
+unit_weight = 16.5
+[analysis]
+bounds = "lower"
+elements = 800
+backend = "cvxpy"
+"""
+
+# What each bad case's message must start with: the key path, or the file for
+# faults of the file itself (None).
+EXPECTED_KEY = {
+    "width_negative.toml": "footing.width",
+    "width_zero.toml": "footing.width",
+    "width_string.toml": "footing.width",
+    "width_bool.toml": "footing.width",
+    "width_nan.toml": "footing.width",
+    "width_missing.toml": "footing.width",
+    "width_typo.toml": "footing.widht",
+    "footing_missing.toml": "footing",
+    "footing_not_table.toml": "footing",
+    "base_unknown.toml": "footing.base",
+    "embedment_negative.toml": "footing.embedment",
+    "embedment_below_layers.toml": "footing.embedment",
+    "surcharge_inf.toml": "ground.surcharge",
+    "surcharge_negative.toml": "ground.surcharge",
+    "ground_typo.toml": "grund",
+    "title_not_string.toml": "title",
+    "layers_missing.toml": "layers",
+    "layers_empty.toml": "layers",
+    "layers_as_table.toml": "layers",
+    "layer_not_table.toml": "layers[1]",
+    "friction_angle_90.toml": "layers[1].friction_angle",
+    "friction_angle_typo.toml": "layers[1].frictoin_angle",
+    "friction_angle_string.toml": "layers[1].friction_angle",
+    "cohesion_negative.toml": "layers[1].cohesion",
+    "tresca_key_on_mohr_coulomb.toml": "layers[1].undrained_strength",
+    "mohr_coulomb_key_on_tresca.toml": "layers[1].friction_angle",
+    "strength_missing.toml": "layers[1]",
+    "strength_zero_mohr_coulomb.toml": "layers[1].cohesion",
+    "strength_zero_tresca.toml": "layers[1].undrained_strength",
+    "undrained_strength_missing.toml": "layers[1].undrained_strength",
+    "strength_gradient_negative.toml": "layers[1].strength_gradient",
+    "model_missing.toml": "layers[1].model",
+    "model_unknown.toml": "layers[1].model",
+    "name_missing.toml": "layers[1].name",
+    "name_blank.toml": "layers[1].name",
+    "duplicate_layer_names.toml": "layers[2].name",
+    "thickness_missing_not_last.toml": "layers[1].thickness",
+    "thickness_zero.toml": "layers[1].thickness",
+    "unit_weight_missing.toml": "layers[1].unit_weight",
+    "unit_weight_in_newtons.toml": "layers[1].unit_weight",
+    "elements_float.toml": "analysis.elements",
+    "elements_too_few.toml": "analysis.elements",
+    "elements_huge_int.toml": "analysis.elements",
+    "bounds_unknown.toml": "analysis.bounds",
+    "backend_unknown.toml": "analysis.backend",
+    "analysis_typo.toml": "anaylsis",
+    "not_toml.toml": None,
+    "unclosed_table.toml": None,
+    "empty.toml": None,
+    "binary.toml": None,
+    "latin1.toml": None,
+}
+
+
+def assert_one_line_naming(exc: CaseError, where: str) -> None:
+    message = str(exc)
+    assert "\n" not in message and "Traceback" not in message
+    assert message.startswith(where + ":"), message
+    assert len(message) > len(where) + 10, message  # says more than the key
+
+
+def test_corpus_and_expectations_match():
+    assert sorted(p.name for p in BAD_CASES.glob("*.toml")) == sorted(EXPECTED_KEY)
+
+
+@pytest.mark.parametrize("file_name", sorted(EXPECTED_KEY))
+def test_bad_case_raises_one_line_naming_the_key(file_name):
+    path = BAD_CASES / file_name
+    with pytest.raises(CaseError) as info:
+        load_case(path)
+    assert_one_line_naming(info.value, EXPECTED_KEY[file_name] or str(path))
+
+
+@pytest.fixture
+def valid_file(tmp_path) -> pathlib.Path:
+    path = tmp_path / "pump_house.toml"
+    path.write_text(VALID_TOML, encoding="utf-8")
+    return path
+
+
+def test_valid_case_is_read_as_written(valid_file):
+    case = load_case(valid_file)
+    assert case.name == "pump_house"
+    assert case.source_sha256 == hashlib.sha256(valid_file.read_bytes()).hexdigest()
+    assert case.title == "Pump-house wall footing"
+    assert (case.footing.width, case.footing.base, case.footing.embedment) == (1.8, "smooth", 0.6)
+    assert case.ground.surcharge == 10.0 and isinstance(case.ground.surcharge, float)
+    assert case.layers == (
+        Layer(name="fill", model="mohr-coulomb", thickness=1.2, unit_weight=19.0,
+              cohesion=2.0, friction_angle=34.0),
+        Layer(name="soft clay", model="tresca", thickness=None, unit_weight=16.5,
+              undrained_strength=25.0, strength_gradient=1.5),
+    )
+    analysis = case.analysis
+    assert (analysis.bounds, analysis.elements, analysis.backend) == ("lower", 800, "cvxpy")
+
+
+def test_valid_case_round_trips(valid_file):
+    case = load_case(valid_file)
+    again = parse_case(case_to_dict(case), name=case.name, source_sha256=case.source_sha256)
+    assert again == case
+    assert parse_case(case_to_dict(case)) == Case(
+        **{**case.__dict__, "name": "case", "source_sha256": ""})
+
+
+def test_defaults_are_filled_and_title_defaults_to_name():
+    case = parse_case({"footing": {"width": 2},
+                       "layers": [{"name": "sand", "model": "mohr-coulomb",
+                                   "friction_angle": 30, "unit_weight": 0}]}, name="demo")
+    assert case.title == "demo"
+    assert (case.footing.base, case.footing.embedment, case.ground.surcharge) == ("rough", 0.0, 0.0)
+    analysis = case.analysis
+    assert (analysis.bounds, analysis.elements, analysis.backend) == ("both", 4000, "clarabel")
+    assert case.layers[0].cohesion == 0.0 and case.layers[0].thickness is None
+    assert case.is_weightless  # unit_weight = 0 is allowed
+    assert parse_case(case_to_dict(case), name="demo") == case
+
+
+def test_typo_message_suggests_the_key():
+    with pytest.raises(CaseError) as info:
+        load_case(BAD_CASES / "friction_angle_typo.toml")
+    assert str(info.value) == (
+        "layers[1].frictoin_angle: unknown key; did you mean 'friction_angle'?")
+
+
+def test_other_model_key_names_its_model():
+    with pytest.raises(CaseError, match=r"belongs to model = 'tresca'"):
+        load_case(BAD_CASES / "tresca_key_on_mohr_coulomb.toml")
+
+
+def test_value_message_gives_value_and_range():
+    with pytest.raises(CaseError) as info:
+        load_case(BAD_CASES / "width_negative.toml")
+    assert str(info.value) == "footing.width: -1.0 is not allowed; must be a number > 0 (m)"
+
+
+def test_toml_syntax_error_gives_the_line():
+    with pytest.raises(CaseError, match=r"line 2"):
+        load_case(BAD_CASES / "not_toml.toml")
+
+
+def test_file_over_1_MB_is_refused_unread(tmp_path):
+    big = tmp_path / "big.toml"
+    big.write_text("# padding\n" * 500_000)  # 5 MB of valid TOML comments
+    with pytest.raises(CaseError) as info:
+        load_case(big)
+    assert_one_line_naming(info.value, str(big))
+    assert "1 MB" in str(info.value)
+
+
+@pytest.mark.parametrize("make", [lambda d: d / "missing.toml", lambda d: d])
+def test_missing_file_or_directory(tmp_path, make):
+    path = make(tmp_path)
+    with pytest.raises(CaseError) as info:
+        load_case(path)
+    assert_one_line_naming(info.value, str(path))
+
+
+def test_not_a_table_is_refused():
+    with pytest.raises(CaseError, match=r"^case: "):
+        parse_case([1, 2])  # type: ignore[arg-type]
+
+
+ODD_VALUES = [None, True, "x", "", "a\nb", [], {}, [1], math.nan, -math.inf, 10**400,
+              -1, 0, 0.5, 89.99, 1e9]
+
+
+def _leaves(data, path=()):
+    """Paths to every value inside nested dicts and lists."""
+    items = (data.items() if isinstance(data, dict)
+             else enumerate(data) if isinstance(data, list) else ())
+    for key, value in items:
+        yield path + (key,)
+        yield from _leaves(value, path + (key,))
+
+
+def test_any_value_anywhere_gives_a_case_or_a_one_line_error(valid_file):
+    """Put each odd value at each place of a valid case: never anything but CaseError."""
+    base = case_to_dict(load_case(valid_file))
+    errors = 0
+    for where in list(_leaves(base)):
+        for value in ODD_VALUES:
+            data = copy.deepcopy(base)
+            target = data
+            for key in where[:-1]:
+                target = target[key]
+            target[where[-1]] = value
+            try:
+                assert isinstance(parse_case(data), Case)
+            except CaseError as exc:
+                errors += 1
+                assert "\n" not in str(exc)
+    assert errors > 0
+
+
+def test_doctests():
+    result = doctest.testmod(solver.case)
+    assert result.attempted > 0 and result.failed == 0
