@@ -1,0 +1,168 @@
+"""One sparse conic program and its solution, apart from any solver back end.
+
+Standard form (the one Clarabel takes):
+
+    minimise    c @ x
+    subject to  A @ x + s = b,   s in K = {0}^n_zero  x  (SOC_3)^n_soc
+
+The first ``n_zero`` rows are equalities; each following group of three rows
+(s0, s1, s2) is a second-order cone s0 >= ||(s1, s2)||. Both bounds use
+3-dimensional cones only, so the program needs no per-cone list.
+
+Back ends: Clarabel through its own Python API (default: no modelling layer,
+measured fastest), or cvxpy (any conic solver cvxpy knows, for users with
+another solver), with the cones passed as one vectorised constraint.
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+
+
+@dataclass
+class ConicProgram:
+    c: np.ndarray
+    A: sp.csc_matrix
+    b: np.ndarray
+    n_zero: int
+    n_soc: int
+    objective_constant: float = 0.0
+    tresca: bool = False  # every cone has a fixed radius (phi = 0 everywhere)
+    layout: dict = field(default_factory=dict)  # how to read x back (index arrays)
+
+    @property
+    def n_variables(self) -> int:
+        return self.A.shape[1]
+
+    @property
+    def n_rows(self) -> int:
+        return self.A.shape[0]
+
+
+@dataclass
+class Solution:
+    x: np.ndarray | None
+    status: str  # "optimal", "almost optimal", "infeasible", "iteration limit", "numerical trouble", ...
+    objective: float | None  # c @ x + objective_constant
+    iterations: int
+    solve_s: float
+    backend: str
+
+
+def assemble(rows: list[np.ndarray], cols: list[np.ndarray], vals: list[np.ndarray],
+             n_rows: int, n_cols: int) -> sp.csc_matrix:
+    """One COO -> CSC conversion of all triplets (duplicates summed, exact zeros dropped)."""
+    A = sp.coo_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                      shape=(n_rows, n_cols)).tocsc()
+    A.sum_duplicates()
+    A.eliminate_zeros()  # edges along the axes give exact zeros
+    return A
+
+
+def drop_empty_equalities(A: sp.csc_matrix, b: np.ndarray, n_zero: int, scale: float
+                          ) -> tuple[sp.csc_matrix, np.ndarray, int]:
+    """Remove equality rows with no coefficient left (0 = 0); they make the KKT
+    system singular. A row 0 = b with b != 0 means the program is infeasible as
+    built, which is a bug upstream: raise rather than hide it."""
+    A = A.tocsr()
+    empty = np.diff(A.indptr)[:n_zero] == 0
+    if np.any(np.abs(b[:n_zero][empty]) > 1e-12 * max(scale, 1.0)):
+        raise RuntimeError("conic program: an equality with no variable has a nonzero right side")
+    keep = np.concatenate([~empty, np.ones(A.shape[0] - n_zero, dtype=bool)])
+    return A[keep].tocsc(), b[keep], int(n_zero - empty.sum())
+
+
+def solve(program: ConicProgram, backend: str = "clarabel", *, verbose: bool = False,
+          settings: dict | None = None) -> Solution:
+    """Solve with the chosen back end; never raises on solver trouble (it is a status)."""
+    if backend == "clarabel":
+        return _solve_clarabel(program, verbose, settings or {})
+    if backend == "cvxpy":
+        return _solve_cvxpy(program, verbose)
+    raise ValueError(f"unknown back end {backend!r}")
+
+
+_CLARABEL_STATUS = {
+    "Solved": "optimal",
+    "AlmostSolved": "almost optimal",
+    "PrimalInfeasible": "infeasible",
+    "AlmostPrimalInfeasible": "infeasible",
+    "DualInfeasible": "unbounded",
+    "AlmostDualInfeasible": "unbounded",
+    "MaxIterations": "iteration limit",
+    "MaxTime": "time limit",
+    "NumericalError": "numerical trouble",
+    "InsufficientProgress": "insufficient progress",
+}
+
+
+def default_settings(program: ConicProgram) -> dict:
+    """Clarabel settings chosen by measurement (DEVELOPERS.md, "Solver settings").
+
+    Default tolerances are kept: looser ones stop early and loosen the upper
+    bound. Programs whose cones all have a fixed radius (Tresca) leave the mean
+    stress unbounded in the lower bound; a larger static regularisation keeps
+    the factorisation stable there.
+    """
+    settings = {"max_iter": 200, "max_threads": 1}
+    if program.tresca:
+        settings["static_regularization_constant"] = 1e-7
+    return settings
+
+
+def _solve_clarabel(program: ConicProgram, verbose: bool, overrides: dict) -> Solution:
+    import clarabel
+
+    settings = clarabel.DefaultSettings()
+    settings.verbose = verbose
+    for key, value in {**default_settings(program), **overrides}.items():
+        setattr(settings, key, value)
+    n = program.n_variables
+    P = sp.csc_matrix((n, n))
+    cones = [clarabel.ZeroConeT(program.n_zero)] if program.n_zero else []
+    cones += [clarabel.SecondOrderConeT(3)] * program.n_soc
+    start = time.perf_counter()
+    solver = clarabel.DefaultSolver(P, program.c, program.A, program.b, cones, settings)
+    result = solver.solve()
+    elapsed = time.perf_counter() - start
+    status = _CLARABEL_STATUS.get(str(result.status), str(result.status))
+    x = np.asarray(result.x) if status in ("optimal", "almost optimal", "iteration limit",
+                                           "insufficient progress", "numerical trouble") else None
+    objective = float(program.c @ x + program.objective_constant) if x is not None else None
+    return Solution(x=x, status=status, objective=objective, iterations=int(result.iterations),
+                    solve_s=elapsed, backend="clarabel")
+
+
+def _solve_cvxpy(program: ConicProgram, verbose: bool) -> Solution:
+    import cvxpy as cp
+
+    x = cp.Variable(program.n_variables)
+    A, b, nz = program.A.tocsr(), program.b, program.n_zero
+    constraints = []
+    if nz:
+        constraints.append(A[:nz] @ x == b[:nz])
+    if program.n_soc:
+        cone_rows = A[nz:]
+        t = b[nz::3] - cone_rows[0::3] @ x
+        rest = cp.vstack([b[nz + 1::3] - cone_rows[1::3] @ x, b[nz + 2::3] - cone_rows[2::3] @ x])
+        constraints.append(cp.SOC(t, rest, axis=0))  # one vectorised constraint for all cones
+    problem = cp.Problem(cp.Minimize(program.c @ x), constraints)
+    start = time.perf_counter()
+    try:
+        problem.solve(solver=cp.CLARABEL, verbose=verbose)
+        raw = problem.status
+    except cp.error.SolverError as error:  # cvxpy raises on a numerical failure
+        raw = f"solver error: {error}"
+    elapsed = time.perf_counter() - start
+    status = {"optimal": "optimal", "optimal_inaccurate": "almost optimal",
+              "infeasible": "infeasible", "infeasible_inaccurate": "infeasible",
+              "unbounded": "unbounded", "unbounded_inaccurate": "unbounded"}.get(raw, "numerical trouble")
+    values = x.value if status in ("optimal", "almost optimal") else None
+    stats = problem.solver_stats
+    iterations = int(stats.num_iters) if stats is not None and stats.num_iters is not None else 0
+    objective = float(program.c @ values + program.objective_constant) if values is not None else None
+    return Solution(x=values, status=status, objective=objective, iterations=iterations,
+                    solve_s=elapsed, backend="cvxpy")
