@@ -1,0 +1,105 @@
+"""The one way through: Case -> mesh -> each bound's conic program -> solve ->
+certificate -> Result. Each bound runs on its own mesh (first order for the
+lower bound, second order for the upper)."""
+from __future__ import annotations
+
+import time
+
+import numpy as np
+
+from .certify import certify_lower, certify_upper
+from .conic import solve
+from .hand import hand_methods, where_it_falls
+from .lower import lower_bound_program
+from .mesh import BOUNDARY_NAMES, FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
+from .model import Case
+from .result import BoundResult, Result
+from .upper import upper_bound_program, velocities
+
+LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
+                "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
+UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
+                "(Makrodimopoulos & Martin 2007); far boundary fixed")
+CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velocity| there < this
+
+
+def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
+            backend: str | None = None, solver_settings: dict | None = None) -> Result:
+    """Run the bounds the case asks for and return the certified Result."""
+    bounds = bounds or case.analysis.bounds
+    backend = backend or case.analysis.backend
+    elements = elements or case.analysis.elements
+    start = time.perf_counter()
+    domain = plan_domain(case)
+    lower = upper = None
+    if bounds in ("lower", "both"):
+        lower = _run_bound(case, "lower", elements, backend, domain, solver_settings)
+    if bounds in ("upper", "both"):
+        upper = _run_bound(case, "upper", elements, backend, domain, solver_settings)
+    total = time.perf_counter() - start
+    timing = {key: sum(b.timing[key] for b in (lower, upper) if b) for key in
+              ("mesh_s", "assemble_s", "solve_s", "certify_s")}
+    timing["total_s"] = total
+    notes = []
+    if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
+            and lower.pressure_kPa > upper.pressure_kPa * (1 + 1e-6):
+        notes.append("lower bound exceeds upper bound: this is a defect; do not use these numbers")
+    if upper and upper.extra.get("mechanism_clear_of_boundary") is False:
+        notes.append("the upper-bound mechanism reaches the far boundary: the upper bound is still "
+                     "rigorous but may be loose")
+    result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
+                    footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
+                    domain={"half_domain_by_symmetry": domain.half, "width_m": domain.x_max - domain.x_min,
+                            "depth_m": domain.depth, "estimated_mechanism_width_m": domain.mechanism_width,
+                            "estimated_mechanism_depth_m": domain.mechanism_depth},
+                    backend=backend, notes=notes)
+    lo = lower.pressure_kPa if lower else None
+    up = upper.pressure_kPa if upper else None
+    result.hand_methods = [{"method": h.method, "source": h.source, "pressure_kPa": h.pressure_kPa,
+                            "factors": h.factors, "note": h.note,
+                            "where": where_it_falls(h.pressure_kPa, lo, up)} for h in hand_methods(case)]
+    return result
+
+
+def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings) -> BoundResult:
+    t0 = time.perf_counter()
+    mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain)
+    t1 = time.perf_counter()
+    program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
+    t2 = time.perf_counter()
+    solution = solve(program, backend, settings=settings)
+    t3 = time.perf_counter()
+    certificate = (certify_lower if kind == "lower" else certify_upper)(case, mesh, program, solution)
+    t4 = time.perf_counter()
+    load = certificate.get("load_kN_per_m") if certificate["passed"] else None
+    status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
+    extra = {}
+    if kind == "upper" and solution.x is not None:
+        extra = _mechanism_extent(mesh, velocities(program, solution.x))
+    return BoundResult(
+        kind=kind, pressure_kPa=None if load is None else load / case.footing.width,
+        load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
+        variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
+        iterations=solution.iterations,
+        timing={"mesh_s": t1 - t0, "assemble_s": t2 - t1, "solve_s": t3 - t2, "certify_s": t4 - t3},
+        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD, extra=extra)
+
+
+def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
+    """Where the soil moves: extent of nodes moving faster than CLEAR_FRACTION of the footing,
+    and whether any node next to the fixed far boundary does."""
+    speed = np.hypot(velocity[:, 0], velocity[:, 1])
+    moving = speed > CLEAR_FRACTION
+    far_nodes = np.unique(mesh.boundary_edges[np.isin(mesh.boundary_kind, (FAR_SIDE, FAR_BASE))])
+    near_far = np.zeros(len(mesh.points), dtype=bool)
+    # nodes of elements touching the far boundary
+    touching = np.isin(mesh.triangles, far_nodes).any(axis=1)
+    near_far[mesh.triangles[touching].ravel()] = True
+    near_far[far_nodes] = False
+    B = mesh.footing_width
+    depth = float(-mesh.points[moving, 1].min()) if moving.any() else 0.0
+    half_width = float(np.abs(mesh.points[moving, 0]).max()) if moving.any() else 0.0
+    return {"mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
+            "mechanism_half_width_m": half_width, "mechanism_half_width_over_B": half_width / B,
+            "max_speed_next_to_far_boundary": float(speed[near_far].max(initial=0.0)),
+            "mechanism_clear_of_boundary": bool(speed[near_far].max(initial=0.0) < CLEAR_FRACTION)}

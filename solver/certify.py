@@ -1,0 +1,175 @@
+"""Certificates: check each bound's solution after the solve, in SI units.
+
+A bound is reported only when its certificate passes; the solver's status word
+does not decide (interior-point solves often end "almost solved" with a
+perfectly usable point, and sometimes "solved" with one that is not).
+
+Lower bound: the stress field is recomputed from the solution and checked on
+its own terms, independently of the assembled matrix where it can be:
+equilibrium in every triangle, traction jumps across every edge, boundary
+tractions, yield at every node; then every equality and cone row of the
+program (this covers the extension elements). Upper bound: the velocity field
+is rebuilt, its prescribed values checked, the flow rule checked at every
+corner, and the collapse load recomputed from the velocities alone.
+
+Tolerances (relative, stated in every certificate): residuals of stresses
+below ``STRESS_TOLERANCE`` times the stress scale of the case (the largest of
+the computed collapse pressure, the strengths, the overburden and gamma*B);
+flow-rule residuals below ``FLOW_TOLERANCE`` of the footing velocity; the
+recomputed upper bound within ``LOAD_TOLERANCE`` of the solver's objective.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from .conic import ConicProgram, Solution
+from .lower import SX, SY, TXY, material_arrays, node_cohesion, traction_coefficients
+from .mesh import FOOTING, GROUND, SYMMETRY, Mesh
+from .model import Case
+from .upper import corner_shape_gradients, velocities
+
+STRESS_TOLERANCE = 1e-6
+FLOW_TOLERANCE = 1e-6
+LOAD_TOLERANCE = 1e-5
+USABLE = ("optimal", "almost optimal")
+
+
+def stress_scale(case: Case, pressure_kPa: float) -> float:
+    """kPa: the size against which stress residuals are judged."""
+    strengths = [max(c_top, 1e-9) for *_, c_top in case.layers_below_base()]
+    gammas = [layer.unit_weight for layer, *_ in case.layers_below_base()]
+    return max(abs(pressure_kPa), max(strengths), case.overburden_kPa(), max(gammas) * case.footing.width, 1.0)
+
+
+def certify_lower(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution) -> dict:
+    """Residuals of the lower-bound stress field (kPa) and whether they pass."""
+    if solution.x is None:
+        return {"passed": False, "reason": f"no solution ({solution.status})"}
+    x = solution.x
+    sigma = x[program.layout["stress"]]  # (n_el, 3, 3)
+    load = -float(program.c @ x)
+    scale = stress_scale(case, load / case.footing.width)
+    mat = material_arrays(case)
+
+    grad = mesh.shape_gradients()
+    L = np.sqrt(2.0 * mesh.areas())
+    d_dx = np.einsum("ei,eic->ec", grad[:, :, 0], sigma)
+    d_dy = np.einsum("ei,eic->ec", grad[:, :, 1], sigma)
+    gamma = mat["gamma"][mesh.layer]
+    equilibrium = np.maximum(np.abs(d_dx[:, SX] + d_dy[:, TXY]),
+                             np.abs(d_dx[:, TXY] + d_dy[:, SY] - gamma)) * L  # kPa over the element size
+
+    e1, k1, e2, k2 = mesh.interior_edges()
+    normal, _ = mesh.edge_normals(e1, k1)
+    sn, tn = traction_coefficients(normal)
+    jump = 0.0
+    for a, b in ((k1, (k2 + 1) % 3), ((k1 + 1) % 3, k2)):
+        diff = sigma[e1, a] - sigma[e2, b]
+        jump = max(jump, float(np.max(np.abs(np.sum(diff * sn, 1)), initial=0.0)),
+                   float(np.max(np.abs(np.sum(diff * tn, 1)), initial=0.0)))
+
+    be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
+    bn, _ = mesh.edge_normals(be, bk)
+    bsn, btn = traction_coefficients(bn)
+    q = case.overburden_kPa()
+    boundary = 0.0
+    for end in (bk, (bk + 1) % 3):
+        s = sigma[be, end]
+        normal_t, shear_t = np.sum(s * bsn, 1), np.sum(s * btn, 1)
+        ground = kind == GROUND
+        shear_free = ground | (kind == SYMMETRY) | ((kind == FOOTING) & (case.footing.base == "smooth"))
+        boundary = max(boundary, float(np.max(np.abs(normal_t[ground] + q), initial=0.0)),
+                       float(np.max(np.abs(shear_t[shear_free]), initial=0.0)))
+
+    depth = -mesh.points[mesh.triangles, 1]
+    c = node_cohesion(mat, mesh.layer[:, None], depth)
+    phi = mat["phi"][mesh.layer][:, None]
+    radius = 2 * c * np.cos(phi) - (sigma[..., SX] + sigma[..., SY]) * np.sin(phi)
+    yield_violation = float(np.max(np.hypot(sigma[..., SX] - sigma[..., SY], 2 * sigma[..., TXY]) - radius))
+
+    equality, cone = program_residuals(program, x)
+    residuals = {
+        "equilibrium_kPa": float(equilibrium.max()),
+        "traction_jump_kPa": jump,
+        "boundary_traction_kPa": boundary,
+        "yield_violation_kPa": max(yield_violation, 0.0),
+        "program_equality_kPa": equality,
+        "program_cone_violation_kPa": cone,
+    }
+    limit = STRESS_TOLERANCE * scale
+    passed = solution.status in USABLE and all(v <= limit for v in residuals.values())
+    return {"passed": bool(passed), "tolerance_kPa": limit, "stress_scale_kPa": scale,
+            "load_kN_per_m": load, **residuals,
+            **({} if passed else {"reason": _reason(solution.status, residuals, limit)})}
+
+
+def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution) -> dict:
+    """Residuals of the upper-bound velocity field and the load recomputed from it."""
+    if solution.x is None:
+        return {"passed": False, "reason": f"no solution ({solution.status})"}
+    x = solution.x
+    vel = velocities(program, x)
+    fixed = program.layout["dof"] < 0
+    boundary = float(np.max(np.abs(vel - program.layout["fixed_value"])[fixed], initial=0.0))
+
+    mat = material_arrays(case)
+    tri = mesh.triangles
+    grad = corner_shape_gradients(mesh)  # (n_el, 3, 6, 2)
+    u, v = vel[tri, 0], vel[tri, 1]  # (n_el, 6)
+    ex = np.einsum("emi,ei->em", grad[..., 0], u)
+    ey = np.einsum("emi,ei->em", grad[..., 1], v)
+    gxy = np.einsum("emi,ei->em", grad[..., 1], u) + np.einsum("emi,ei->em", grad[..., 0], v)
+    phi = mat["phi"][mesh.layer][:, None]
+    shear = np.hypot(ex - ey, gxy)
+    area = mesh.areas()
+    L = np.sqrt(2.0 * area)[:, None]
+    # flow rule: ex + ey = sin(phi) rho with rho >= ||(ex - ey, gxy)||, i.e. ex + ey >= sin(phi) ||...||,
+    # and for phi = 0 ex + ey = 0; measured in velocity units (rates times the element size).
+    if np.all(phi == 0):
+        flow = float(np.max(np.abs(ex + ey) * L))
+    else:
+        flow = float(np.max(np.maximum(np.sin(phi) * shear - (ex + ey), np.where(phi == 0, np.abs(ex + ey), 0)) * L))
+    rho = np.where(phi > 0, (ex + ey) / np.where(phi > 0, np.sin(phi), 1.0), shear)
+
+    depth = -mesh.points[tri[:, :3], 1]
+    c = node_cohesion(mat, mesh.layer[:, None], depth)
+    weight = area[:, None] * (c + c.sum(axis=1, keepdims=True)) / 12.0
+    dissipation = float(np.sum(np.cos(phi) * weight * rho))
+    gamma = mat["gamma"][mesh.layer]
+    gravity = float(np.sum(gamma * area / 3.0 * v[:, 3:].sum(axis=1)))
+    ground = mesh.boundary_kind == GROUND
+    edges = mesh.boundary_edges[ground]
+    _, length = mesh.edge_normals(mesh.boundary_element[ground], mesh.boundary_local[ground])
+    surcharge = float(np.sum(case.overburden_kPa() * length[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])
+                             * vel[edges, 1]))
+    factor = program.layout["symmetry_factor"]
+    load = factor * (dissipation + gravity + surcharge)
+    objective = solution.objective
+    mismatch = abs(load - objective) / max(abs(objective), 1e-12)
+    residuals = {"velocity_boundary": boundary, "flow_rule": max(flow, 0.0), "load_mismatch": mismatch}
+    passed = (solution.status in USABLE and boundary <= 1e-12 and flow <= FLOW_TOLERANCE
+              and mismatch <= LOAD_TOLERANCE)
+    out = {"passed": bool(passed), "flow_tolerance": FLOW_TOLERANCE, "load_tolerance": LOAD_TOLERANCE,
+           "load_kN_per_m": load, "objective_kN_per_m": objective,
+           "dissipation_kN_per_m": factor * dissipation,
+           "gravity_work_kN_per_m": factor * gravity, "surcharge_work_kN_per_m": factor * surcharge,
+           **residuals}
+    if not passed:
+        out["reason"] = _reason(solution.status, residuals, None)
+    return out
+
+
+def program_residuals(program: ConicProgram, x: np.ndarray) -> tuple[float, float]:
+    """Largest equality residual and largest cone violation of s = b - A x."""
+    s = program.b - program.A @ x
+    equality = float(np.max(np.abs(s[:program.n_zero]), initial=0.0))
+    cones = s[program.n_zero:].reshape(-1, 3)
+    violation = float(np.max(np.hypot(cones[:, 1], cones[:, 2]) - cones[:, 0], initial=0.0))
+    return equality, max(violation, 0.0)
+
+
+def _reason(status: str, residuals: dict, limit: float | None) -> str:
+    if status not in USABLE:
+        return f"solver ended with status '{status}'"
+    worst = max(residuals, key=residuals.get)
+    return f"certificate failed: {worst} = {residuals[worst]:.3g}" + (f" > {limit:.3g}" if limit else "")

@@ -1,0 +1,146 @@
+"""Command line: ``bearbound run | hand | verify``.
+
+Exit status: 0 when every bound asked for is certified; 1 when a bound is
+withheld (solver trouble or a failed certificate; the result still says why);
+2 for bad input (one line naming the key, the value and what is allowed,
+nothing written); 130 when interrupted (nothing half-written: every output is
+written to a temporary file and renamed).
+"""
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import sys
+from pathlib import Path
+
+from .case import CaseError, load_case
+from .result import CAUTION
+
+REPO_ROOT = Path(__file__).resolve().parent.parent
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = _parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.handler(args)
+    except CaseError as error:
+        print(f"bearbound: {error}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("bearbound: interrupted; no output was left half-written", file=sys.stderr)
+        return 130
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="bearbound",
+        description="Rigorous lower and upper bounds on the collapse load of a strip footing.",
+        epilog=CAUTION)
+    sub = parser.add_subparsers(dest="command", required=True)
+
+    run = sub.add_parser("run", help="bracket the collapse load of a case file")
+    run.add_argument("case", type=Path, help="case file (TOML)")
+    run.add_argument("--out", type=Path, default=None, help="output folder (default out/<case name>)")
+    run.add_argument("--bounds", choices=("lower", "upper", "both"), default=None,
+                     help="override [analysis] bounds")
+    run.add_argument("--elements", type=int, default=None, help="override [analysis] elements")
+    run.add_argument("--backend", choices=("clarabel", "cvxpy"), default=None,
+                     help="override [analysis] backend")
+    run.set_defaults(handler=_run)
+
+    hand = sub.add_parser("hand", help="the classical hand methods alone, instantly")
+    hand.add_argument("case", type=Path)
+    hand.set_defaults(handler=_hand)
+
+    verify = sub.add_parser("verify", help="verification cases against published solutions")
+    verify.add_argument("--quick", action="store_true", help="the quick subset on coarse meshes")
+    verify.add_argument("--only", action="append", default=None, metavar="ID", help="run only this case")
+    verify.add_argument("--out", type=Path, default=Path("out/verification"), help="report folder")
+    verify.set_defaults(handler=_verify)
+    return parser
+
+
+def _run(args) -> int:
+    case = load_case(args.case)
+    if args.elements is not None and not 200 <= args.elements <= 400_000:
+        raise CaseError(f"--elements: {args.elements} is not allowed; must be a whole number from 200 to 400000")
+    from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
+    from .result import write_result
+
+    result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend)
+    out_dir = args.out or Path("out") / case.name
+    path = write_result(result, out_dir)
+    print(format_summary(result, path))
+    asked = [b for b in (result.lower, result.upper) if b is not None]
+    return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+
+
+def format_summary(result, path: Path | None = None) -> str:
+    """The bracket, each bound's standing, and the hand methods beside it."""
+    B = result.footing_width_m
+    lines = [f"{result.title}", "  collapse pressure under the footing, kPa (compression positive)"]
+    for bound in (result.lower, result.upper):
+        if bound is None:
+            continue
+        value = f"{bound.pressure_kPa:10.2f}" if bound.pressure_kPa is not None else "      none"
+        standing = "certified" if bound.pressure_kPa is not None else bound.status
+        t = sum(bound.timing.values())
+        lines.append(f"    {bound.kind} bound {value}   {standing}   {bound.elements} triangles, "
+                     f"{bound.iterations} iterations, {t:.1f} s")
+    lo = result.lower.pressure_kPa if result.lower else None
+    up = result.upper.pressure_kPa if result.upper else None
+    if lo is not None and up is not None:
+        lines.append(f"    bracket     [{lo:.2f}, {up:.2f}] kPa, gap {result.gap_percent:.2f} %; "
+                     f"collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
+    lines.append(f"    wall time   {result.timing['total_s']:.1f} s "
+                 f"(solve {result.timing['solve_s']:.1f} s)")
+    for note in result.notes:
+        lines.append(f"  NOTE: {note}")
+    if result.hand_methods:
+        lines.append("  hand methods (vertical central load), kPa")
+        lines += _hand_lines(result.hand_methods)
+    if path is not None:
+        lines.append(f"  written: {path}")
+    lines.append(f"  Caution: {CAUTION}")
+    return "\n".join(lines)
+
+
+def _hand_lines(rows: list[dict]) -> list[str]:
+    width = max(len(r["method"]) for r in rows)
+    out = []
+    for r in rows:
+        value = f"{r['pressure_kPa']:10.1f}" if r["pressure_kPa"] is not None else "       n/a"
+        tail = r.get("where", "") if r["pressure_kPa"] is not None else r["note"]
+        out.append(f"    {r['method']:<{width}} {value}   {tail}")
+    return out
+
+
+def _hand(args) -> int:
+    case = load_case(args.case)
+    from .hand import hand_methods
+
+    rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
+             "where": "; ".join(f"{k} {v:.3g}" for k, v in h.factors.items())}
+            for h in hand_methods(case)]
+    print(f"{case.title}\n  hand methods (vertical central load), kPa")
+    print("\n".join(_hand_lines(rows)))
+    print(f"  Caution: {CAUTION}")
+    return 0
+
+
+def _verify(args) -> int:
+    spec = importlib.util.spec_from_file_location("bearbound_verification", REPO_ROOT / "verification" / "runner.py")
+    if spec is None or not (REPO_ROOT / "verification" / "runner.py").exists():
+        print("bearbound: verification/runner.py not found beside the package", file=sys.stderr)
+        return 2
+    runner = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(runner)
+    argv = (["--quick"] if args.quick else []) + ["--out", str(args.out)]
+    for case_id in args.only or []:
+        argv += ["--only", case_id]
+    return runner.main(argv)
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,119 @@
+"""Result: the bracket and everything needed to trust it, as plain data, and
+its atomic writing to out/<case>/result.json.
+
+Reports use the trade's convention: pressures and loads compression positive.
+"""
+from __future__ import annotations
+
+import json
+import math
+import os
+import tempfile
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+from . import __version__
+
+CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
+           "perfect plasticity with associated flow, plane strain and the soil model given; "
+           "local codes and licensed practice govern.")
+
+
+@dataclass
+class BoundResult:
+    kind: str  # "lower" | "upper"
+    pressure_kPa: float | None  # collapse load / B; None unless solved and certified
+    load_kN_per_m: float | None
+    status: str  # solver status, or why the bound is withheld
+    certificate: dict
+    elements: int
+    variables: int
+    equalities: int
+    cones: int
+    iterations: int
+    timing: dict  # mesh_s, assemble_s, solve_s, certify_s
+    method: str
+    extra: dict = field(default_factory=dict)
+
+
+@dataclass
+class Result:
+    title: str
+    case_name: str
+    case_sha256: str
+    footing_width_m: float
+    lower: BoundResult | None
+    upper: BoundResult | None
+    timing: dict
+    domain: dict
+    backend: str
+    notes: list[str] = field(default_factory=list)
+    hand_methods: list[dict] = field(default_factory=list)
+
+    @property
+    def gap_percent(self) -> float | None:
+        """(upper - lower) / lower in percent, when both bounds are certified."""
+        lo = self.lower.pressure_kPa if self.lower else None
+        up = self.upper.pressure_kPa if self.upper else None
+        if lo is None or up is None or lo <= 0:
+            return None
+        return 100.0 * (up - lo) / lo
+
+    def to_dict(self) -> dict:
+        data = {
+            "title": self.title,
+            "case": {"name": self.case_name, "sha256": self.case_sha256},
+            "software": {"name": "bearbound", "version": __version__},
+            "footing_width_m": self.footing_width_m,
+            "lower": _bound_dict(self.lower),
+            "upper": _bound_dict(self.upper),
+            "gap_percent": _clean(self.gap_percent),
+            "timing": {k: round(v, 4) for k, v in self.timing.items()},
+            "domain": self.domain,
+            "backend": self.backend,
+            "notes": self.notes,
+            "caution": CAUTION,
+        }
+        if self.hand_methods:
+            data["hand_methods"] = self.hand_methods
+        return _clean(data)
+
+
+def _bound_dict(bound: BoundResult | None) -> dict | None:
+    if bound is None:
+        return None
+    data = asdict(bound)
+    data.pop("kind")
+    data["timing"] = {k: round(v, 4) for k, v in bound.timing.items()}
+    return data
+
+
+def _clean(value):
+    """JSON has no NaN or inf: write them as null."""
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    return value
+
+
+def write_atomic(path: Path, text: str) -> None:
+    """Write to a temporary file in the same folder, then rename over the target."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as handle:
+            handle.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def write_result(result: Result, out_dir: Path) -> Path:
+    """Write result.json into out_dir (created if needed); returns its path."""
+    path = Path(out_dir) / "result.json"
+    write_atomic(path, json.dumps(result.to_dict(), indent=2) + "\n")
+    return path

@@ -1,0 +1,372 @@
+"""Tests of solver.hand: the classical closed-form bearing-capacity estimates.
+
+The cases below are invented for the tests. Every published value is named
+with its source beside it; values recalled rather than read are marked
+"from memory".
+"""
+from __future__ import annotations
+
+import doctest
+import math
+
+import pytest
+
+import solver.hand
+from solver.hand import (
+    bearing_factors,
+    hand_methods,
+    terzaghi_factors,
+    terzaghi_footing,
+    where_it_falls,
+)
+from solver.model import Case, Footing, Ground, Layer
+
+HOMOGENEOUS_METHODS = (
+    "Terzaghi (1943), general shear",
+    "Terzaghi (1943), local shear",
+    "Meyerhof (1963)",
+    "Brinch Hansen (1970)",
+    "Vesic (1973/1975)",
+    "EN 1997-1:2004 Annex D.3, undrained",
+    "EN 1997-1:2004 Annex D.4, drained",
+)
+
+
+def by_method(case: Case) -> dict:
+    return {e.method: e for e in hand_methods(case)}
+
+
+def clay(name: str, su: float, thickness: float | None = None, gradient: float = 0.0,
+         unit_weight: float = 17.0) -> Layer:
+    return Layer(name, "tresca", thickness, unit_weight, undrained_strength=su,
+                 strength_gradient=gradient)
+
+
+def sand(name: str, phi: float, thickness: float | None = None, c: float = 0.0,
+         unit_weight: float = 19.0) -> Layer:
+    return Layer(name, "mohr-coulomb", thickness, unit_weight, cohesion=c, friction_angle=phi)
+
+
+def strip_case(*layers: Layer, width: float = 2.0, embedment: float = 0.0,
+               surcharge: float = 0.0, base: str = "rough") -> Case:
+    return Case("test footing", Footing(width, base, embedment), Ground(surcharge), layers)
+
+
+def nq_reissner(phi_deg: float) -> float:
+    """Nq = e^(pi tan phi) tan^2(45 + phi/2), Reissner (1924), written out afresh here."""
+    t = math.tan(math.radians(phi_deg))
+    return math.exp(math.pi * t) * math.tan(math.radians(45.0 + phi_deg / 2.0)) ** 2
+
+
+# -- Terzaghi's factors -------------------------------------------------------------
+
+# Bowles, J.E. (1996), Foundation Analysis and Design, 5th ed., McGraw-Hill,
+# Table 4-2, Terzaghi's bearing-capacity factors (values from memory):
+# phi: (Nc, Nq, Ngamma)
+BOWLES_TERZAGHI_TABLE = {
+    0.0: (5.7, 1.0, 0.0),
+    10.0: (9.6, 2.7, 1.2),
+    20.0: (17.7, 7.4, 5.0),
+    30.0: (37.2, 22.5, 19.7),
+    40.0: (95.7, 81.3, 100.4),
+}
+
+
+@pytest.mark.parametrize("phi", sorted(BOWLES_TERZAGHI_TABLE))
+def test_terzaghi_factors_reproduce_the_table(phi):
+    nc, nq, ngamma = BOWLES_TERZAGHI_TABLE[phi]
+    f = terzaghi_factors(phi)
+    assert f["Nc"] == pytest.approx(nc, rel=0.01)
+    assert f["Nq"] == pytest.approx(nq, rel=0.01)
+    assert f["Ngamma"] == pytest.approx(ngamma, rel=0.01, abs=1e-12)
+
+
+# Bowles (1996), Sec. 4-3: K_pgamma behind Terzaghi's N_gamma (from memory).
+BOWLES_KPGAMMA = {20.0: 25.0, 25.0: 35.0, 30.0: 52.0, 35.0: 82.0, 40.0: 141.0,
+                  45.0: 298.0, 50.0: 800.0}
+
+
+@pytest.mark.parametrize("phi", sorted(BOWLES_KPGAMMA))
+def test_terzaghi_ngamma_agrees_with_bowles_construction(phi):
+    # N_gamma = (tan phi / 2)(K_pgamma / cos^2 phi - 1), Bowles (1996): an
+    # independent route to the tabulated values the module carries.
+    r = math.radians(phi)
+    construction = math.tan(r) / 2.0 * (BOWLES_KPGAMMA[phi] / math.cos(r) ** 2 - 1.0)
+    assert terzaghi_factors(phi)["Ngamma"] == pytest.approx(construction, rel=0.01)
+
+
+def test_terzaghi_ngamma_is_linear_between_table_entries():
+    # Table entries 30 deg (19.7) and 34 deg (36.0), Bowles (1996) Table 4-2 (from memory).
+    assert terzaghi_factors(32.0)["Ngamma"] == pytest.approx((19.7 + 36.0) / 2.0)
+    assert terzaghi_factors(31.0)["Ngamma"] == pytest.approx(19.7 + 0.25 * (36.0 - 19.7))
+
+
+def test_terzaghi_phi_zero_nc_is_his_own_value():
+    # Terzaghi (1943): Nc = 1.5 pi + 1 = 5.71 at phi = 0, not Prandtl's pi + 2.
+    assert terzaghi_factors(0.0)["Nc"] == pytest.approx(1.5 * math.pi + 1.0)
+    assert terzaghi_factors(1e-4)["Nc"] == pytest.approx(1.5 * math.pi + 1.0, rel=1e-4)
+
+
+@pytest.mark.parametrize("phi", [-1.0, 50.5, float("nan")])
+def test_terzaghi_factors_outside_the_table_raise(phi):
+    with pytest.raises(ValueError, match="phi_deg"):
+        terzaghi_factors(phi)
+
+
+# -- the other methods' factors --------------------------------------------------
+
+@pytest.mark.parametrize("method", ["meyerhof", "hansen", "vesic", "ec7"])
+def test_nq_nc_closed_forms_at_30(method):
+    # Prandtl (1920) / Reissner (1924): Nq = 18.40, Nc = 30.14 at phi = 30 (common practice).
+    f = bearing_factors(method, 30.0)
+    assert f["Nq"] == pytest.approx(18.40, abs=0.005)
+    assert f["Nc"] == pytest.approx(30.14, abs=0.005)
+
+
+# Ngamma at phi = 30 as tabulated for each formula (values from memory):
+# Meyerhof (1963) 15.67; Brinch Hansen (1970) 15.07; Vesic (1973) 22.40;
+# EN 1997-1:2004 Annex D 20.09.
+@pytest.mark.parametrize("method, ngamma", [("meyerhof", 15.67), ("hansen", 15.07),
+                                            ("vesic", 22.40), ("ec7", 20.09)])
+def test_ngamma_at_30(method, ngamma):
+    assert bearing_factors(method, 30.0)["Ngamma"] == pytest.approx(ngamma, abs=0.005)
+
+
+@pytest.mark.parametrize("method", ["meyerhof", "hansen", "vesic", "ec7"])
+def test_phi_zero_limits(method):
+    # Prandtl (1920): Nc = pi + 2 for a weightless Tresca half-space; Nq = 1, Ngamma = 0.
+    f = bearing_factors(method, 0.0)
+    assert f == pytest.approx({"Nc": math.pi + 2.0, "Nq": 1.0, "Ngamma": 0.0})
+    # The phi -> 0 branch joins the general formula without a step.
+    assert bearing_factors(method, 1e-4)["Nc"] == pytest.approx(math.pi + 2.0, rel=1e-4)
+
+
+@pytest.mark.parametrize("phi", [5.0, 25.0, 42.0])
+def test_factors_follow_reissner_prandtl(phi):
+    nq = nq_reissner(phi)
+    nc = (nq - 1.0) / math.tan(math.radians(phi))
+    for method in ("meyerhof", "hansen", "vesic", "ec7"):
+        f = bearing_factors(method, phi)
+        assert f["Nq"] == pytest.approx(nq) and f["Nc"] == pytest.approx(nc)
+
+
+def test_bearing_factors_bad_method_names_the_choices():
+    with pytest.raises(ValueError, match="method: 'prandtl' is not allowed; must be one of terzaghi"):
+        bearing_factors("prandtl", 30.0)
+
+
+# -- terzaghi_footing --------------------------------------------------------------
+
+def test_terzaghi_shapes():
+    # Terzaghi (1943): strip c Nc + q Nq + 0.5 g B Ng; square 1.3 c Nc + q Nq + 0.4 g B Ng;
+    # circle 1.3 c Nc + q Nq + 0.3 g B Ng.
+    phi, c, g, b, q = 30.0, 10.0, 18.0, 2.0, 20.0
+    f = terzaghi_factors(phi)
+    strip = terzaghi_footing(phi, c, g, b, q).pressure_kPa
+    square = terzaghi_footing(phi, c, g, b, q, "square").pressure_kPa
+    circle = terzaghi_footing(phi, c, g, b, q, "circle").pressure_kPa
+    assert strip == pytest.approx(c * f["Nc"] + q * f["Nq"] + 0.5 * g * b * f["Ngamma"])
+    assert square == pytest.approx(1.3 * c * f["Nc"] + q * f["Nq"] + 0.4 * g * b * f["Ngamma"])
+    assert circle == pytest.approx(1.3 * c * f["Nc"] + q * f["Nq"] + 0.3 * g * b * f["Ngamma"])
+    # A rectangle with L = B is the square; a very long one tends to the strip.
+    assert terzaghi_footing(phi, c, g, b, q, "rectangle", L=b).pressure_kPa == pytest.approx(square)
+    assert terzaghi_footing(phi, c, g, b, q, "rectangle", L=1e6).pressure_kPa == pytest.approx(strip, rel=1e-5)
+
+
+def test_terzaghi_local_shear_reduces_strength():
+    # Terzaghi (1943): c* = 2/3 c, tan phi* = 2/3 tan phi.
+    local = terzaghi_footing(30.0, 12.0, 18.0, 2.0, 20.0, local_shear=True)
+    phi_star = math.degrees(math.atan(2.0 / 3.0 * math.tan(math.radians(30.0))))
+    assert local.factors["phi_local_deg"] == pytest.approx(phi_star)
+    assert phi_star == pytest.approx(21.05, abs=0.01)
+    same = terzaghi_footing(phi_star, 8.0, 18.0, 2.0, 20.0)
+    assert local.pressure_kPa == pytest.approx(same.pressure_kPa)
+    assert local.method == "Terzaghi (1943), local shear"
+    assert local.pressure_kPa < terzaghi_footing(30.0, 12.0, 18.0, 2.0, 20.0).pressure_kPa
+
+
+@pytest.mark.parametrize("kwargs, key", [({"shape": "oval"}, "shape"), ({"B": 0.0}, "B"),
+                                         ({"shape": "rectangle"}, "L"), ({"c_kPa": -1.0}, "c_kPa")])
+def test_terzaghi_footing_bad_input_names_the_key(kwargs, key):
+    args = {"phi_deg": 30.0, "c_kPa": 0.0, "gamma": 18.0, "B": 2.0, "q": 0.0, **kwargs}
+    with pytest.raises(ValueError, match=f"^{key}: "):
+        terzaghi_footing(**args)
+
+
+# -- hand_methods on homogeneous ground ---------------------------------------------
+
+def test_ec7_undrained_on_homogeneous_tresca():
+    # EN 1997-1:2004 Annex D.3, strip, vertical load: R/A' = (pi + 2) cu + q.
+    case = strip_case(clay("crust", 30.0, thickness=0.8, unit_weight=18.0),
+                      clay("clay", 40.0, gradient=2.5, unit_weight=18.0),
+                      embedment=1.2, surcharge=5.0)
+    # The base (1.2 m) lies in "clay", whose top is at 0.8 m: su at the base = 40 + 2.5*0.4.
+    su_base, q = 41.0, 5.0 + 18.0 * 1.2
+    est = by_method(case)["EN 1997-1:2004 Annex D.3, undrained"]
+    assert est.pressure_kPa == pytest.approx((math.pi + 2.0) * su_base + q)
+    assert "ignores the su gradient" in est.note and "no depth factors" in est.note
+    assert by_method(case)["EN 1997-1:2004 Annex D.4, drained"].pressure_kPa is None
+
+
+def test_surface_footing_on_tresca_all_general_methods_give_prandtl():
+    # Prandtl (1920): q_u = (pi + 2) su + q on a surface strip on uniform Tresca ground;
+    # with D = 0 every depth factor is 1. Terzaghi (1943) uses his own 5.71.
+    case = strip_case(clay("clay", 50.0), surcharge=12.0)
+    found = by_method(case)
+    for name in ("Meyerhof (1963)", "Brinch Hansen (1970)", "Vesic (1973/1975)",
+                 "EN 1997-1:2004 Annex D.3, undrained"):
+        assert found[name].pressure_kPa == pytest.approx((math.pi + 2.0) * 50.0 + 12.0), name
+    assert found["Terzaghi (1943), general shear"].pressure_kPa == pytest.approx(
+        (1.5 * math.pi + 1.0) * 50.0 + 12.0)
+
+
+def test_depth_factors_on_embedded_tresca():
+    # D/B = 0.5, phi = 0: Meyerhof (1963) dc = 1 + 0.2 D/B; Brinch Hansen (1970)
+    # dc = 1 + 0.4 D/B (from memory). q = 17 * 1.
+    case = strip_case(clay("clay", 40.0), embedment=1.0)
+    found = by_method(case)
+    assert found["Meyerhof (1963)"].pressure_kPa == pytest.approx(5.1416 * 40.0 * 1.1 + 17.0, rel=1e-4)
+    assert found["Brinch Hansen (1970)"].pressure_kPa == pytest.approx(5.1416 * 40.0 * 1.2 + 17.0, rel=1e-4)
+    assert found["Vesic (1973/1975)"].factors["dc"] == pytest.approx(1.2)
+
+
+def test_drained_sand_strip():
+    # Surface strip on sand, c' = 0, q = 0: q_u = 0.5 gamma B Ngamma for each method.
+    case = strip_case(sand("sand", 30.0), width=1.5)
+    found = by_method(case)
+    for name, method in (("Meyerhof (1963)", "meyerhof"), ("Brinch Hansen (1970)", "hansen"),
+                         ("Vesic (1973/1975)", "vesic"), ("EN 1997-1:2004 Annex D.4, drained", "ec7")):
+        ngamma = bearing_factors(method, 30.0)["Ngamma"]
+        assert found[name].pressure_kPa == pytest.approx(0.5 * 19.0 * 1.5 * ngamma), name
+    assert found["Terzaghi (1943), general shear"].pressure_kPa == pytest.approx(0.5 * 19.0 * 1.5 * 19.7, rel=0.01)
+    assert found["EN 1997-1:2004 Annex D.3, undrained"].pressure_kPa is None
+
+
+def test_smooth_base_is_flagged_for_rough_base_formulas():
+    case = strip_case(sand("sand", 35.0), base="smooth")
+    found = by_method(case)
+    assert "rough base" in found["EN 1997-1:2004 Annex D.4, drained"].note
+    assert "rough base" in found["Terzaghi (1943), general shear"].note
+
+
+def test_alike_layers_count_as_homogeneous():
+    one = strip_case(sand("sand", 33.0, c=2.0), embedment=0.5)
+    two = strip_case(sand("upper", 33.0, thickness=1.5, c=2.0), sand("lower", 33.0, c=2.0), embedment=0.5)
+    for a, b in zip(hand_methods(one), hand_methods(two)):
+        assert a.method == b.method and a.pressure_kPa == b.pressure_kPa
+
+
+# -- hand_methods on layered ground -------------------------------------------------
+
+def test_layered_ground_gives_none_with_a_reason_for_homogeneous_methods():
+    case = strip_case(sand("sand", 38.0, thickness=1.0), clay("soft clay", 25.0))
+    found = by_method(case)
+    for name in HOMOGENEOUS_METHODS:
+        assert found[name].pressure_kPa is None, name
+        assert "layered ground" in found[name].note and "'soft clay'" in found[name].note
+        assert found[name].factors == {}
+    assert found["Meyerhof & Hanna (1978), strong over weak"].pressure_kPa is not None
+
+
+def test_methods_keep_their_order_on_every_case():
+    a = [e.method for e in hand_methods(strip_case(clay("clay", 40.0)))]
+    b = [e.method for e in hand_methods(strip_case(sand("sand", 38.0, thickness=1.0), clay("clay", 25.0)))]
+    assert a == b and len(a) == 11
+
+
+def _meyerhof_surface(c: float, phi: float, gamma: float, width: float, q: float) -> float:
+    """c Nc + q Nq + 0.5 gamma B Ngamma with Meyerhof's (1963) factors, written out here."""
+    nq = nq_reissner(phi)
+    nc = math.pi + 2.0 if phi == 0 else (nq - 1.0) / math.tan(math.radians(phi))
+    ngamma = (nq - 1.0) * math.tan(math.radians(1.4 * phi))
+    return c * nc + q * nq + 0.5 * gamma * width * ngamma
+
+
+def test_meyerhof_hanna_limits():
+    # Meyerhof & Hanna (1978): as H -> 0 the formula tends to q_b, the lower layer's
+    # own capacity; for a deep weak layer it is capped at q_t, the top layer's.
+    thin = strip_case(sand("sand", 40.0, thickness=1e-6), clay("clay", 30.0))
+    est = by_method(thin)["Meyerhof & Hanna (1978), strong over weak"]
+    assert est.pressure_kPa == pytest.approx(_meyerhof_surface(30.0, 0.0, 17.0, 2.0, 0.0), rel=1e-4)
+    deep = strip_case(sand("sand", 40.0, thickness=10.0), clay("clay", 30.0))
+    est = by_method(deep)["Meyerhof & Hanna (1978), strong over weak"]
+    assert est.pressure_kPa == pytest.approx(_meyerhof_surface(0.0, 40.0, 19.0, 2.0, 0.0))
+    assert "top-layer value" in est.note and "from memory" in est.note
+
+
+def test_meyerhof_hanna_sand_over_clay_lies_between_its_limits():
+    case = strip_case(sand("sand", 40.0, thickness=1.0), clay("clay", 30.0))
+    value = by_method(case)["Meyerhof & Hanna (1978), strong over weak"].pressure_kPa
+    assert _meyerhof_surface(30.0, 0.0, 17.0, 2.0, 0.0) < value < _meyerhof_surface(0.0, 40.0, 19.0, 2.0, 0.0)
+
+
+def test_meyerhof_hanna_clay_over_clay_punching_term():
+    # Strong clay over weak clay, Meyerhof & Hanna (1978): q_u = 5.14 c2 + 2 ca H / B + q <= q_t.
+    case = strip_case(clay("stiff", 100.0, thickness=1.0), clay("soft", 30.0), surcharge=10.0)
+    est = by_method(case)["Meyerhof & Hanna (1978), strong over weak"]
+    ca = est.factors["ca_over_c1"] * 100.0
+    assert 0.6 * 100.0 <= ca <= 100.0
+    assert est.pressure_kPa == pytest.approx((math.pi + 2.0) * 30.0 + 2.0 * ca * 1.0 / 2.0 + 10.0)
+
+
+def test_meyerhof_hanna_does_not_apply():
+    three = strip_case(sand("sand", 40.0, thickness=1.0), clay("clay", 30.0, thickness=1.0), sand("gravel", 42.0))
+    assert "more than two layers" in by_method(three)["Meyerhof & Hanna (1978), strong over weak"].note
+    weak_over_strong = strip_case(clay("soft", 20.0, thickness=1.0), clay("stiff", 80.0))
+    est = by_method(weak_over_strong)["Meyerhof & Hanna (1978), strong over weak"]
+    assert est.pressure_kPa is None and "not the stronger" in est.note
+    homogeneous = strip_case(clay("clay", 30.0))
+    assert by_method(homogeneous)["Meyerhof & Hanna (1978), strong over weak"].pressure_kPa is None
+
+
+def test_brown_meyerhof():
+    # Brown & Meyerhof (1969), from memory: Nc = 1.5 H/B + 5.14 su2/su1 <= 5.14; q_u = su1 Nc + q.
+    name = "Brown & Meyerhof (1969), stiff clay over soft clay"
+    thin = by_method(strip_case(clay("stiff", 90.0, thickness=0.5), clay("soft", 30.0)))[name]
+    assert thin.pressure_kPa == pytest.approx(90.0 * (1.5 * 0.5 / 2.0 + (math.pi + 2.0) / 3.0))
+    thick = by_method(strip_case(clay("stiff", 90.0, thickness=6.0), clay("soft", 30.0)))[name]
+    assert thick.pressure_kPa == pytest.approx((math.pi + 2.0) * 90.0)
+    on_sand = by_method(strip_case(sand("sand", 38.0, thickness=1.0), clay("soft", 30.0)))[name]
+    assert on_sand.pressure_kPa is None and "Tresca" in on_sand.note
+    soft_over_stiff = by_method(strip_case(clay("soft", 30.0, thickness=1.0), clay("stiff", 90.0)))[name]
+    assert soft_over_stiff.pressure_kPa is None and "stiff layer over a soft one" in soft_over_stiff.note
+
+
+def test_equivalent_homogeneous_shortcuts():
+    # Two clays each B/2 thick in the top B: the average su is their mean; the weakest
+    # layer (within 2B) alone gives (pi + 2) su_min on a surface strip.
+    case = strip_case(clay("upper", 60.0, thickness=1.0), clay("lower", 20.0), width=2.0)
+    found = by_method(case)
+    avg = found["Equivalent homogeneous: average over 1B"]
+    assert avg.factors["c_avg_kPa"] == pytest.approx(40.0)
+    assert avg.pressure_kPa == pytest.approx((math.pi + 2.0) * 40.0)
+    weakest = found["Equivalent homogeneous: weakest layer within 2B"]
+    assert weakest.pressure_kPa == pytest.approx((math.pi + 2.0) * 20.0) and "'lower'" in weakest.note
+    # A weak layer deeper than 2B is outside the zone.
+    deep = by_method(strip_case(clay("upper", 60.0, thickness=5.0), clay("lower", 20.0), width=2.0))
+    assert deep["Equivalent homogeneous: weakest layer within 2B"].pressure_kPa == pytest.approx((math.pi + 2.0) * 60.0)
+
+
+# -- where_it_falls -------------------------------------------------------------
+
+@pytest.mark.parametrize("pressure, lower, upper, expected", [
+    (250.0, 280.0, 320.0, "below the lower bound (conservative)"),
+    (280.0, 280.0, 320.0, "inside the bracket"),
+    (300.0, 280.0, 320.0, "inside the bracket"),
+    (320.0, 280.0, 320.0, "inside the bracket"),
+    (321.0, 280.0, 320.0, "ABOVE THE UPPER BOUND (unconservative)"),
+    (300.0, None, 320.0, "no bracket"),
+    (300.0, 280.0, None, "no bracket"),
+    (None, 280.0, 320.0, "no estimate"),
+])
+def test_where_it_falls(pressure, lower, upper, expected):
+    assert where_it_falls(pressure, lower, upper) == expected
+
+
+def test_where_it_falls_rejects_crossed_bounds():
+    with pytest.raises(ValueError, match="^lower: "):
+        where_it_falls(300.0, 330.0, 320.0)
+
+
+def test_doctests():
+    assert doctest.testmod(solver.hand).failed == 0
