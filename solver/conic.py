@@ -81,7 +81,7 @@ def solve(program: ConicProgram, backend: str = "clarabel", *, verbose: bool = F
     if backend == "clarabel":
         return _solve_clarabel(program, verbose, settings or {})
     if backend == "cvxpy":
-        return _solve_cvxpy(program, verbose)
+        return _solve_cvxpy(program, verbose, settings or {})
     raise ValueError(f"unknown back end {backend!r}")
 
 
@@ -138,7 +138,7 @@ def _solve_clarabel(program: ConicProgram, verbose: bool, overrides: dict) -> So
                     solve_s=elapsed, backend="clarabel")
 
 
-def _solve_cvxpy(program: ConicProgram, verbose: bool) -> Solution:
+def _solve_cvxpy(program: ConicProgram, verbose: bool, overrides: dict) -> Solution:
     import cvxpy as cp
 
     x = cp.Variable(program.n_variables)
@@ -154,7 +154,8 @@ def _solve_cvxpy(program: ConicProgram, verbose: bool) -> Solution:
     problem = cp.Problem(cp.Minimize(program.c @ x), constraints)
     start = time.perf_counter()
     try:
-        problem.solve(solver=cp.CLARABEL, verbose=verbose)
+        # the same Clarabel settings as the direct path, passed through cvxpy
+        problem.solve(solver=cp.CLARABEL, verbose=verbose, **{**default_settings(program), **overrides})
         raw = problem.status
     except cp.error.SolverError as error:  # cvxpy raises on a numerical failure
         raw = f"solver error: {error}"
