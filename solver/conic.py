@@ -30,7 +30,7 @@ class ConicProgram:
     n_zero: int
     n_soc: int
     objective_constant: float = 0.0
-    free_mean_stress: bool = False  # some cones have a fixed radius (Tresca): mean stress unbounded there
+    kind: str = ""  # "lower" | "upper": which bound this program computes
     layout: dict = field(default_factory=dict)  # how to read x back (index arrays)
 
     @property
@@ -103,14 +103,15 @@ def default_settings(program: ConicProgram) -> dict:
     """Clarabel settings chosen by measurement (DEVELOPERS.md, "Solver settings").
 
     Default tolerances are kept: looser ones stop early and loosen the upper
-    bound. Where some cones have a fixed radius (Tresca layers), the lower
-    bound's mean stress is unbounded in them and Clarabel often ends with
-    numerical trouble; a larger static regularisation keeps the factorisation
-    stable (measured: it turned 'numerical trouble' into 'optimal' on the demo
-    case at about twice the iterations).
+    bound. The lower bound's programs take a larger static regularisation:
+    with the default, Clarabel often ends with numerical trouble on them (the
+    mean stress is free in Tresca cones, and stress scales of 10-1000 kPa
+    meet O(1) geometry); 1e-7 turned every such case tried into 'optimal'
+    (Prandtl, Nc at phi 10-30, Nq, N_gamma, the demo) at up to twice the
+    iterations.
     """
     settings = {"max_iter": 200, "max_threads": 1}
-    if program.free_mean_stress:
+    if program.kind == "lower":
         settings["static_regularization_constant"] = 1e-7
     return settings
 

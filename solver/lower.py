@@ -223,7 +223,7 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     factor = 2.0 if half else 1.0  # the half domain carries half the load
     np.add.at(objective, stress[fe[:, None], ends_local, SY].ravel(), factor * np.repeat(flen / 2, 2))
     return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=cone.count // 3,
-                        free_mean_stress=bool(np.any(mat["phi"] == 0.0)),
+                        kind="lower",
                         layout={"stress": stress, "strips": strips["layout"], "symmetry_factor": factor})
 
 

@@ -134,6 +134,7 @@ def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     surcharge_weight = factor * q * g_len[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])
     constant += _add_linear(objective, dof[g_edges, 1], value[g_edges, 1], surcharge_weight)
     return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=3 * n_el, objective_constant=constant,
+                        kind="upper",
                         layout={"dof": dof, "fixed_value": value, "rho": rho, "symmetry_factor": factor})
 
 
