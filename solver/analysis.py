@@ -7,14 +7,14 @@ import time
 
 import numpy as np
 
-from .certify import certify_lower, certify_upper
+from .certify import certify_lower, certify_upper, lower_stress_field, upper_velocity_field
 from .conic import solve
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
 from .mesh import BOUNDARY_NAMES, FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
 from .model import Case
 from .result import BoundResult, Result
-from .upper import upper_bound_program, velocities
+from .upper import upper_bound_program
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
@@ -73,16 +73,20 @@ def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, setti
     t4 = time.perf_counter()
     load = certificate.get("load_kN_per_m") if certificate["passed"] else None
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
-    extra = {}
-    if kind == "upper" and solution.x is not None:
-        extra = _mechanism_extent(mesh, velocities(program, solution.x))
+    extra, fields = {}, {}
+    if solution.x is not None:
+        if kind == "upper":
+            fields = upper_velocity_field(case, mesh, program, solution.x)
+            extra = _mechanism_extent(mesh, fields["velocity"])
+        else:
+            fields = lower_stress_field(case, mesh, program, solution.x)
     return BoundResult(
         kind=kind, pressure_kPa=None if load is None else load / case.footing.width,
         load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
         timing={"mesh_s": t1 - t0, "assemble_s": t2 - t1, "solve_s": t3 - t2, "certify_s": t4 - t3},
-        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD, extra=extra)
+        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD, extra=extra, mesh=mesh, fields=fields)
 
 
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:

@@ -46,7 +46,8 @@ def certify_lower(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     if solution.x is None:
         return {"passed": False, "reason": f"no solution ({solution.status})"}
     x = solution.x
-    sigma = x[program.layout["stress"]]  # (n_el, 3, 3)
+    field = lower_stress_field(case, mesh, program, x)
+    sigma = field["stress"]
     load = -float(program.c @ x)
     scale = stress_scale(case, load / case.footing.width)
     mat = material_arrays(case)
@@ -81,11 +82,7 @@ def certify_lower(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
         boundary = max(boundary, float(np.max(np.abs(normal_t[ground] + q), initial=0.0)),
                        float(np.max(np.abs(shear_t[shear_free]), initial=0.0)))
 
-    depth = -mesh.points[mesh.triangles, 1]
-    c = node_cohesion(mat, mesh.layer[:, None], depth)
-    phi = mat["phi"][mesh.layer][:, None]
-    radius = 2 * c * np.cos(phi) - (sigma[..., SX] + sigma[..., SY]) * np.sin(phi)
-    yield_violation = float(np.max(np.hypot(sigma[..., SX] - sigma[..., SY], 2 * sigma[..., TXY]) - radius))
+    yield_violation = float(np.max(field["deviator_kPa"] - field["radius_kPa"]))
 
     equality, cone = program_residuals(program, x)
     residuals = {
@@ -108,17 +105,15 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     if solution.x is None:
         return {"passed": False, "reason": f"no solution ({solution.status})"}
     x = solution.x
-    vel = velocities(program, x)
+    field = upper_velocity_field(case, mesh, program, x)
+    vel = field["velocity"]
     fixed = program.layout["dof"] < 0
     boundary = float(np.max(np.abs(vel - program.layout["fixed_value"])[fixed], initial=0.0))
 
     mat = material_arrays(case)
     tri = mesh.triangles
-    grad = corner_shape_gradients(mesh)  # (n_el, 3, 6, 2)
-    u, v = vel[tri, 0], vel[tri, 1]  # (n_el, 6)
-    ex = np.einsum("emi,ei->em", grad[..., 0], u)
-    ey = np.einsum("emi,ei->em", grad[..., 1], v)
-    gxy = np.einsum("emi,ei->em", grad[..., 1], u) + np.einsum("emi,ei->em", grad[..., 0], v)
+    v = vel[tri, 1]
+    ex, ey, gxy = field["strain_rate"][..., 0], field["strain_rate"][..., 1], field["strain_rate"][..., 2]
     phi = mat["phi"][mesh.layer][:, None]
     shear = np.hypot(ex - ey, gxy)
     area = mesh.areas()
@@ -129,12 +124,7 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
         flow = float(np.max(np.abs(ex + ey) * L))
     else:
         flow = float(np.max(np.maximum(np.sin(phi) * shear - (ex + ey), np.where(phi == 0, np.abs(ex + ey), 0)) * L))
-    rho = np.where(phi > 0, (ex + ey) / np.where(phi > 0, np.sin(phi), 1.0), shear)
-
-    depth = -mesh.points[tri[:, :3], 1]
-    c = node_cohesion(mat, mesh.layer[:, None], depth)
-    weight = area[:, None] * (c + c.sum(axis=1, keepdims=True)) / 12.0
-    dissipation = float(np.sum(np.cos(phi) * weight * rho))
+    dissipation = float(np.sum(field["dissipation_density"] * area))
     gamma = mat["gamma"][mesh.layer]
     gravity = float(np.sum(gamma * area / 3.0 * v[:, 3:].sum(axis=1)))
     ground = mesh.boundary_kind == GROUND
@@ -157,6 +147,45 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     if not passed:
         out["reason"] = _reason(solution.status, residuals, None)
     return out
+
+
+def lower_stress_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.ndarray) -> dict:
+    """The lower bound's stress field at every element node (tension positive, kPa):
+    ``stress`` (n_el, 3, 3) as (sigma_x, sigma_y, tau_xy), the deviator radius
+    ||(sigma_x - sigma_y, 2 tau_xy)|| and the yield radius
+    2 c cos(phi) - (sigma_x + sigma_y) sin(phi), and ``utilisation`` = their ratio."""
+    sigma = x[program.layout["stress"]]
+    mat = material_arrays(case)
+    depth = -mesh.points[mesh.triangles, 1]
+    c = node_cohesion(mat, mesh.layer[:, None], depth)
+    phi = mat["phi"][mesh.layer][:, None]
+    radius = 2 * c * np.cos(phi) - (sigma[..., SX] + sigma[..., SY]) * np.sin(phi)
+    deviator = np.hypot(sigma[..., SX] - sigma[..., SY], 2 * sigma[..., TXY])
+    utilisation = np.where(radius > 0, deviator / np.where(radius > 0, radius, 1.0), 1.0)
+    return {"stress": sigma, "deviator_kPa": deviator, "radius_kPa": radius, "utilisation": utilisation}
+
+
+def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.ndarray) -> dict:
+    """The upper bound's velocity field (per unit footing velocity): ``velocity``
+    (n_nodes, 2); ``strain_rate`` (n_el, 3 corners, 3) as (ex, ey, gxy) in 1/m;
+    ``dissipation_density`` (n_el,) mean plastic dissipation per unit area, kPa
+    per unit footing velocity (kN/m^2 per m/s), integrated exactly from the corners."""
+    vel = velocities(program, x)
+    mat = material_arrays(case)
+    tri = mesh.triangles
+    grad = corner_shape_gradients(mesh)  # (n_el, 3, 6, 2)
+    u, v = vel[tri, 0], vel[tri, 1]
+    ex = np.einsum("emi,ei->em", grad[..., 0], u)
+    ey = np.einsum("emi,ei->em", grad[..., 1], v)
+    gxy = np.einsum("emi,ei->em", grad[..., 1], u) + np.einsum("emi,ei->em", grad[..., 0], v)
+    phi = mat["phi"][mesh.layer][:, None]
+    # rho = ||(ex - ey, gxy)|| (phi = 0); (ex + ey) / sin(phi) under the flow rule (phi > 0)
+    rho = np.where(phi > 0, (ex + ey) / np.where(phi > 0, np.sin(phi), 1.0), np.hypot(ex - ey, gxy))
+    depth = -mesh.points[tri[:, :3], 1]
+    c = node_cohesion(mat, mesh.layer[:, None], depth)
+    weight = (c + c.sum(axis=1, keepdims=True)) / 12.0  # integral of c N_i over the element / area
+    density = np.sum(np.cos(phi) * weight * rho, axis=1)
+    return {"velocity": vel, "strain_rate": np.stack([ex, ey, gxy], axis=2), "dissipation_density": density}
 
 
 def program_residuals(program: ConicProgram, x: np.ndarray) -> tuple[float, float]:
