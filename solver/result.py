@@ -9,7 +9,7 @@ import json
 import math
 import os
 import tempfile
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field, fields as dataclass_fields
 from pathlib import Path
 
 from . import __version__
@@ -36,7 +36,7 @@ class BoundResult:
     extra: dict = field(default_factory=dict)
     # not written to result.json: the mesh and the solution fields, for pictures and exports
     mesh: object = field(default=None, repr=False)
-    fields: dict = field(default_factory=dict, repr=False)  # noqa: shadows dataclasses.fields in the class body only
+    fields: dict = field(default_factory=dict, repr=False)
 
 
 @dataclass
@@ -85,7 +85,7 @@ class Result:
 def _bound_dict(bound: BoundResult | None) -> dict | None:
     if bound is None:
         return None
-    data = {f.name: getattr(bound, f.name) for f in fields(bound) if f.name not in ("kind", "mesh", "fields")}
+    data = {f.name: getattr(bound, f.name) for f in dataclass_fields(bound) if f.name not in ("kind", "mesh", "fields")}
     data["timing"] = {k: round(v, 4) for k, v in bound.timing.items()}
     return data
 
