@@ -26,6 +26,7 @@ CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velo
 def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
             backend: str | None = None, solver_settings: dict | None = None) -> Result:
     """Run the bounds the case asks for and return the certified Result."""
+    _refuse_unsupported(case)
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
     elements = elements or case.analysis.elements
@@ -59,6 +60,21 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                             "factors": h.factors, "note": h.note,
                             "where": where_it_falls(h.pressure_kPa, lo, up)} for h in hand_methods(case)]
     return result
+
+
+def _refuse_unsupported(case: Case) -> None:
+    """Keys the case file accepts but this engine does not solve yet: refuse, never ignore."""
+    from .case import CaseError
+
+    checks = [("ground.water_table", case.ground.water_table is not None),
+              ("ground.slope_angle", case.ground.slope_angle != 0.0),
+              ("footing.load_inclination", case.footing.load_inclination != 0.0),
+              ("footing.eccentricity", case.footing.eccentricity != 0.0)]
+    checks += [(f"layers[{i}].dilation_angle", layer.dilation_angle is not None)
+               for i, layer in enumerate(case.layers, 1)]
+    for key, used in checks:
+        if used:
+            raise CaseError(f"{key}: not solved by this version of the engine; remove the key")
 
 
 def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings) -> BoundResult:

@@ -23,7 +23,7 @@ import tomllib
 from dataclasses import dataclass
 from typing import Any
 
-from solver.model import Analysis, Case, Footing, Ground, Layer
+from solver.model import WATER_UNIT_WEIGHT, Analysis, Case, Factors, Footing, Ground, Layer
 
 MAX_FILE_BYTES = 1_000_000  # a case is a few dozen lines; anything this big is the wrong file
 
@@ -99,9 +99,23 @@ FOOTING_KEYS = {
     "width": Key(float, "m", gt=0),
     "base": Key(str, choices=("rough", "smooth"), default="rough"),
     "embedment": Key(float, "m", ge=0, default=0.0),
+    "load_inclination": Key(float, "degrees from vertical", gt=-90, lt=90, default=0.0),
+    "eccentricity": Key(float, "m", default=0.0),
+    "design_load": Key(float, "kN/m", gt=0, default=None),
 }
 GROUND_KEYS = {
     "surcharge": Key(float, "kPa", ge=0, default=0.0),
+    "water_table": Key(float, "m below the ground surface", ge=0, default=None),
+    "slope_angle": Key(float, "degrees", ge=0, lt=90, default=0.0),
+    "crest_setback": Key(float, "m", ge=0, default=0.0),
+    "slope_height": Key(float, "m", gt=0, default=None),
+}
+FACTORS_KEYS = {
+    "friction": Key(float, "on tan(phi')", ge=1, le=3, default=1.0),
+    "cohesion": Key(float, "on c'", ge=1, le=3, default=1.0),
+    "undrained_strength": Key(float, "on su", ge=1, le=3, default=1.0),
+    "load": Key(float, "on the action", ge=1, le=3, default=1.0),
+    "resistance": Key(float, "on the resistance", ge=1, le=3, default=1.0),
 }
 ANALYSIS_KEYS = {
     "bounds": Key(str, choices=("lower", "upper", "both"), default="both"),
@@ -113,22 +127,28 @@ MODEL_KEYS = {
     "mohr-coulomb": {
         "cohesion": Key(float, "kPa", ge=0, default=0.0),
         "friction_angle": Key(float, "degrees", ge=0, lt=90, default=0.0),
+        "dilation_angle": Key(float, "degrees", ge=0, lt=90, default=None),
     },
     "tresca": {
         "undrained_strength": Key(float, "kPa", ge=0),
         "strength_gradient": Key(float, "kPa/m", ge=0, default=0.0),
     },
 }
+# The keys that give a layer its strength (one of them must be > 0).
+STRENGTH_KEYS = {"mohr-coulomb": ("cohesion", "friction_angle"),
+                 "tresca": ("undrained_strength", "strength_gradient")}
 LAYER_KEYS = {
     "name": Key(str, max_len=80),
     # None: runs down to the model base; allowed on the last layer only.
     "thickness": Key(float, "m", gt=0, default=None),
     "model": Key(str, choices=tuple(MODEL_KEYS)),
     "unit_weight": Key(float, "kN/m^3", ge=0, le=30),  # 30: sanity limit, catches N/m^3 or kg/m^3
+    "saturated_unit_weight": Key(float, "kN/m^3", ge=WATER_UNIT_WEIGHT, le=30, default=None),
 }
 # The tables holding one dataclass each: key in the file -> (dataclass, schema).
 TABLES = {"footing": (Footing, FOOTING_KEYS), "ground": (Ground, GROUND_KEYS),
-          "analysis": (Analysis, ANALYSIS_KEYS)}
+          "analysis": (Analysis, ANALYSIS_KEYS), "factors": (Factors, FACTORS_KEYS)}
+OPTIONAL_TABLES = ("factors",)  # absent: None in the Case
 REQUIRED_TABLES = ("footing",)
 
 
@@ -196,7 +216,7 @@ def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
     if values["thickness"] is None and not is_last:
         raise CaseError(f"{path}.thickness: missing; every layer but the last needs one, "
                         f"must be {LAYER_KEYS['thickness'].allowed}")
-    strength = list(MODEL_KEYS[model])
+    strength = list(STRENGTH_KEYS[model])
     if not any(key in raw for key in strength):
         raise CaseError(f"{path}: missing {' and '.join(strength)}; a {model} layer "
                         "needs at least one of them")
@@ -271,6 +291,9 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
             raise CaseError(f"{table}: missing; required table [{table}] (needs {needs})")
         if not isinstance(raw, dict | None):
             raise _not_allowed(table, raw, f"a table [{table}]")
+        if raw is None and table in OPTIONAL_TABLES:
+            parts[table] = None
+            continue
         parts[table] = cls(**_read_table(raw or {}, schema, table))
     layers = _read_layers(data.get("layers"))
 
@@ -279,8 +302,33 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
         raise _not_allowed("footing.embedment", parts["footing"].embedment,
                            f"< {total:g} (m), the total thickness of the layers, so that the "
                            "footing base sits in soil (or leave out the last layer's thickness)")
+    _check_consistency(parts["footing"], parts["ground"], layers)
     return Case(title=name if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
+
+
+def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ...]) -> None:
+    """Rules that tie keys together (one line each, naming the key that breaks them)."""
+    if abs(footing.eccentricity) >= footing.width / 2:
+        raise _not_allowed("footing.eccentricity", footing.eccentricity,
+                           f"between -{footing.width / 2:g} and {footing.width / 2:g} (m), inside the footing")
+    if ground.slope_angle > 0 and ground.slope_height is None:
+        raise CaseError(f"ground.slope_height: missing; required when slope_angle = "
+                        f"{ground.slope_angle:g} > 0, must be {GROUND_KEYS['slope_height'].allowed}")
+    if ground.slope_angle == 0 and ground.slope_height is not None:
+        raise _not_allowed("ground.slope_height", ground.slope_height,
+                           "only with slope_angle > 0 (degrees); level ground has no slope")
+    if ground.slope_angle > 0 and footing.embedment > 0:
+        raise _not_allowed("footing.embedment", footing.embedment,
+                           "0 (m) next to a slope in this version: the embedment is modelled as a "
+                           "surcharge on level ground")
+    for i, layer in enumerate(layers, 1):
+        if layer.saturated_unit_weight is not None and layer.saturated_unit_weight < layer.unit_weight:
+            raise _not_allowed(f"layers[{i}].saturated_unit_weight", layer.saturated_unit_weight,
+                               f">= unit_weight = {layer.unit_weight:g} (kN/m^3)")
+        if layer.dilation_angle is not None and layer.dilation_angle > layer.friction_angle:
+            raise _not_allowed(f"layers[{i}].dilation_angle", layer.dilation_angle,
+                               f"<= friction_angle = {layer.friction_angle:g} (degrees)")
 
 
 def load_case(path: str | pathlib.Path) -> Case:
@@ -344,6 +392,7 @@ def case_to_dict(case: Case) -> dict:
 
     out: dict[str, Any] = {"title": case.title}
     for table, (_, schema) in TABLES.items():
-        out[table] = keys_of(getattr(case, table), schema)
+        if getattr(case, table) is not None:
+            out[table] = keys_of(getattr(case, table), schema)
     out["layers"] = [keys_of(layer, LAYER_KEYS | MODEL_KEYS[layer.model]) for layer in case.layers]
     return out

@@ -34,6 +34,8 @@ class Layer:
     friction_angle: float = 0.0  # degrees, mohr-coulomb
     undrained_strength: float = 0.0  # kPa, tresca, at the layer top
     strength_gradient: float = 0.0  # kPa/m, tresca
+    saturated_unit_weight: float | None = None  # kN/m^3 below the water table; None = unit_weight
+    dilation_angle: float | None = None  # degrees, mohr-coulomb; None = associated flow (psi = phi)
 
     @property
     def is_tresca(self) -> bool:
@@ -62,11 +64,31 @@ class Footing:
     width: float  # m, B
     base: str = "rough"  # "rough" | "smooth"
     embedment: float = 0.0  # m, Df
+    load_inclination: float = 0.0  # degrees from vertical, toward +x
+    eccentricity: float = 0.0  # m from the footing centre, toward +x
+    design_load: float | None = None  # kN/m, the line load to check (optional)
 
 
 @dataclass(frozen=True)
 class Ground:
     surcharge: float = 0.0  # kPa on the ground surface beside the footing
+    water_table: float | None = None  # m below the ground surface beside the footing; None = below the model
+    slope_angle: float = 0.0  # degrees; the ground falls away to the right of the footing
+    crest_setback: float = 0.0  # m, from the footing's right edge to the crest
+    slope_height: float | None = None  # m, crest to toe; level ground beyond the toe
+
+
+@dataclass(frozen=True)
+class Factors:
+    """Partial factors of the user's design approach (names as in EN 1997-1; values
+    are the user's: no design approach is assumed). Strengths are divided by their
+    factor, the load multiplied by its factor, the resistance divided by its factor."""
+
+    friction: float = 1.0  # on tan(phi')
+    cohesion: float = 1.0  # on c'
+    undrained_strength: float = 1.0  # on su
+    load: float = 1.0  # on the design load (action)
+    resistance: float = 1.0  # on the bearing resistance
 
 
 @dataclass(frozen=True)
@@ -83,6 +105,7 @@ class Case:
     ground: Ground
     layers: tuple[Layer, ...]
     analysis: Analysis = field(default_factory=Analysis)
+    factors: Factors | None = None  # partial factors, when the case gives them
     name: str = "case"  # short name for the output folder (the case file's stem)
     source_sha256: str = ""  # hash of the case file's bytes, for reports
 
