@@ -312,6 +312,9 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
     if abs(footing.eccentricity) >= footing.width / 2:
         raise _not_allowed("footing.eccentricity", footing.eccentricity,
                            f"between -{footing.width / 2:g} and {footing.width / 2:g} (m), inside the footing")
+    if footing.load_inclination != 0 and footing.base == "smooth":
+        raise _not_allowed("footing.load_inclination", footing.load_inclination,
+                           "0 (degrees) under a smooth base: a smooth base carries no horizontal load")
     if ground.slope_angle > 0 and ground.slope_height is None:
         raise CaseError(f"ground.slope_height: missing; required when slope_angle = "
                         f"{ground.slope_angle:g} > 0, must be {GROUND_KEYS['slope_height'].allowed}")

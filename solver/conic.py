@@ -55,8 +55,8 @@ class Solution:
 def assemble(rows: list[np.ndarray], cols: list[np.ndarray], vals: list[np.ndarray],
              n_rows: int, n_cols: int) -> sp.csc_matrix:
     """One COO -> CSC conversion of all triplets (duplicates summed, exact zeros dropped)."""
-    A = sp.coo_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
-                      shape=(n_rows, n_cols)).tocsc()
+    flat = lambda parts: np.concatenate([np.ravel(p) for p in parts])
+    A = sp.coo_matrix((flat(vals), (flat(rows), flat(cols))), shape=(n_rows, n_cols)).tocsc()
     A.sum_duplicates()
     A.eliminate_zeros()  # edges along the axes give exact zeros
     return A

@@ -31,37 +31,10 @@ import numpy as np
 
 from .conic import ConicProgram, assemble, drop_empty_equalities
 from .mesh import FAR_BASE, FAR_SIDE, FOOTING, GROUND, SYMMETRY, Mesh
+from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .model import Case
 
 SX, SY, TXY = 0, 1, 2
-
-
-def far_field_vertical_stress(case: Case, depth: np.ndarray) -> np.ndarray:
-    """sigma_y (kPa, tension positive) at depths below the base: -(q + weight above)."""
-    layers = case.layers_below_base()
-    stress = np.full(np.shape(depth), -case.overburden_kPa(), dtype=float)
-    for layer, top, bottom, _ in layers:
-        stress -= layer.unit_weight * np.clip(np.minimum(depth, bottom) - top, 0.0, None)
-    return stress
-
-
-def material_arrays(case: Case) -> dict[str, np.ndarray]:
-    """Per-layer arrays (index = layer below the base) of phi (rad), gamma (kN/m^3),
-    top depth (m), c at top (kPa), c gradient (kPa/m)."""
-    layers = case.layers_below_base()
-    return {
-        "phi": np.array([layer.phi_rad for layer, *_ in layers]),
-        "gamma": np.array([layer.unit_weight for layer, *_ in layers]),
-        "top": np.array([top for _, top, _, _ in layers]),
-        "bottom": np.array([bottom for _, _, bottom, _ in layers]),
-        "c_top": np.array([c_top for *_, c_top in layers]),
-        "c_gradient": np.array([layer.c_gradient_kPa_per_m for layer, *_ in layers]),
-    }
-
-
-def node_cohesion(material: dict, layer: np.ndarray, depth: np.ndarray) -> np.ndarray:
-    """c (kPa) at points of given layers and depths below the base (any shape)."""
-    return material["c_top"][layer] + material["c_gradient"][layer] * (depth - material["top"][layer])
 
 
 class _Rows:
@@ -179,8 +152,10 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     prescribed = []
     be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
     bnormal, blength = mesh.edge_normals(be, bk)
+    ground = kind == GROUND
+    q_edge = surcharge_on_edges(case, mesh, ground)
     for end in (bk, (bk + 1) % 3):
-        for mask, sigma_n, tau_n in ((kind == GROUND, -q, 0.0),
+        for mask, sigma_n, tau_n in ((ground, -q_edge, 0.0),
                                      (kind == SYMMETRY, None, 0.0),
                                      ((kind == FOOTING) & smooth, None, 0.0)):
             prescribed += _prescribe(eq, stress[be[mask], end[mask]], bnormal[mask], sigma_n, tau_n)
@@ -190,18 +165,24 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     n_var = strips["n_var"]
     _add_prescribed(eq, prescribed)
 
-    # 5. On a full domain the footing load must stay vertical and central.
+    # 5. The footing's contact stresses resolve to a force P = (integral tau, integral sigma_y)
+    #    on the soil; on a full domain it must point along the load (inclination delta from
+    #    vertical) with its line of action through (e, 0). On a half domain, symmetry does it.
     foot = kind == FOOTING
     fe, fk, flen = be[foot], bk[foot], blength[foot]
     ends_local = np.column_stack([fk, (fk + 1) % 3])
+    weight = np.repeat(flen[:, None] / 2, 2, 1)  # integral of a linear field over each edge
+    delta = np.radians(case.footing.load_inclination)
+    e = case.footing.eccentricity
+    foot_sy, foot_txy = stress[fe[:, None], ends_local, SY], stress[fe[:, None], ends_local, TXY]
     if not half:
-        if not smooth:  # integral of tau_xy over the footing = 0
-            r = eq.block(1)
-            eq.add(r, stress[fe[:, None], ends_local, TXY], np.repeat(flen[:, None] / 2, 2, 1))
+        r = eq.block(1)  # P_x cos(delta) + P_y sin(delta) = 0
+        if not smooth:
+            eq.add(r, foot_txy, np.cos(delta) * weight)
+        eq.add(r, foot_sy, np.sin(delta) * weight)
         xa, xb = mesh.points[mesh.triangles[fe[:, None], ends_local], 0].T
-        r = eq.block(1)  # moment about the centre: integral of sigma_y x = 0 (exact)
-        eq.add(r, stress[fe[:, None], ends_local, SY],
-               np.column_stack([flen * (2 * xa + xb) / 6, flen * (xa + 2 * xb) / 6]))
+        r = eq.block(1)  # moment about (e, 0): integral of (x - e) sigma_y = 0 (exact for linear fields)
+        eq.add(r, foot_sy, np.column_stack([flen * (2 * xa + xb - 3 * e) / 6, flen * (xa + 2 * xb - 3 * e) / 6]))
 
     # 6. Yield at every stress node.
     depth = -mesh.points[mesh.triangles, 1]
@@ -219,9 +200,12 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     A, b, n_zero = A[keep].tocsc(), b[keep], n_zero - int((~keep).sum())
     A, b, n_zero = drop_empty_equalities(A, b, n_zero, scale=max(q, 1.0))
 
+    # maximise the load Q = P_x sin(delta) - P_y cos(delta): minimise -Q
     objective = np.zeros(n_var)
     factor = 2.0 if half else 1.0  # the half domain carries half the load
-    np.add.at(objective, stress[fe[:, None], ends_local, SY].ravel(), factor * np.repeat(flen / 2, 2))
+    np.add.at(objective, foot_sy.ravel(), (factor * np.cos(delta) * weight).ravel())
+    if not smooth and delta != 0.0:
+        np.add.at(objective, foot_txy.ravel(), (-factor * np.sin(delta) * weight).ravel())
     return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=cone.count // 3,
                         kind="lower",
                         layout={"stress": stress, "strips": strips["layout"], "symmetry_factor": factor})
@@ -312,15 +296,18 @@ def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q)
 
     loose = ~paired
     s_id, s_end, s_node = owner[loose], which[loose], node[loose]
-    y, x = mesh.points[s_node, 1], mesh.points[s_node, 0]
-    tol = 1e-9 * mesh.domain.x_max
-    on_ground = np.abs(y) < tol
-    on_symmetry = (np.abs(x) < tol) & mesh.domain.half & ~on_ground
+    ground_edges = mesh.boundary_kind == GROUND
+    on_ground = np.isin(s_node, mesh.boundary_edges[ground_edges][:, :2])
+    on_symmetry = np.isin(s_node, mesh.boundary_edges[mesh.boundary_kind == SYMMETRY][:, :2]) & ~on_ground
     if not np.all(on_ground | on_symmetry):
         raise RuntimeError("extension elements: a far-boundary chain ends nowhere known")
+    # the ray continues the level ground beyond the mesh: the surcharge there is that of
+    # ground at the footing's level, none at the toe of a slope
+    y = mesh.points[s_node[on_ground], 1]
+    q_ray = np.where(np.abs(y) < 1e-9 * mesh.domain.x_max, q, 0.0)
     up = np.tile([0.0, 1.0], (on_ground.sum(), 1))
     gs = s_id[on_ground]
-    prescribed += _prescribe(eq, strip[gs, s_end[on_ground]], up, -q, 0.0)
+    prescribed += _prescribe(eq, strip[gs, s_end[on_ground]], up, -q_ray, 0.0)
     prescribed += _prescribe(eq, strip[gs, 2], up, 0.0, 0.0)
     ss = s_id[on_symmetry]
     side = np.tile([1.0, 0.0], (on_symmetry.sum(), 1))

@@ -99,6 +99,28 @@ class Analysis:
 
 
 @dataclass(frozen=True)
+class Stratum:
+    """A horizontal band of one layer below the footing base, wholly above or
+    wholly below the water table: what the mesh and both bounds see.
+
+    Depths are measured from the footing base (m, positive down); the last
+    stratum's bottom is inf. Strength: c = c_top + c_gradient * (d - top), kPa.
+    ``unit_weight`` is effective (kN/m^3): the bulk weight above the water
+    table, the saturated weight less that of water below it.
+    """
+
+    layer_index: int  # index into Case.layers
+    name: str
+    top: float
+    bottom: float
+    c_top: float
+    c_gradient: float
+    phi_rad: float
+    unit_weight: float
+    submerged: bool
+
+
+@dataclass(frozen=True)
 class Case:
     title: str
     footing: Footing
@@ -120,17 +142,17 @@ class Case:
         return tops
 
     def overburden_kPa(self) -> float:
-        """Vertical total stress at footing level beside the footing, kPa:
-        the surcharge plus the weight of soil above the footing base."""
-        stress, depth = self.ground.surcharge, 0.0
-        for layer in self.layers:
-            bottom = depth + (layer.thickness if layer.thickness is not None else math.inf)
-            above = min(bottom, self.footing.embedment) - depth
-            if above > 0:
-                stress += layer.unit_weight * above
-            depth = bottom
-            if depth >= self.footing.embedment:
-                break
+        """Vertical effective stress at footing level beside the footing, kPa: the
+        surcharge plus the weight of soil above the footing base (saturated weight
+        less that of water below the water table)."""
+        stress = self.ground.surcharge
+        water = self.ground.water_table if self.ground.water_table is not None else math.inf
+        for layer, top in zip(self.layers, self.layer_tops()):
+            bottom = top + (layer.thickness if layer.thickness is not None else math.inf)
+            dry = max(min(bottom, water, self.footing.embedment) - top, 0.0)
+            wet = max(min(bottom, self.footing.embedment) - max(top, water), 0.0)
+            saturated = layer.saturated_unit_weight if layer.saturated_unit_weight is not None else layer.unit_weight
+            stress += layer.unit_weight * dry + max(saturated - WATER_UNIT_WEIGHT, 0.0) * wet
         return stress
 
     def layers_below_base(self) -> list[tuple[Layer, float, float, float]]:
@@ -150,6 +172,48 @@ class Case:
             c_top = layer.c_top_kPa + layer.c_gradient_kPa_per_m * cut
             out.append((layer, max(top - self.footing.embedment, 0.0),
                         bottom - self.footing.embedment, c_top))
+        return out
+
+    def water_depth_below_base(self) -> float:
+        """Depth of the water table below the footing base, m (negative: above the base;
+        inf: no water table in the model)."""
+        if self.ground.water_table is None:
+            return math.inf
+        return self.ground.water_table - self.footing.embedment
+
+    def pore_pressure_at_base_kPa(self) -> float:
+        """Hydrostatic pore pressure at the footing base level, kPa (0 above the water table)."""
+        return WATER_UNIT_WEIGHT * max(0.0, -self.water_depth_below_base())
+
+    def strata(self) -> list[Stratum]:
+        """The layers below the base, split at the water table (see :class:`Stratum`).
+
+        Pressures computed on these effective weights are effective: where the
+        water table is above the base, the total contact pressure adds
+        ``pore_pressure_at_base_kPa()``. For Tresca layers this is the same
+        analysis as one in total stress (a hydrostatic pore pressure does not
+        change the Tresca yield condition).
+        """
+        water = self.water_depth_below_base()
+        out = []
+        for index, layer in enumerate(self.layers):
+            top_in_file = self.layer_tops()[index]
+            bottom_in_file = top_in_file + (layer.thickness if layer.thickness is not None else math.inf)
+            top = max(top_in_file - self.footing.embedment, 0.0)
+            bottom = bottom_in_file - self.footing.embedment
+            if bottom <= 0.0:
+                continue
+            c_top = layer.c_top_kPa + layer.c_gradient_kPa_per_m * (top + self.footing.embedment - top_in_file)
+            wet_weight = (layer.saturated_unit_weight if layer.saturated_unit_weight is not None
+                          else layer.unit_weight) - WATER_UNIT_WEIGHT
+            wet_weight = max(wet_weight, 0.0)
+            pieces = [(top, min(bottom, water), False), (max(top, water), bottom, True)]
+            for a, b, wet in pieces:
+                if b > a:
+                    out.append(Stratum(index, layer.name, a, b,
+                                       c_top + layer.c_gradient_kPa_per_m * (a - top),
+                                       layer.c_gradient_kPa_per_m, layer.phi_rad,
+                                       wet_weight if wet else layer.unit_weight, wet))
         return out
 
     @property

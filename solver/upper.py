@@ -26,9 +26,10 @@ Velocities are dimensionless (per unit footing velocity); the objective is Q in 
 from __future__ import annotations
 
 import numpy as np
+import scipy.sparse as sp
 
 from .conic import ConicProgram, assemble, drop_empty_equalities
-from .lower import material_arrays, node_cohesion
+from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .mesh import FAR_BASE, FAR_SIDE, FOOTING, GROUND, SYMMETRY, Mesh
 from .model import Case
 
@@ -52,102 +53,122 @@ def corner_shape_gradients(mesh: Mesh) -> np.ndarray:
     return np.einsum("mik,ekd->emid", CORNER_GRADIENT, mesh.shape_gradients())
 
 
-def fixed_velocities(case: Case, mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
-    """(n_nodes, 2) mask of prescribed velocity components and their values."""
-    fixed = np.zeros((len(mesh.points), 2), dtype=bool)
-    value = np.zeros((len(mesh.points), 2))
+def velocity_map(case: Case, mesh: Mesh) -> tuple[sp.csr_matrix, np.ndarray, dict]:
+    """Nodal velocities w (2 n_nodes: u0, v0, u1, v1, ...) as w = T z + f.
+
+    z holds the free nodal components and the rigid footing's motion: a
+    translation (u_f, v_f) and a rotation omega about the load's point of
+    application (e, 0), so that a footing node at x moves by
+    (u_f, v_f + omega (x - e)) (rough: no slip; smooth: u free). The far boundary
+    is fixed and the symmetry line has u = 0. On a half domain the footing only
+    translates vertically. Returns T, f and the indices of (u_f, v_f, omega) in z
+    (-1 where not a variable).
+    """
+    n = len(mesh.points)
     edges, kind = mesh.boundary_edges, mesh.boundary_kind
-    far = edges[np.isin(kind, (FAR_SIDE, FAR_BASE))].ravel()
-    fixed[far] = True
-    fixed[edges[kind == SYMMETRY].ravel(), 0] = True
-    foot = edges[kind == FOOTING].ravel()
-    fixed[foot, 1], value[foot, 1] = True, -1.0
+    role = np.zeros((n, 2), dtype=int)  # 0 free, 1 fixed at 0, 2 follows the footing
+    role[edges[np.isin(kind, (FAR_SIDE, FAR_BASE))].ravel()] = 1
+    role[edges[kind == SYMMETRY].ravel(), 0] = 1
+    foot = np.unique(edges[kind == FOOTING].ravel())
+    role[foot, 1] = 2
     if case.footing.base == "rough":
-        fixed[foot, 0] = True
-    value[~fixed] = 0.0
-    value[far] = 0.0
-    return fixed, value
+        role[foot, 0] = np.where(role[foot, 0] == 1, 1, 2)
+    free = np.flatnonzero(role.ravel() == 0)
+    n_free = len(free)
+    half = mesh.domain.half
+    motion = {"u": -1 if half else n_free, "v": n_free + (0 if half else 1), "omega": -1 if half else n_free + 2}
+    n_z = n_free + (1 if half else 3)
+    rows, cols, vals = [free], [np.arange(n_free)], [np.ones(n_free)]
+    follows_u = np.flatnonzero(role[:, 0] == 2)
+    if motion["u"] >= 0:
+        rows.append(2 * follows_u), cols.append(np.full(len(follows_u), motion["u"])), vals.append(np.ones(len(follows_u)))
+    follows_v = np.flatnonzero(role[:, 1] == 2)
+    rows.append(2 * follows_v + 1), cols.append(np.full(len(follows_v), motion["v"])), vals.append(np.ones(len(follows_v)))
+    if motion["omega"] >= 0:
+        arm = mesh.points[follows_v, 0] - case.footing.eccentricity
+        rows.append(2 * follows_v + 1), cols.append(np.full(len(follows_v), motion["omega"])), vals.append(arm)
+    T = sp.coo_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                      shape=(2 * n, n_z)).tocsr()
+    return T, np.zeros(2 * n), motion
 
 
 def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
-    """Assemble the upper-bound program (vectorised; one COO assembly)."""
+    """Assemble the upper-bound program (vectorised; one COO assembly, then the
+    velocity map w = T z + f applied as one sparse product)."""
     if mesh.order != 2:
         raise ValueError("the upper bound needs a second-order (6-node) mesh")
     n_el, n_nodes = mesh.n_elements, len(mesh.points)
     mat = material_arrays(case)
-    q = case.overburden_kPa()
     factor = 2.0 if mesh.domain.half else 1.0  # the half domain carries half the load
-
-    fixed, value = fixed_velocities(case, mesh)
-    dof = np.full((n_nodes, 2), -1)
-    dof[~fixed] = np.arange(int((~fixed).sum()))
-    n_vel = int((~fixed).sum())
-    rho = n_vel + np.arange(3 * n_el).reshape(n_el, 3)  # scaled rho at each corner
-    n_var = n_vel + 3 * n_el
+    T, f, motion = velocity_map(case, mesh)
+    n_z = T.shape[1]
+    rho = 3 * np.arange(n_el)[:, None] + np.arange(3)  # scaled rho at each corner (own block)
 
     area = mesh.areas()
     L = np.sqrt(2.0 * area)  # rows are scaled by the element size so entries are O(1)
     grad = corner_shape_gradients(mesh) * L[:, None, None, None]  # (n_el, 3, 6, 2)
     phi = mat["phi"][mesh.layer]
     tri = mesh.triangles
-    dof_u, dof_v = dof[tri, 0], dof[tri, 1]  # (n_el, 6)
-    val_u, val_v = value[tri, 0], value[tri, 1]
+    col_u, col_v = 2 * tri, 2 * tri + 1  # full velocity components of each element's 6 nodes
 
-    rows, cols, vals = [], [], []
-    n_rows = 3 * n_el + 9 * n_el  # flow-rule equalities, then cones
-    b = np.zeros(n_rows)
-
-    def strain_row(r, wu, wv):
-        """Add -(wu . u + wv . v) to rows r (s = b - A x form); fixed values go to b."""
-        for w, d_, val in ((wu, dof_u, val_u), (wv, dof_v, val_v)):
-            free = d_ >= 0
-            rr = np.broadcast_to(r[:, None], d_.shape)
-            rows.append(rr[free]), cols.append(d_[free]), vals.append(w[free])
-            np.add.at(b, rr[~free].ravel(), -(w * val)[~free].ravel())
-
+    # Rows over the full velocity vector w (Bw) and over rho (R), in s = b - A x form.
+    w_rows, w_cols, w_vals, r_rows, r_cols, r_vals = [], [], [], [], [], []
     for m in range(3):  # the three corners of every element at once
         gx, gy = grad[:, m, :, 0], grad[:, m, :, 1]
-        r_eq = 3 * np.arange(n_el) + m  # L (ex + ey) - sin(phi) rho~ = 0
-        strain_row(r_eq, gx, gy)
-        rows.append(r_eq), cols.append(rho[:, m]), vals.append(-np.sin(phi))
-        cone = 3 * n_el + 9 * np.arange(n_el) + 3 * m
-        rows.append(cone), cols.append(rho[:, m]), vals.append(-np.ones(n_el))  # s0 = rho~
-        strain_row(cone + 1, -gx, gy)  # s1 = L (ex - ey)
-        strain_row(cone + 2, -gy, -gx)  # s2 = L gxy
-    A = assemble(rows, cols, vals, n_rows, n_var)
-    n_zero = 3 * n_el
+        r_eq = (3 * np.arange(n_el) + m)[:, None]  # L (ex + ey) - sin(phi) rho~ = 0
+        cone = (3 * n_el + 9 * np.arange(n_el) + 3 * m)[:, None]
+        for r, wu, wv in ((r_eq, gx, gy), (cone + 1, -gx, gy), (cone + 2, -gy, -gx)):
+            w_rows += [np.broadcast_to(r, wu.shape), np.broadcast_to(r, wv.shape)]
+            w_cols += [col_u, col_v]
+            w_vals += [wu, wv]
+        r_rows += [r_eq[:, 0], cone[:, 0]]
+        r_cols += [rho[:, m], rho[:, m]]
+        r_vals += [-np.sin(phi), -np.ones(n_el)]  # s0 = rho~
+    n_rows = 3 * n_el + 9 * n_el  # flow-rule equalities, then cones
+    Bw = assemble(w_rows, w_cols, w_vals, n_rows, 2 * n_nodes)
+    R = assemble(r_rows, r_cols, r_vals, n_rows, 3 * n_el)
+    b = -(Bw @ f)
+
+    # The load's work rate on the footing's motion is 1: sin(d) u_f - cos(d) v_f = 1.
+    delta = np.radians(case.footing.load_inclination)
+    norm_row = sp.csr_matrix((1, n_z + 3 * n_el))
+    entries = {motion["u"]: np.sin(delta), motion["v"]: -np.cos(delta)}
+    idx = [k for k, v in entries.items() if k >= 0 and v != 0.0]
+    norm_row = sp.csr_matrix((np.array([entries[k] for k in idx]), (np.zeros(len(idx), int), idx)),
+                             shape=(1, n_z + 3 * n_el))
+    A = sp.vstack([norm_row, sp.hstack([Bw @ T, R])]).tocsc()
+    A.eliminate_zeros()
+    b = np.concatenate([[1.0], b])
+    n_zero = 1 + 3 * n_el
     A, b, n_zero = drop_empty_equalities(A, b, n_zero, scale=1.0)
 
-    # Objective: dissipation + work against gravity and surcharge, as c.x + constant.
+    # Objective: dissipation + work against gravity and surcharge, c.x + constant.
     depth = -mesh.points[tri[:, :3], 1]
     c_corner = node_cohesion(mat, mesh.layer[:, None], depth)
     weight = area[:, None] * (c_corner + c_corner.sum(axis=1, keepdims=True)) / 12.0  # exact for linear c
-    objective = np.zeros(n_var)
-    objective[rho] = factor * np.cos(phi)[:, None] * weight / L[:, None]
-    constant = 0.0
     gamma = mat["gamma"][mesh.layer]
-    mid_weight = np.repeat((gamma * area / 3.0)[:, None], 3, axis=1)  # integral of v: A/3 at midside nodes
-    constant += _add_linear(objective, dof_v[:, 3:], val_v[:, 3:], factor * mid_weight)
+    c_w = np.zeros(2 * n_nodes)  # objective over the full velocity vector
+    np.add.at(c_w, col_v[:, 3:].ravel(), np.repeat(factor * gamma * area / 3.0, 3))  # integral of v: A/3 at midside
     ground = mesh.boundary_kind == GROUND
     g_edges = mesh.boundary_edges[ground]
     _, g_len = mesh.edge_normals(mesh.boundary_element[ground], mesh.boundary_local[ground])
-    surcharge_weight = factor * q * g_len[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])
-    constant += _add_linear(objective, dof[g_edges, 1], value[g_edges, 1], surcharge_weight)
-    return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=3 * n_el, objective_constant=constant,
-                        kind="upper",
-                        layout={"dof": dof, "fixed_value": value, "rho": rho, "symmetry_factor": factor})
-
-
-def _add_linear(objective: np.ndarray, dofs: np.ndarray, values: np.ndarray, weights: np.ndarray) -> float:
-    """Add weights to the objective at free dofs; return the constant from fixed ones."""
-    free = dofs >= 0
-    np.add.at(objective, dofs[free], weights[free])
-    return float(np.sum((weights * values)[~free]))
+    q_edge = surcharge_on_edges(case, mesh, ground)
+    np.add.at(c_w, (2 * g_edges + 1).ravel(),
+              (factor * (q_edge * g_len)[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])).ravel())
+    objective = np.concatenate([T.T @ c_w, factor * (np.cos(phi)[:, None] * weight / L[:, None]).ravel()])
+    return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=3 * n_el,
+                        objective_constant=float(c_w @ f), kind="upper",
+                        layout={"T": T, "f": f, "motion": motion, "rho": n_z + rho,
+                                "symmetry_factor": factor})
 
 
 def velocities(program: ConicProgram, x: np.ndarray) -> np.ndarray:
-    """(n_nodes, 2) nodal velocities (per unit footing velocity) from a solution."""
-    dof, value = program.layout["dof"], program.layout["fixed_value"]
-    out = value.copy()
-    out[dof >= 0] = x[dof[dof >= 0]]
-    return out
+    """(n_nodes, 2) nodal velocities (per unit work rate of the load) from a solution."""
+    T, f = program.layout["T"], program.layout["f"]
+    return (T @ x[:T.shape[1]] + f).reshape(-1, 2)
+
+
+def footing_motion(program: ConicProgram, x: np.ndarray) -> dict:
+    """The rigid footing's translation (u, v) and rotation omega (rad per unit time) from a solution."""
+    motion = program.layout["motion"]
+    return {key: (float(x[i]) if i >= 0 else 0.0) for key, i in motion.items()}

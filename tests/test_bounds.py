@@ -204,9 +204,8 @@ def test_upper_certificate_fails_on_a_corrupted_velocity() -> None:
     program = upper_bound_program(case, mesh)
     solution = solve(program, "clarabel")
     assert certify_upper(case, mesh, program, solution)["passed"]
-    dof = program.layout["dof"]
     x = solution.x.copy()
-    x[dof[dof >= 0][0]] += 0.1  # one free velocity component, 10 % of the footing velocity
+    x[0] += 0.1  # the first free velocity component, by 10 % of the footing velocity
     certificate = certify_upper(case, mesh, program, _with_x(solution, x))
     assert not certificate["passed"]
     assert certificate["reason"].startswith("certificate failed")
