@@ -3,6 +3,7 @@ certificate -> Result. Each bound runs on its own mesh (first order for the
 lower bound, second order for the upper)."""
 from __future__ import annotations
 
+import math
 import time
 
 import numpy as np
@@ -12,7 +13,7 @@ from .conic import solve
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
 from .mesh import BOUNDARY_NAMES, FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
-from .model import Case
+from .model import Case, davis_reduction
 from .result import BoundResult, Result
 from .upper import upper_bound_program
 
@@ -45,6 +46,12 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
             and lower.pressure_kPa > upper.pressure_kPa * (1 + 1e-6):
         notes.append("lower bound exceeds upper bound: this is a defect; do not use these numbers")
+    reduced = [layer for layer in case.layers if layer.dilation_angle is not None and not layer.is_tresca]
+    if reduced:
+        notes.append("non-associated flow by the Davis (1968) reduction ("
+                     + "; ".join(f"{l.name}: psi = {l.dilation_angle:g}, c* = {davis_reduction(l)[0] * l.cohesion:.3g} kPa, "
+                                 f"phi* = {math.degrees(davis_reduction(l)[1]):.2f} deg" for l in reduced)
+                     + "): the accepted approximation, no longer rigorous bounds on the non-associated problem")
     if upper and upper.extra.get("mechanism_clear_of_boundary") is False:
         notes.append("the upper-bound mechanism reaches the far boundary: the upper bound is still "
                      "rigorous but may be loose")
@@ -70,8 +77,6 @@ def _refuse_unsupported(case: Case) -> None:
               ("ground.slope_angle", case.ground.slope_angle != 0.0),
               ("footing.load_inclination", case.footing.load_inclination != 0.0),
               ("footing.eccentricity", case.footing.eccentricity != 0.0)]
-    checks += [(f"layers[{i}].dilation_angle", layer.dilation_angle is not None)
-               for i, layer in enumerate(case.layers, 1)]
     for key, used in checks:
         if used:
             raise CaseError(f"{key}: not solved by this version of the engine; remove the key")

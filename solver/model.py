@@ -57,6 +57,30 @@ class Layer:
         return self.strength_gradient if self.is_tresca else 0.0
 
 
+def davis_reduction(layer: Layer) -> tuple[float, float]:
+    """Davis (1968) strength reduction for a non-associated Mohr-Coulomb soil.
+
+    With dilation angle psi < phi, c* = beta c and tan(phi*) = beta tan(phi),
+    beta = cos(psi) cos(phi) / (1 - sin(psi) sin(phi)) (Davis, E.H. 1968,
+    Theories of plasticity and the failure of soil masses, in Soil Mechanics:
+    Selected Topics, ed. I.K. Lee, Butterworths). Returns (beta, phi* in rad);
+    (1, phi) for associated flow or Tresca. The bounds computed with c*, phi*
+    are the accepted approximation, no longer rigorous bounds on the
+    non-associated problem.
+
+    >>> import math
+    >>> lay = Layer("sand", "mohr-coulomb", None, 19.0, friction_angle=30.0, dilation_angle=0.0)
+    >>> beta, phi = davis_reduction(lay)
+    >>> round(beta, 4), round(math.degrees(phi), 2)
+    (0.866, 26.57)
+    """
+    if layer.is_tresca or layer.dilation_angle is None:
+        return 1.0, layer.phi_rad
+    phi, psi = layer.phi_rad, math.radians(layer.dilation_angle)
+    beta = math.cos(psi) * math.cos(phi) / (1.0 - math.sin(psi) * math.sin(phi))
+    return beta, math.atan(beta * math.tan(phi))
+
+
 @dataclass(frozen=True)
 class Footing:
     """A rigid strip footing of width ``width`` (m) founded at ``embedment`` (m)."""
@@ -207,12 +231,13 @@ class Case:
             wet_weight = (layer.saturated_unit_weight if layer.saturated_unit_weight is not None
                           else layer.unit_weight) - WATER_UNIT_WEIGHT
             wet_weight = max(wet_weight, 0.0)
+            factor, phi = davis_reduction(layer)
             pieces = [(top, min(bottom, water), False), (max(top, water), bottom, True)]
             for a, b, wet in pieces:
                 if b > a:
                     out.append(Stratum(index, layer.name, a, b,
-                                       c_top + layer.c_gradient_kPa_per_m * (a - top),
-                                       layer.c_gradient_kPa_per_m, layer.phi_rad,
+                                       factor * (c_top + layer.c_gradient_kPa_per_m * (a - top)),
+                                       factor * layer.c_gradient_kPa_per_m, phi,
                                        wet_weight if wet else layer.unit_weight, wet))
         return out
 
