@@ -168,8 +168,8 @@ def lower_stress_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.ndar
 def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.ndarray) -> dict:
     """The upper bound's velocity field (per unit footing velocity): ``velocity``
     (n_nodes, 2); ``strain_rate`` (n_el, 3 corners, 3) as (ex, ey, gxy) in 1/m;
-    ``dissipation_density`` (n_el,) mean plastic dissipation per unit area, kPa
-    per unit footing velocity (kN/m^2 per m/s), integrated exactly from the corners."""
+    ``dissipation_density`` (n_el,) mean plastic dissipation rate per unit volume,
+    kN/m^3 per unit footing velocity (kPa/s per m/s), integrated exactly from the corners."""
     vel = velocities(program, x)
     mat = material_arrays(case)
     tri = mesh.triangles

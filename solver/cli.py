@@ -1,4 +1,4 @@
-"""Command line: ``bearbound run | hand | verify``.
+"""Command line: ``bearbound run | hand | verify | sweep | report``.
 
 Exit status: 0 when every bound asked for is certified; 1 when a bound is
 withheld (solver trouble or a failed certificate; the result still says why);
@@ -47,7 +47,13 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--elements", type=int, default=None, help="override [analysis] elements")
     run.add_argument("--backend", choices=("clarabel", "cvxpy"), default=None,
                      help="override [analysis] backend")
+    run.add_argument("--no-pictures", action="store_true", help="skip the PNG and SVG pictures")
+    run.add_argument("--no-report", action="store_true", help="skip report.html")
     run.set_defaults(handler=_run)
+
+    report = sub.add_parser("report", help="rebuild report.html from a finished run's folder, without solving")
+    report.add_argument("folder", type=Path, help="output folder of a finished run (out/<case>)")
+    report.set_defaults(handler=_report)
 
     hand = sub.add_parser("hand", help="the classical hand methods alone, instantly")
     hand.add_argument("case", type=Path)
@@ -58,6 +64,19 @@ def _parser() -> argparse.ArgumentParser:
     verify.add_argument("--only", action="append", default=None, metavar="ID", help="run only this case")
     verify.add_argument("--out", type=Path, default=Path("out/verification"), help="report folder")
     verify.set_defaults(handler=_verify)
+
+    sweep = sub.add_parser("sweep", help="a base case with keys varied: every point on dask workers, "
+                                         "sweep.csv and a chart")
+    sweep.add_argument("sweep", type=Path, help="sweep file (TOML, see README)")
+    sweep.add_argument("--out", type=Path, default=None,
+                       help="output folder: points/, sweep.csv, the chart (default out/<sweep name>)")
+    sweep.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                       help="an existing dask scheduler you control, e.g. tcp://127.0.0.1:8786 "
+                            "(default: local worker processes on 127.0.0.1)")
+    sweep.add_argument("--workers", type=int, default=None,
+                       help="local worker processes (default: one per core)")
+    sweep.add_argument("--no-progress", action="store_true", help="no progress bar")
+    sweep.set_defaults(handler=_sweep)
     return parser
 
 
@@ -65,12 +84,26 @@ def _run(args) -> int:
     case = load_case(args.case)
     if args.elements is not None and not 200 <= args.elements <= 400_000:
         raise CaseError(f"--elements: {args.elements} is not allowed; must be a whole number from 200 to 400000")
+    out_dir = args.out or Path("out") / case.name
+    from .export import outputs_overwriting
+
+    if (clash := outputs_overwriting(args.case, out_dir)) is not None:
+        raise CaseError(f"--out: {out_dir} is not allowed; writing {clash.name} there would overwrite "
+                        "the case file, choose another folder")
     from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
     from .result import write_result
 
     result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend)
-    out_dir = args.out or Path("out") / case.name
+    if case.footing.design_load is not None or case.factors is not None:
+        from .safety import factor_of_safety
+
+        result.factor_of_safety = factor_of_safety(
+            case, result, elements=args.elements, backend=args.backend,
+            progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True))
     path = write_result(result, out_dir)
+    from .report import write_run_files
+
+    write_run_files(result, case, args.case, out_dir, pictures=not args.no_pictures, report=not args.no_report)
     print(format_summary(result, path))
     asked = [b for b in (result.lower, result.upper) if b is not None]
     return 0 if all(b.pressure_kPa is not None for b in asked) else 1
@@ -95,6 +128,10 @@ def format_summary(result, path: Path | None = None) -> str:
                      f"collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
     lines.append(f"    wall time   {result.timing['total_s']:.1f} s "
                  f"(solve {result.timing['solve_s']:.1f} s)")
+    if getattr(result, "factor_of_safety", None):
+        from .safety import format_safety
+
+        lines += format_safety(result.factor_of_safety)
     for note in result.notes:
         lines.append(f"  NOTE: {note}")
     if result.hand_methods:
@@ -129,6 +166,18 @@ def _hand(args) -> int:
     return 0
 
 
+def _report(args) -> int:
+    from .report import ReportError, rebuild_report
+
+    try:
+        path = rebuild_report(args.folder)
+    except ReportError as error:
+        print(f"bearbound: {error}", file=sys.stderr)
+        return 2
+    print(f"written: {path}\n  Caution: {CAUTION}")
+    return 0
+
+
 def _verify(args) -> int:
     spec = importlib.util.spec_from_file_location("bearbound_verification", REPO_ROOT / "verification" / "runner.py")
     if spec is None or not (REPO_ROOT / "verification" / "runner.py").exists():
@@ -140,6 +189,27 @@ def _verify(args) -> int:
     for case_id in args.only or []:
         argv += ["--only", case_id]
     return runner.main(argv)
+
+
+def _sweep(args) -> int:
+    from .sweep import CERTIFIED, format_outcome, load_sweep, run_sweep
+
+    sweep = load_sweep(args.sweep)
+    if args.workers is not None and args.scheduler is not None:
+        raise CaseError(f"--workers: {args.workers} is not allowed with --scheduler; "
+                        "the cluster there has its own workers")
+    if args.workers is not None and not 1 <= args.workers <= 256:
+        raise CaseError(f"--workers: {args.workers} is not allowed; must be a whole number from 1 to 256")
+    out_dir = args.out or Path("out") / sweep.name
+    try:
+        outcome = run_sweep(sweep, out_dir, scheduler=args.scheduler, workers=args.workers,
+                            progress=not args.no_progress)
+    except KeyboardInterrupt:
+        print(f"bearbound: points finished so far are kept in {out_dir / 'points'}; "
+              "the same command again solves only the rest", file=sys.stderr)
+        raise
+    print(format_outcome(sweep, outcome))
+    return 0 if outcome.count(CERTIFIED) == len(outcome.records) else 1
 
 
 if __name__ == "__main__":

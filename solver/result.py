@@ -52,6 +52,9 @@ class Result:
     backend: str
     notes: list[str] = field(default_factory=list)
     hand_methods: list[dict] = field(default_factory=list)
+    # load and strength-reduction factors and the partial-factor check (solver.safety), when the
+    # case gives a design load or partial factors; written to result.json only then
+    factor_of_safety: dict | None = None
 
     @property
     def gap_percent(self) -> float | None:
@@ -79,6 +82,8 @@ class Result:
         }
         if self.hand_methods:
             data["hand_methods"] = self.hand_methods
+        if self.factor_of_safety is not None:
+            data["factor_of_safety"] = self.factor_of_safety
         return _clean(data)
 
 
@@ -108,6 +113,7 @@ def write_atomic(path: Path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as handle:
             handle.write(text)
+        os.chmod(tmp, 0o644)  # mkstemp makes 0600; outputs are ordinary readable files
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)

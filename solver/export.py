@@ -1,0 +1,308 @@
+"""Exports beside result.json: fields.vtu (ParaView), summary.csv (spreadsheets) and a
+byte-for-byte copy of the case file (case.toml), so that a finished run can be
+reported again without solving (:mod:`solver.report`).
+
+fields.vtu holds both bounds over one concatenated point array, as two cell
+blocks: linear triangles of the lower bound (each triangle with its own three
+points, so the stress may jump across every edge as the stress field does) and
+6-node triangles of the upper bound. The cell array ``bound`` is 0 on the
+lower-bound block and 1 on the upper-bound block (ParaView: Threshold on it);
+an array that belongs to one bound is NaN on the other's points and cells.
+Stresses are written compression positive, as the trade reads them.
+
+Every file is written to a temporary file in the same folder and renamed.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import os
+import tempfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+LOWER_BLOCK, UPPER_BLOCK = 0, 1
+FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
+PICTURE_NAMES = ("model", "mechanism", "stress")
+OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
+    f"{name}.{ext}" for name in PICTURE_NAMES for ext in ("png", "svg"))  # the case file must be none of these
+
+
+@dataclass
+class BoundFields:
+    """One bound's mesh and fields as pictures and exports use them (compression positive).
+
+    ``points`` (n, 2) m; ``triangles`` (n_el, 3) or (n_el, 6) indices into ``points``;
+    ``layer`` (n_el,) index into ``Case.layers_below_base()``. Lower bound:
+    ``stress_kPa`` (n_el, 3 nodes, 3) as (sigma_x, sigma_y, tau_xy) compression
+    positive, ``utilisation`` (n_el, 3). Upper bound: ``velocity`` (n, 2) per unit
+    footing velocity, ``dissipation`` (n_el,) kN/m^3 per unit footing velocity.
+    """
+
+    kind: str
+    points: np.ndarray
+    triangles: np.ndarray
+    layer: np.ndarray
+    arrays: dict = field(default_factory=dict)
+
+    @property
+    def n_elements(self) -> int:
+        return len(self.triangles)
+
+
+def bound_fields(bound) -> BoundFields | None:
+    """BoundFields from a solved BoundResult (None when it has no solution fields)."""
+    if bound is None or bound.mesh is None or not bound.fields:
+        return None
+    mesh = bound.mesh
+    if bound.kind == "lower":
+        return BoundFields("lower", mesh.points, mesh.triangles, mesh.layer,
+                           {"stress_kPa": -np.asarray(bound.fields["stress"]),
+                            "utilisation": np.asarray(bound.fields["utilisation"])})
+    return BoundFields("upper", mesh.points, mesh.triangles, mesh.layer,
+                       {"velocity": np.asarray(bound.fields["velocity"]),
+                        "dissipation": np.asarray(bound.fields["dissipation_density"])})
+
+
+def principal_stresses(stress: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Major and minor principal stresses and the angle of the major one from x (radians).
+
+    Works on (..., 3) arrays of (sigma_x, sigma_y, tau_xy), whatever the sign convention:
+    "major" is the algebraically largest.
+
+    >>> s1, s3, angle = principal_stresses(np.array([100.0, 40.0, 0.0]))
+    >>> float(s1), float(s3), float(angle)
+    (100.0, 40.0, 0.0)
+    """
+    sx, sy, txy = stress[..., 0], stress[..., 1], stress[..., 2]
+    centre, radius = (sx + sy) / 2, np.hypot((sx - sy) / 2, txy)
+    return centre + radius, centre - radius, 0.5 * np.arctan2(2 * txy, sx - sy)
+
+
+# -- atomic writing -------------------------------------------------------------
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+def _publish(tmp: str, path: Path) -> None:
+    """Give the temporary file the usual permissions (mkstemp makes it private), then rename."""
+    os.chmod(tmp, 0o666 & ~_umask())
+    os.replace(tmp, path)
+
+
+def write_bytes_atomic(path: Path, data: bytes) -> None:
+    """Write to a temporary file in the same folder, then rename over the target."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+        _publish(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def outputs_overwriting(case_path: Path, out_dir: Path) -> Path | None:
+    """The output in ``out_dir`` that is the case file itself, if any (then nothing may be written)."""
+    case_path = Path(case_path)
+    for name in OUTPUT_NAMES:
+        target = Path(out_dir) / name
+        if target.exists() and case_path.exists() and os.path.samefile(target, case_path):
+            return target
+        if target.resolve() == case_path.resolve():
+            return target
+    return None
+
+
+def save_case_copy(case_path: Path, sha256: str, out_dir: Path) -> Path:
+    """Copy the case file's bytes to out_dir/case.toml, after checking they still hash to
+    ``sha256`` (the file read for the run). The case file itself is never written: when
+    it already is out_dir/case.toml nothing is done."""
+    import hashlib
+
+    target = Path(out_dir) / CASE_COPY
+    source = Path(case_path)
+    if target.exists() and os.path.samefile(target, source):
+        return target
+    data = source.read_bytes()
+    if hashlib.sha256(data).hexdigest() != sha256:
+        raise RuntimeError(f"{source}: the case file changed during the run; not copied")
+    write_bytes_atomic(target, data)
+    return target
+
+
+# -- fields.vtu -------------------------------------------------------------------
+
+def _nan(shape) -> np.ndarray:
+    return np.full(shape, np.nan)
+
+
+def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
+    """The meshio.Mesh written to fields.vtu (see the module docstring)."""
+    import meshio
+
+    parts, cells, blocks = [], [], []
+    offset = 0
+    point_data = {name: [] for name in ("lb_sigma_x_kPa", "lb_sigma_y_kPa", "lb_tau_xy_kPa",
+                                        "lb_sigma_1_kPa", "lb_sigma_3_kPa", "lb_utilisation",
+                                        "ub_velocity", "ub_speed")}
+    cell_data = {name: [] for name in ("bound", "layer", "lb_utilisation_max", "ub_dissipation_kN_per_m3")}
+    if lower is not None:
+        n = lower.n_elements
+        pts = lower.points[lower.triangles].reshape(-1, 2)  # each triangle its own points
+        stress = lower.arrays["stress_kPa"].reshape(-1, 3)
+        s1, s3, _ = principal_stresses(stress)
+        parts.append(pts)
+        cells.append(("triangle", np.arange(3 * n).reshape(n, 3) + offset))
+        values = {"lb_sigma_x_kPa": stress[:, 0], "lb_sigma_y_kPa": stress[:, 1], "lb_tau_xy_kPa": stress[:, 2],
+                  "lb_sigma_1_kPa": s1, "lb_sigma_3_kPa": s3,
+                  "lb_utilisation": lower.arrays["utilisation"].reshape(-1),
+                  "ub_velocity": _nan((3 * n, 3)), "ub_speed": _nan(3 * n)}
+        for name in point_data:
+            point_data[name].append(values[name])
+        cell_data["bound"].append(np.full(n, LOWER_BLOCK))
+        cell_data["layer"].append(np.asarray(lower.layer))
+        cell_data["lb_utilisation_max"].append(lower.arrays["utilisation"].max(axis=1))
+        cell_data["ub_dissipation_kN_per_m3"].append(_nan(n))
+        offset += len(pts)
+    if upper is not None:
+        n, m = upper.n_elements, len(upper.points)
+        velocity = upper.arrays["velocity"]
+        parts.append(upper.points)
+        cells.append(("triangle6", np.asarray(upper.triangles) + offset))
+        values = {name: _nan(m) for name in point_data}
+        values["ub_velocity"] = np.column_stack([velocity, np.zeros(m)])
+        values["ub_speed"] = np.hypot(velocity[:, 0], velocity[:, 1])
+        for name in point_data:
+            point_data[name].append(values[name])
+        cell_data["bound"].append(np.full(n, UPPER_BLOCK))
+        cell_data["layer"].append(np.asarray(upper.layer))
+        cell_data["lb_utilisation_max"].append(_nan(n))
+        cell_data["ub_dissipation_kN_per_m3"].append(np.asarray(upper.arrays["dissipation"]))
+    if not parts:
+        return None
+    points = np.vstack(parts)
+    points = np.column_stack([points, np.zeros(len(points))])
+    return meshio.Mesh(points, cells, point_data={k: np.concatenate(v) for k, v in point_data.items()},
+                       cell_data={k: [np.asarray(a) for a in v] for k, v in cell_data.items()})
+
+
+def write_fields_vtu(lower: BoundFields | None, upper: BoundFields | None, out_dir: Path) -> Path | None:
+    """Write out_dir/fields.vtu (None, and nothing written, when neither bound has fields)."""
+    import meshio
+
+    mesh = fields_mesh(lower, upper)
+    if mesh is None:
+        return None
+    path = Path(out_dir) / FIELDS_FILE
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".vtu")
+    os.close(fd)
+    try:
+        meshio.write(tmp, mesh, file_format="vtu")
+        _publish(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path
+
+
+def read_fields_vtu(path: Path) -> dict[str, BoundFields]:
+    """Read fields.vtu back into BoundFields by bound ("lower", "upper"), those present."""
+    import meshio
+
+    mesh = meshio.read(path)
+    out = {}
+    for index, block in enumerate(mesh.cells):
+        kind = "lower" if block.type == "triangle" else "upper" if block.type == "triangle6" else None
+        if kind is None:
+            continue  # nothing else is written; a cell set from elsewhere is not ours
+        used = np.unique(block.data)
+        first, last = int(used.min()), int(used.max()) + 1
+        points = mesh.points[first:last, :2]
+        triangles = block.data - first
+        layer = np.asarray(mesh.cell_data["layer"][index]).astype(int)
+        rows = slice(first, last)
+        if kind == "lower":
+            pd = mesh.point_data
+            stress = np.column_stack([pd["lb_sigma_x_kPa"][rows], pd["lb_sigma_y_kPa"][rows],
+                                      pd["lb_tau_xy_kPa"][rows]])
+            arrays = {"stress_kPa": stress[triangles], "utilisation": pd["lb_utilisation"][rows][triangles]}
+        else:
+            arrays = {"velocity": mesh.point_data["ub_velocity"][rows, :2],
+                      "dissipation": np.asarray(mesh.cell_data["ub_dissipation_kN_per_m3"][index])}
+        out[kind] = BoundFields(kind, points, triangles, layer, arrays)
+    return out
+
+
+# -- summary.csv ------------------------------------------------------------------
+
+SUMMARY_COLUMNS = (
+    "case", "title", "footing_width_m", "lower_kPa", "upper_kPa", "gap_percent",
+    "lower_kN_per_m", "upper_kN_per_m", "lower_status", "upper_status",
+    "design_load_kN_per_m", "load_factor_lower", "load_factor_upper",
+    "strength_factor_lower", "strength_factor_upper", "strength_solves",
+    "design_action_kN_per_m", "design_resistance_lower_kN_per_m", "design_resistance_upper_kN_per_m",
+    "design_resistance_covers_action",
+    "lower_elements", "upper_elements", "wall_time_s", "software_version", "case_sha256",
+)
+
+
+def summary_row(data: dict) -> dict:
+    """The one row of summary.csv from the result.json dict."""
+    lower, upper = data.get("lower") or {}, data.get("upper") or {}
+    fos = data.get("factor_of_safety") or {}
+    load, strength = fos.get("load") or {}, fos.get("strength") or {}
+    partial = fos.get("partial_factors") or {}
+    resistance = partial.get("design_resistance_kN_per_m") or {}
+    return {
+        "case": data["case"]["name"], "title": data["title"],
+        "footing_width_m": data["footing_width_m"],
+        "lower_kPa": lower.get("pressure_kPa"), "upper_kPa": upper.get("pressure_kPa"),
+        "gap_percent": data.get("gap_percent"),
+        "lower_kN_per_m": lower.get("load_kN_per_m"), "upper_kN_per_m": upper.get("load_kN_per_m"),
+        "lower_status": lower.get("status", "not asked for"), "upper_status": upper.get("status", "not asked for"),
+        "design_load_kN_per_m": fos.get("design_load_kN_per_m"),
+        "load_factor_lower": load.get("lower"), "load_factor_upper": load.get("upper"),
+        "strength_factor_lower": strength.get("lower"), "strength_factor_upper": strength.get("upper"),
+        "strength_solves": strength.get("solves"),
+        "design_action_kN_per_m": partial.get("action_kN_per_m"),
+        "design_resistance_lower_kN_per_m": resistance.get("lower"),
+        "design_resistance_upper_kN_per_m": resistance.get("upper"),
+        "design_resistance_covers_action": {True: "yes", False: "no"}.get(partial.get("covered"),
+                                                                           "" if not partial else "undecided"),
+        "lower_elements": lower.get("elements"), "upper_elements": upper.get("elements"),
+        "wall_time_s": data["timing"].get("total_s"),
+        "software_version": data["software"]["version"], "case_sha256": data["case"]["sha256"],
+    }
+
+
+def _cell(value) -> str:
+    """A CSV cell; text that a spreadsheet would run as a formula gets a leading quote."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return repr(value)
+    text = str(value)
+    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+
+
+def write_summary_csv(data: dict, out_dir: Path) -> Path:
+    """Write out_dir/summary.csv: a header and one row (see SUMMARY_COLUMNS)."""
+    row = summary_row(data)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(SUMMARY_COLUMNS)
+    writer.writerow([_cell(row[name]) for name in SUMMARY_COLUMNS])
+    path = Path(out_dir) / SUMMARY_FILE
+    write_bytes_atomic(path, buffer.getvalue().encode("utf-8"))
+    return path

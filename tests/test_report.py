@@ -1,0 +1,260 @@
+"""The run's outputs as a user meets them: report.html (escaped, self-contained, rebuilt
+without solving), fields.vtu, summary.csv, the case copy, the command-line flags, and the
+report in a real headless browser where one is installed."""
+import csv
+import json
+import shutil
+import subprocess
+import sys
+from html.parser import HTMLParser
+
+import numpy as np
+import pytest
+
+from solver.analysis import analyse
+from solver.case import parse_case
+from solver.export import bound_fields, read_fields_vtu, write_fields_vtu
+
+# A case file is data: every string below must reach the report as text, never as markup,
+# and the spreadsheet cell must not become a formula.
+HOSTILE_CASE = """
+title = "=HYPERLINK(\\"http://example.invalid\\") <script>document.title='PWNED'</script> & <b>rail</b>"
+[footing]
+width = 1.5
+embedment = 0.5
+design_load = 180.0
+[ground]
+surcharge = 2.0
+[[layers]]
+name = "<img src=x onerror=alert(1)> gravel"
+thickness = 1.5
+model = "mohr-coulomb"
+cohesion = 2.0
+friction_angle = 33.0
+unit_weight = 19.5
+[[layers]]
+name = "clay $\\\\alpha$ </td></table>"
+model = "tresca"
+undrained_strength = 45.0
+strength_gradient = 2.0
+unit_weight = 18.0
+[factors]
+friction = 1.25
+cohesion = 1.25
+undrained_strength = 1.4
+load = 1.35
+[analysis]
+elements = 600
+"""
+
+PLAIN_CASE = """
+title = "Test strip on uniform clay"
+[footing]
+width = 2.0
+[[layers]]
+name = "clay"
+model = "tresca"
+undrained_strength = 30.0
+unit_weight = 0.0
+[analysis]
+elements = 600
+"""
+
+
+def bearbound(*args, cwd):
+    return subprocess.run([sys.executable, "-m", "solver.cli", *args], cwd=cwd, capture_output=True,
+                          text=True, timeout=300)
+
+
+@pytest.fixture(scope="module")
+def hostile_run(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("hostile")
+    case = folder / "rail.toml"
+    case.write_text(HOSTILE_CASE)
+    before = case.read_bytes()
+    done = bearbound("run", str(case), cwd=folder)
+    assert done.returncode == 0, done.stderr
+    return folder, folder / "out" / "rail", before, done
+
+
+class Attributes(HTMLParser):
+    """Tags, and every src/href attribute, of a page."""
+
+    def __init__(self):
+        super().__init__()
+        self.tags, self.links, self.names = [], [], []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+        self.names += [name for name, _ in attrs]
+        self.links += [value for name, value in attrs if name in ("src", "href")]
+
+
+def test_run_writes_every_output_and_never_touches_the_case_file(hostile_run):
+    folder, out, before, done = hostile_run
+    names = {p.name for p in out.iterdir()}
+    assert names == {"result.json", "case.toml", "fields.vtu", "summary.csv", "report.html",
+                     "model.png", "model.svg", "mechanism.png", "mechanism.svg", "stress.png", "stress.svg"}
+    assert (folder / "rail.toml").read_bytes() == before
+    assert (out / "case.toml").read_bytes() == before  # a byte-for-byte copy
+    assert not [p for p in out.iterdir() if p.name.startswith(".")]  # no temporary file left behind
+    assert "factor of safety" in done.stdout and "strength factor" in done.stdout
+
+
+def test_factor_of_safety_in_result_json(hostile_run):
+    _, out, _, _ = hostile_run
+    fos = json.loads((out / "result.json").read_text())["factor_of_safety"]
+    data = json.loads((out / "result.json").read_text())
+    assert fos["load"]["lower"] == pytest.approx(data["lower"]["load_kN_per_m"] / 180.0)
+    assert fos["load"]["upper"] == pytest.approx(data["upper"]["load_kN_per_m"] / 180.0)
+    strength = fos["strength"]
+    assert 1.0 < strength["lower"] <= strength["upper"] < fos["load"]["upper"]
+    assert isinstance(strength["solves"], int) and strength["solves"] >= 2
+    partial = fos["partial_factors"]
+    assert partial["action_kN_per_m"] == pytest.approx(180.0 * 1.35)
+    assert partial["covered"] in (True, False, None) and partial["verdict"]
+
+
+def test_report_escapes_case_text_and_loads_nothing(hostile_run):
+    _, out, _, _ = hostile_run
+    page = (out / "report.html").read_text(encoding="utf-8")
+    parser = Attributes()
+    parser.feed(page)
+    assert "script" not in parser.tags and "img" in parser.tags and "b" not in parser.tags
+    assert not [name for name in parser.names if name.startswith("on")]  # no event handler anywhere
+    assert "<script" not in page.lower()
+    assert "&lt;script&gt;document.title=&#x27;PWNED&#x27;&lt;/script&gt;" in page
+    assert "&lt;img src=x onerror=alert(1)&gt; gravel" in page
+    assert "clay $\\alpha$ &lt;/td&gt;&lt;/table&gt;" in page
+    assert parser.links and all(link.startswith("data:image/png;base64,") for link in parser.links)
+    assert "Content-Security-Policy" in page and "default-src 'none'" in page
+    assert "qualified geotechnical engineer" in page and "licensed practice govern" in page
+    assert "associated flow" in page and "plane strain" in page
+    data = json.loads((out / "result.json").read_text())
+    assert data["case"]["sha256"] in page and data["software"]["version"] in page
+    assert "@media print" in page
+
+
+def test_report_flags_unconservative_hand_methods(hostile_run):
+    _, out, _, _ = hostile_run
+    data = json.loads((out / "result.json").read_text())
+    page = (out / "report.html").read_text(encoding="utf-8")
+    above = [h["method"] for h in data["hand_methods"] if h["where"].startswith("ABOVE")]
+    assert above, "the scenario was chosen to have an unconservative hand method"
+    assert page.count('<tr class="flag">') == len(above)
+    assert page.count("&#9650; ABOVE THE UPPER BOUND") == len(above)
+
+
+def test_summary_csv_is_one_row_and_never_a_formula(hostile_run):
+    _, out, _, _ = hostile_run
+    rows = list(csv.DictReader((out / "summary.csv").open(newline="")))
+    assert len(rows) == 1
+    row = rows[0]
+    data = json.loads((out / "result.json").read_text())
+    assert float(row["lower_kPa"]) == data["lower"]["pressure_kPa"]
+    assert float(row["strength_factor_upper"]) == data["factor_of_safety"]["strength"]["upper"]
+    assert row["title"].startswith("'=")  # quoted so that a spreadsheet shows it as text
+
+
+def test_report_command_rebuilds_the_same_report_without_solving(hostile_run):
+    folder, out, _, _ = hostile_run
+    original = (out / "report.html").read_bytes()
+    (out / "report.html").unlink()
+    done = bearbound("report", str(out), cwd=folder)
+    assert done.returncode == 0, done.stderr
+    assert (out / "report.html").read_bytes() == original
+    assert "strength reduction" not in done.stderr  # nothing was solved
+
+
+def test_report_command_refuses_a_missing_or_altered_run(hostile_run, tmp_path):
+    folder, out, _, _ = hostile_run
+    done = bearbound("report", str(tmp_path / "nowhere"), cwd=tmp_path)
+    assert done.returncode == 2 and "\n" not in done.stderr.strip() and "Traceback" not in done.stderr
+    altered = tmp_path / "altered"
+    shutil.copytree(out, altered)
+    (altered / "case.toml").write_text(HOSTILE_CASE.replace("width = 1.5", "width = 1.6"))
+    done = bearbound("report", str(altered), cwd=tmp_path)
+    assert done.returncode == 2 and "SHA-256" in done.stderr and "Traceback" not in done.stderr
+
+
+def test_flags_skip_pictures_and_report_and_reruns_give_the_same_numbers(tmp_path):
+    case = tmp_path / "clay.toml"
+    case.write_text(PLAIN_CASE)
+    first = bearbound("run", str(case), "--no-pictures", "--no-report", "--out", "a", cwd=tmp_path)
+    second = bearbound("run", str(case), "--no-pictures", "--out", "b", cwd=tmp_path)
+    assert first.returncode == second.returncode == 0, first.stderr + second.stderr
+    assert {p.name for p in (tmp_path / "a").iterdir()} == {"result.json", "case.toml", "fields.vtu",
+                                                            "summary.csv"}
+    assert {p.name for p in (tmp_path / "b").iterdir()} == {"result.json", "case.toml", "fields.vtu",
+                                                            "summary.csv", "report.html"}
+    a, b = (json.loads((tmp_path / d / "result.json").read_text()) for d in ("a", "b"))
+    for side in ("lower", "upper"):
+        assert a[side]["pressure_kPa"] == b[side]["pressure_kPa"]
+    assert "factor_of_safety" not in a  # no design load, no factors
+    assert (tmp_path / "a" / "fields.vtu").read_bytes() == (tmp_path / "b" / "fields.vtu").read_bytes()
+
+
+def test_an_output_name_that_is_the_case_file_is_refused_before_solving(tmp_path):
+    out = tmp_path / "site"
+    out.mkdir()
+    case = out / "summary.csv"  # a case file that happens to bear an output's name
+    case.write_text(PLAIN_CASE)
+    done = bearbound("run", str(case), "--out", str(out), cwd=tmp_path)
+    assert done.returncode == 2 and "overwrite the case file" in done.stderr
+    assert case.read_text() == PLAIN_CASE and {p.name for p in out.iterdir()} == {"summary.csv"}
+
+
+def test_fields_vtu_round_trip_holds_both_bounds(tmp_path):
+    import meshio
+
+    case = parse_case({"footing": {"width": 2.0}, "layers": [
+        {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}],
+        "analysis": {"elements": 600}})
+    result = analyse(case)
+    live = {"lower": bound_fields(result.lower), "upper": bound_fields(result.upper)}
+    path = write_fields_vtu(live["lower"], live["upper"], tmp_path)
+    mesh = meshio.read(path)
+    assert [block.type for block in mesh.cells] == ["triangle", "triangle6"]
+    assert not mesh.cell_sets  # no gmsh:bounding_entities or any other cell set
+    bound_ids = [np.unique(a).tolist() for a in mesh.cell_data["bound"]]
+    assert bound_ids == [[0], [1]]
+    back = read_fields_vtu(path)
+    for kind, fields in live.items():
+        for name, values in fields.arrays.items():
+            assert np.array_equal(back[kind].arrays[name], values), (kind, name)
+        assert np.array_equal(back[kind].points[back[kind].triangles], fields.points[fields.triangles])
+    # compression positive: under the footing the vertical stress is compressive
+    sy = back["lower"].arrays["stress_kPa"][..., 1]
+    assert np.median(sy) > 0
+    lb = mesh.point_data["lb_sigma_1_kPa"]
+    assert np.isnan(lb[len(live["lower"].triangles) * 3:]).all()  # lower-bound arrays are NaN on upper points
+
+
+def chromium() -> str | None:
+    return shutil.which("chromium") or shutil.which("chromium-browser")
+
+
+@pytest.mark.skipif(chromium() is None, reason="chromium not installed: the report is not checked in a "
+                                               "headless browser here (apt-get install chromium to run it)")
+def test_report_renders_in_a_headless_browser_and_runs_nothing(hostile_run, tmp_path):
+    from matplotlib.image import imread
+
+    _, out, _, _ = hostile_run
+    url = (out / "report.html").resolve().as_uri()
+    common = [chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+              "--disable-background-networking", "--disable-component-update", "--disable-sync",
+              f"--user-data-dir={tmp_path / 'profile'}"]
+    shot = tmp_path / "report.png"
+    done = subprocess.run(common + ["--window-size=1100,3000", f"--screenshot={shot}", url],
+                          capture_output=True, text=True, timeout=120)
+    assert shot.exists(), done.stderr[-2000:]
+    image = imread(shot)
+    assert image.shape[0] >= 3000 and image.shape[1] >= 1100
+    assert image.std() > 0.1  # text, tables and pictures, not a blank page
+    dom = subprocess.run(common + ["--dump-dom", url], capture_output=True, text=True, timeout=120).stdout
+    title = dom[dom.index("<title>") + len("<title>"):dom.index("</title>")]
+    assert title.startswith("=HYPERLINK")  # had the typed script run, the title would be 'PWNED'
+    assert "&lt;script&gt;document.title" in dom  # it is shown as text
+    parser = Attributes()
+    parser.feed(dom)
+    assert "script" not in parser.tags and not [n for n in parser.names if n.startswith("on")]

@@ -1,0 +1,164 @@
+"""Factors of safety: strength reduction of the case, the search on F with each bound, the
+partial-factor check, and that a withheld bound is never used."""
+import doctest
+import math
+from dataclasses import replace
+from types import SimpleNamespace
+
+import pytest
+from scipy.optimize import brentq
+
+import solver.safety
+from solver.analysis import analyse
+from solver.case import parse_case
+from solver.model import Factors
+from solver.safety import (STRENGTH_TOLERANCE, design_strength_case, factor_of_safety, load_factor,
+                           reduce_strength, search_strength)
+
+PRANDTL_NC = 2 + math.pi  # Prandtl (1920): q_u = (2 + pi) su, weightless Tresca half-space, no surcharge
+
+
+def clay_case(su=30.0, design_load=150.0, factors=None, elements=600):
+    data = {"title": "weightless clay", "footing": {"width": 2.0, "design_load": design_load},
+            "layers": [{"name": "clay", "model": "tresca", "undrained_strength": su, "unit_weight": 0.0}],
+            "analysis": {"elements": elements}}
+    if factors:
+        data["factors"] = factors
+    return parse_case(data)
+
+
+def bound(load, status="optimal"):
+    return SimpleNamespace(load_kN_per_m=load, status=status)
+
+
+def test_doctests():
+    assert doctest.testmod(solver.safety).failed == 0
+
+
+def test_reduce_strength_divides_c_su_gradient_and_tan_phi():
+    case = parse_case({"footing": {"width": 1.0}, "layers": [
+        {"name": "sand", "model": "mohr-coulomb", "thickness": 2.0, "cohesion": 8.0, "friction_angle": 35.0,
+         "unit_weight": 19.0},
+        {"name": "clay", "model": "tresca", "undrained_strength": 40.0, "strength_gradient": 3.0,
+         "unit_weight": 17.0}]})
+    sand, clay = reduce_strength(case, 1.6).layers
+    assert sand.cohesion == pytest.approx(5.0)
+    assert math.tan(math.radians(sand.friction_angle)) == pytest.approx(math.tan(math.radians(35.0)) / 1.6)
+    assert clay.undrained_strength == pytest.approx(25.0) and clay.strength_gradient == pytest.approx(1.875)
+    assert sand.unit_weight == 19.0 and clay.unit_weight == 17.0  # weights are not factored
+    design = design_strength_case(case, Factors(friction=1.25, cohesion=1.6, undrained_strength=1.4))
+    d_sand, d_clay = design.layers
+    assert d_sand.cohesion == pytest.approx(5.0)
+    assert math.tan(math.radians(d_sand.friction_angle)) == pytest.approx(math.tan(math.radians(35.0)) / 1.25)
+    assert d_clay.undrained_strength == pytest.approx(40.0 / 1.4)
+
+
+def test_load_factor_is_the_bracket_over_the_design_load_and_none_when_withheld():
+    assert load_factor(300.0, 330.0, 150.0) == {"lower": 2.0, "upper": 2.2}
+    assert load_factor(None, 330.0, 150.0) == {"lower": None, "upper": 2.2}
+
+
+def test_search_proves_only_from_solved_values(monkeypatch):
+    # fake bounds 3 % either side of a collapse load falling faster than 1/F, as on
+    # frictional ground: 300 / F^2 kN/m; the fake solver is handed F itself
+    monkeypatch.setattr(solver.safety, "reduce_strength", lambda case, F: F)
+    design = 100.0
+    root = math.sqrt(3.0)
+
+    def solve(F, kind):
+        return bound((0.97 if kind == "lower" else 1.03) * 300.0 / F ** 2)
+
+    lower = search_strength("lower", None, design, 0.97 * 300.0, solve)
+    upper = search_strength("upper", None, design, 1.03 * 300.0, solve)
+    true_lower, true_upper = math.sqrt(0.97 * 3.0), math.sqrt(1.03 * 3.0)  # roots of each fake bound
+    assert lower["value"] <= true_lower <= lower["value"] * (1 + STRENGTH_TOLERANCE)
+    assert upper["value"] / (1 + STRENGTH_TOLERANCE) <= true_upper <= upper["value"]
+    assert lower["value"] <= root <= upper["value"]
+    for found, kind in ((lower, "lower"), (upper, "upper")):
+        solved = {e["F"]: e["load_kN_per_m"] for e in found["evaluations"]}
+        assert found["value"] in solved  # a value actually solved, not interpolated
+        load = solved[found["value"]]
+        assert load >= design if kind == "lower" else load <= design
+        assert found["solves"] <= 8
+
+
+def test_withheld_bound_stops_the_search_and_is_not_used(monkeypatch):
+    monkeypatch.setattr(solver.safety, "reduce_strength", lambda case, F: F)
+    answers = iter([bound(120.0), bound(None, "withheld: certificate failed: flow_rule = 1e-3")])
+    found = search_strength("lower", None, 100.0, 300.0, lambda F, kind: next(answers))
+    # F = 3 (the load factor) gave 120 >= 100: proven; the next trial was withheld
+    assert found["value"] == pytest.approx(3.0)
+    assert found["solves"] == 2
+    assert any("withheld" in note and "not used" in note for note in found["notes"])
+    assert [e["load_kN_per_m"] for e in found["evaluations"]][-1] is None
+
+
+def test_withheld_bound_at_F_1_gives_nothing():
+    found = search_strength("upper", None, 100.0, None, lambda F, kind: pytest.fail("must not solve"))
+    assert found["value"] is None and found["solves"] == 0 and "withheld" in found["notes"][0]
+
+
+def test_strength_factor_brackets_prandtl_on_weightless_clay():
+    case = clay_case()
+    result = analyse(case)
+    fos = factor_of_safety(case, result)
+    exact = PRANDTL_NC * 30.0 * 2.0 / 150.0  # q(F) = (2 + pi) su / F exactly, so F = (2 + pi) su B / P
+    strength = fos["strength"]
+    assert strength["lower"] <= exact <= strength["upper"]
+    # weightless Tresca ground: LB(F) = LB(1) / F on one mesh, so F is the load factor to the tolerance
+    assert strength["lower"] == pytest.approx(fos["load"]["lower"], rel=STRENGTH_TOLERANCE)
+    assert strength["upper"] == pytest.approx(fos["load"]["upper"], rel=STRENGTH_TOLERANCE)
+    assert fos["load"]["lower"] == pytest.approx(result.lower.load_kN_per_m / 150.0)
+    assert 0 < strength["solves"] <= 6
+    assert not strength["notes"]
+
+
+def reissner_pressure(c, phi_deg):
+    """Prandtl (1920) and Reissner (1924): q_u = c N_c on a weightless c-phi half-space without
+    surcharge, N_c = (N_q - 1) cot(phi), N_q = exp(pi tan phi) tan^2(45 + phi/2)."""
+    phi = math.radians(phi_deg)
+    nq = math.exp(math.pi * math.tan(phi)) * math.tan(math.pi / 4 + phi / 2) ** 2
+    return c * (nq - 1) / math.tan(phi)
+
+
+def test_strength_factor_brackets_the_exact_factor_on_weightless_c_phi_soil():
+    c, phi, B, design = 10.0, 25.0, 1.0, 80.0
+    case = parse_case({"footing": {"width": B, "design_load": design},
+                       "layers": [{"name": "silt", "model": "mohr-coulomb", "cohesion": c,
+                                   "friction_angle": phi, "unit_weight": 0.0}],
+                       "analysis": {"elements": 600}})
+
+    def pressure_at(F):
+        return reissner_pressure(c / F, math.degrees(math.atan(math.tan(math.radians(phi)) / F)))
+
+    exact = brentq(lambda F: pressure_at(F) * B - design, 1.0, 10.0)
+    fos = factor_of_safety(case, analyse(case))
+    assert fos["strength"]["lower"] <= exact <= fos["strength"]["upper"]
+    assert fos["strength"]["upper"] / fos["strength"]["lower"] < 1.25  # a useful bracket on a coarse mesh
+
+
+def test_partial_factors_check_covered_not_covered_and_undecided():
+    def solve(case_F, kind):  # fake bounds 2 % either side of Prandtl for the case given
+        exact = PRANDTL_NC * case_F.layers[0].undrained_strength * 2.0
+        return bound(exact * (0.98 if kind == "lower" else 1.02))
+
+    factors = {"undrained_strength": 1.4, "load": 1.35, "resistance": 1.1}
+    true_rd = PRANDTL_NC * 30.0 / 1.4 * 2.0 / 1.1  # kN/m
+    results = {}
+    for name, design_load in (("covered", 0.9 * true_rd / 1.35), ("not covered", 1.1 * true_rd / 1.35),
+                              ("undecided", true_rd / 1.35)):
+        case = clay_case(design_load=design_load, factors=factors)
+        result = SimpleNamespace(lower=bound(1.0), upper=bound(1.0))
+        results[name] = solver.safety.partial_factor_check(case, result, design_load, solve)
+    assert results["covered"]["covered"] is True and "covers" in results["covered"]["verdict"]
+    assert results["not covered"]["covered"] is False and "NOT" in results["not covered"]["verdict"]
+    assert results["undecided"]["covered"] is None and "undecided" in results["undecided"]["verdict"]
+    check = results["covered"]
+    assert check["action_kN_per_m"] == pytest.approx(0.9 * true_rd)
+    assert check["design_resistance_kN_per_m"]["lower"] == pytest.approx(0.98 * true_rd)
+    assert check["solves"] == 2
+
+
+def test_no_design_load_and_no_factors_gives_none():
+    case = replace(clay_case(), footing=replace(clay_case().footing, design_load=None))
+    assert factor_of_safety(case, SimpleNamespace(lower=None, upper=None)) is None
