@@ -21,13 +21,15 @@ LOWER_METHOD = ("linear stress triangles with stress discontinuities on every ed
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
 UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
                 "(Makrodimopoulos & Martin 2007); far boundary fixed")
+SLOPE_UNSTABLE = ("the slope is not stable under its own weight: the collapse load is zero or negative "
+                  "(no statically admissible stress field carries the ground, or a mechanism releases "
+                  "energy); no capacity is reported")
 CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velocity| there < this
 
 
 def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
             backend: str | None = None, solver_settings: dict | None = None) -> Result:
     """Run the bounds the case asks for and return the certified Result."""
-    _refuse_unsupported(case)
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
     elements = elements or case.analysis.elements
@@ -46,6 +48,12 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
             and lower.pressure_kPa > upper.pressure_kPa * (1 + 1e-6):
         notes.append("lower bound exceeds upper bound: this is a defect; do not use these numbers")
+    if _slope_unstable(lower, upper):
+        notes.append(SLOPE_UNSTABLE)
+    if case.pore_pressure_at_base_kPa() > 0:
+        notes.append(f"the water table is above the footing base: pressures are effective; the total "
+                     f"contact pressure adds the pore pressure at the base, "
+                     f"{case.pore_pressure_at_base_kPa():.1f} kPa")
     reduced = [layer for layer in case.layers if layer.dilation_angle is not None and not layer.is_tresca]
     if reduced:
         notes.append("non-associated flow by the Davis (1968) reduction ("
@@ -69,19 +77,6 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     return result
 
 
-def _refuse_unsupported(case: Case) -> None:
-    """Keys the case file accepts but this engine does not solve yet: refuse, never ignore."""
-    from .case import CaseError
-
-    checks = [("ground.water_table", case.ground.water_table is not None),
-              ("ground.slope_angle", case.ground.slope_angle != 0.0),
-              ("footing.load_inclination", case.footing.load_inclination != 0.0),
-              ("footing.eccentricity", case.footing.eccentricity != 0.0)]
-    for key, used in checks:
-        if used:
-            raise CaseError(f"{key}: not solved by this version of the engine; remove the key")
-
-
 def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings) -> BoundResult:
     t0 = time.perf_counter()
     mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain)
@@ -94,6 +89,8 @@ def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, setti
     t4 = time.perf_counter()
     load = certificate.get("load_kN_per_m") if certificate["passed"] else None
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
+    if load is not None and load <= 0.0:
+        load, status = None, "withheld: the collapse load is zero or negative"
     extra, fields = {}, {}
     if solution.x is not None:
         if kind == "upper":
@@ -101,13 +98,25 @@ def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, setti
             extra = _mechanism_extent(mesh, fields["velocity"])
         else:
             fields = lower_stress_field(case, mesh, program, solution.x)
+    delta = math.radians(case.footing.load_inclination)
+    if load is not None:
+        extra.update({"vertical_kN_per_m": load * math.cos(delta), "horizontal_kN_per_m": load * math.sin(delta),
+                      "moment_kNm_per_m": load * math.cos(delta) * case.footing.eccentricity})
     return BoundResult(
-        kind=kind, pressure_kPa=None if load is None else load / case.footing.width,
+        kind=kind, pressure_kPa=None if load is None else load * math.cos(delta) / case.footing.width,
         load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
         timing={"mesh_s": t1 - t0, "assemble_s": t2 - t1, "solve_s": t3 - t2, "certify_s": t4 - t3},
         method=LOWER_METHOD if kind == "lower" else UPPER_METHOD, extra=extra, mesh=mesh, fields=fields)
+
+
+def _slope_unstable(lower: BoundResult | None, upper: BoundResult | None) -> bool:
+    """The ground cannot carry itself: the lower bound finds no admissible stress
+    field at all, or the upper bound finds a mechanism with zero or negative load."""
+    return bool((lower is not None and lower.status.startswith("infeasible"))
+                or (lower is not None and "infeasible" in lower.status)
+                or (upper is not None and ("unbounded" in upper.status or "zero or negative" in upper.status)))
 
 
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:

@@ -38,6 +38,18 @@ class Domain:
     interfaces: tuple[float, ...]  # depths (m, below the base) of layer interfaces inside the domain
     mechanism_width: float  # m, estimated extent of the collapse zone beyond the footing edge
     mechanism_depth: float  # m, estimated depth of the collapse zone
+    crest_x: float | None = None  # m: the ground falls away from (crest_x, 0) ...
+    toe_x: float | None = None  # ... to (toe_x, -slope_height), level beyond
+    slope_height: float = 0.0  # m
+
+    @property
+    def slope(self) -> bool:
+        return self.crest_x is not None
+
+    def air_polygon(self) -> list[tuple[float, float]]:
+        """The region above the slope face and the toe level, inside the box (m)."""
+        return [(self.crest_x, 0.0), (self.toe_x, -self.slope_height), (self.x_max, -self.slope_height),
+                (self.x_max, 0.0)]
 
 
 @dataclass(frozen=True)
@@ -126,7 +138,8 @@ class Mesh:
 
 def is_symmetric(case: Case) -> bool:
     """A vertical central load on level layered ground is symmetric about x = 0."""
-    return True
+    return (case.footing.load_inclination == 0.0 and case.footing.eccentricity == 0.0
+            and case.ground.slope_angle == 0.0)
 
 
 def plan_domain(case: Case, half: bool | None = None) -> Domain:
@@ -140,26 +153,39 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     result reports whether the upper-bound mechanism stayed clear of it.
     """
     B = case.footing.width
-    layers = case.layers_below_base()
-    phi = max(layer.phi_rad for layer, *_ in layers)
+    strata = case.strata()
+    phi = max(s.phi_rad for s in strata)
     r0 = B / (2.0 * math.cos(math.pi / 4 + phi / 2))
     r1 = r0 * math.exp(math.pi / 2 * math.tan(phi))
     width = 2.0 * r1 * math.cos(math.pi / 4 - phi / 2)
     depth = r1
+    # Every interface (layers and the water table) lies inside the mesh: below
+    # it, the lower bound's extension elements carry the last stratum only.
+    interfaces = tuple(s.bottom for s in strata[:-1])
     # A weak layer under a strong crust draws the mechanism down: reach past
     # the deepest interface within the estimated zone (punching, common practice).
-    interfaces_near = [bottom for _, _, bottom, _ in layers[:-1] if bottom < 2.0 * depth + B]
+    interfaces_near = [d for d in interfaces if d < 2.0 * depth + B]
     if interfaces_near:
         depth = max(depth, max(interfaces_near) + r0)
         width = max(width, max(interfaces_near) + width)
     x_max = B / 2 + 2.0 * width + B
-    # Every interface lies inside the mesh: below it, the lower bound's extension
-    # elements carry the last layer only.
-    interfaces = tuple(bottom for _, _, bottom, _ in layers[:-1])
     model_depth = max(2.0 * depth + B, 1.25 * interfaces[-1] if interfaces else 0.0)
+    slope = {}
+    ground = case.ground
+    if ground.slope_angle > 0:
+        # The ground falls away beyond the crest; the slope's own mechanism can
+        # pass below the toe (deep-seated in clay): reach past the toe by the
+        # footing's zone again, and below it by as much (common practice).
+        crest = B / 2 + ground.crest_setback
+        toe = crest + ground.slope_height / math.tan(math.radians(ground.slope_angle))
+        x_max = max(x_max, toe + 2.0 * width + B)
+        model_depth = max(model_depth, ground.slope_height + 2.0 * depth + B)
+        slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
+        half = False
     half = is_symmetric(case) if half is None else half
-    return Domain(half=half, x_min=0.0 if half else -x_max, x_max=x_max, depth=model_depth,
-                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth)
+    x_min = 0.0 if half else -(B / 2 + 2.0 * width + B)
+    return Domain(half=half, x_min=x_min, x_max=x_max, depth=model_depth,
+                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth, **slope)
 
 
 # Fan of triangles centred on each footing edge (lower bound). A fan of stress
@@ -175,6 +201,7 @@ FAN_CLEARANCE = 0.9  # a ray fills at most this fraction of its room to the symm
 #                      this fraction of the first interface's depth (a flat fan squashed under
 #                      a shallow interface gave a 5 % lower bound on a two-layer case)
 FAN_MIN_REACH = 1e-3  # longest ray / B below which no fan is built
+FAN_SLOPE_SETBACK = 0.1  # no fans when a crest is nearer than this * B to the footing edge
 FAN_FIRST_RING = 0.03  # innermost ring / ray length [0.01-0.03]
 FAN_ASPECT = 6.0  # radial / circumferential spacing of the cells near the edge [3.5-10]
 FAN_RADIAL = 2.5  # ... but radial spacing at most this times the outside size [1.5-2.5]: long
@@ -241,14 +268,30 @@ def _ray_lengths(domain: Domain, B: float, centres: np.ndarray, x: np.ndarray, y
         outward = np.where(x * centres[:, None] > 0, (domain.x_max - np.abs(centres))[:, None] / np.abs(x), np.inf)
         down = domain.depth / np.abs(y)
     room = np.minimum(np.minimum(inward, outward), down)
+    if domain.slope:
+        # a ray from the edge at x = c along (x, y) leaves the soil through the slope
+        # face y = -(X - crest) tan(beta) at t = (crest - c) tan(beta) / (y + x tan(beta)),
+        # if it gets there above the toe
+        tan_b = domain.slope_height / (domain.toe_x - domain.crest_x)
+        setback = domain.crest_x - centres[:, None]
+        rate = y + x * tan_b
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(rate > 0, setback * tan_b / rate, np.inf)
+        with np.errstate(invalid="ignore"):  # inf * 0 on the surface ray
+            t = np.where(np.nan_to_num(t * -y, nan=0.0) <= domain.slope_height, t, np.inf)
+        room = np.minimum(room, t)
     if domain.interfaces:
         room = np.minimum(room, domain.interfaces[0])
     return np.minimum(FAN_REACH * B, FAN_CLEARANCE * room)
 
 
 def fan_reach(domain: Domain, B: float) -> float:
-    """Longest ray (m) a fan may have; 0 when there is no room for a fan."""
+    """Longest ray (m) a fan may have; 0 when there is no room for a fan (nor when
+    a slope's crest is closer to the footing edge than FAN_SLOPE_SETBACK B: the
+    rays along the surface would be too short to mesh)."""
     centres = np.array([B / 2] if domain.half else [B / 2, -B / 2])
+    if domain.slope and domain.crest_x - B / 2 < FAN_SLOPE_SETBACK * B:
+        return 0.0
     x, y = _ray_directions(720, centres)
     reach = float(_ray_lengths(domain, B, centres, x, y).max())
     return reach if reach >= FAN_MIN_REACH * B else 0.0
@@ -404,6 +447,12 @@ def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np
     bottoms = domain.interfaces + (domain.depth,)
     width = domain.x_max - domain.x_min
     bands = [(2, occ.addRectangle(domain.x_min, -b, 0.0, width, b - t)) for t, b in zip(tops, bottoms)]
+    if domain.slope:
+        corners = [occ.addPoint(x, y, 0.0) for x, y in domain.air_polygon()]
+        lines = [occ.addLine(a, b) for a, b in zip(corners, corners[1:] + corners[:1])]
+        air = occ.addPlaneSurface([occ.addCurveLoop(lines)])
+        kept, _ = occ.cut(bands, [(2, air)])
+        bands = sorted(kept, key=lambda dimtag: -occ.getCenterOfMass(*dimtag)[1])  # top band first
     if layout is None:
         centres = [B / 2] if domain.half else [B / 2, -B / 2]
         occ.fragment(bands, [(0, occ.addPoint(x, 0.0, 0.0)) for x in centres])
@@ -444,7 +493,9 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     mesh.field.remove(1) if 1 in mesh.field.list() else None
     centres = [B / 2] if domain.half else [B / 2, -B / 2]
     distance = ", ".join(f"Sqrt((x-({x}))^2+y^2)" for x in centres)
-    distance = f"Min({distance})" if len(centres) > 1 else distance
+    if domain.slope:  # the mechanism leaves the ground at or below the crest: refine there too
+        distance += f", 2*Sqrt((x-({domain.crest_x}))^2+y^2)"
+    distance = f"Min({distance})" if "," in distance else distance
     edge, grading = (FAN_EDGE_SIZE, FAN_GRADING) if layout else (0.02, 0.2)
     mesh.field.add("MathEval", 1)
     mesh.field.setString(1, "F", f"{scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
@@ -551,7 +602,13 @@ def _assemble_mesh(points: np.ndarray, triangles: np.ndarray, domain: Domain, ca
     if domain.half:
         kind[np.abs(midpoint[:, 0]) < tol] = SYMMETRY
     else:
-        kind[np.abs(midpoint[:, 0] + domain.x_max) < tol] = FAR_SIDE
+        kind[np.abs(midpoint[:, 0] - domain.x_min) < tol] = FAR_SIDE
+    if domain.slope:
+        tan_b = domain.slope_height / (domain.toe_x - domain.crest_x)
+        x, y = midpoint[:, 0], midpoint[:, 1]
+        face = (np.abs(y + (x - domain.crest_x) * tan_b) < tol) & (y <= tol) & (y >= -domain.slope_height - tol)
+        toe = (np.abs(y + domain.slope_height) < tol) & (x >= domain.toe_x - tol) & (x < domain.x_max - tol)
+        kind[face | toe] = GROUND
     if np.any(kind < 0):
         raise RuntimeError("mesh: a boundary edge lies on no known boundary")
     return Mesh(points=points, triangles=triangles, layer=layer, boundary_element=boundary_element,
