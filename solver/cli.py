@@ -125,7 +125,11 @@ def format_summary(result, path: Path | None = None) -> str:
     up = result.upper.pressure_kPa if result.upper else None
     if lo is not None and up is not None:
         lines.append(f"    bracket     [{lo:.2f}, {up:.2f}] kPa, gap {result.gap_percent:.2f} %; "
-                     f"collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
+                     f"vertical collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
+        extra_lo, extra_up = result.lower.extra, result.upper.extra
+        if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
+            lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "
+                         f"M about the centre [{extra_lo['moment_kNm_per_m']:.1f}, {extra_up['moment_kNm_per_m']:.1f}] kNm/m")
     lines.append(f"    wall time   {result.timing['total_s']:.1f} s "
                  f"(solve {result.timing['solve_s']:.1f} s)")
     if getattr(result, "factor_of_safety", None):
@@ -135,7 +139,7 @@ def format_summary(result, path: Path | None = None) -> str:
     for note in result.notes:
         lines.append(f"  NOTE: {note}")
     if result.hand_methods:
-        lines.append("  hand methods (vertical central load), kPa")
+        lines.append("  hand methods, kPa (vertical component / B)")
         lines += _hand_lines(result.hand_methods)
     if path is not None:
         lines.append(f"  written: {path}")
@@ -144,12 +148,16 @@ def format_summary(result, path: Path | None = None) -> str:
 
 
 def _hand_lines(rows: list[dict]) -> list[str]:
-    width = max(len(r["method"]) for r in rows)
-    out = []
+    """Methods with a number, one line each; those that do not apply, grouped by reason."""
+    given = [r for r in rows if r["pressure_kPa"] is not None]
+    width = max((len(r["method"]) for r in given), default=0)
+    out = [f"    {r['method']:<{width}} {r['pressure_kPa']:10.1f}   {r.get('where', '')}" for r in given]
+    reasons: dict[str, list[str]] = {}
     for r in rows:
-        value = f"{r['pressure_kPa']:10.1f}" if r["pressure_kPa"] is not None else "       n/a"
-        tail = r.get("where", "") if r["pressure_kPa"] is not None else r["note"]
-        out.append(f"    {r['method']:<{width}} {value}   {tail}")
+        if r["pressure_kPa"] is None:
+            reasons.setdefault(r["note"], []).append(r["method"])
+    for note, methods in reasons.items():
+        out.append(f"    not applicable ({'; '.join(methods)}): {note}")
     return out
 
 
@@ -158,7 +166,7 @@ def _hand(args) -> int:
     from .hand import hand_methods
 
     rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
-             "where": "; ".join(f"{k} {v:.3g}" for k, v in h.factors.items())}
+             "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
             for h in hand_methods(case)]
     print(f"{case.title}\n  hand methods (vertical central load), kPa")
     print("\n".join(_hand_lines(rows)))
