@@ -67,7 +67,11 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                     footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
                     domain={"half_domain_by_symmetry": domain.half, "width_m": domain.x_max - domain.x_min,
                             "depth_m": domain.depth, "estimated_mechanism_width_m": domain.mechanism_width,
-                            "estimated_mechanism_depth_m": domain.mechanism_depth},
+                            "estimated_mechanism_depth_m": domain.mechanism_depth,
+                            "x_min_m": domain.x_min, "x_max_m": domain.x_max,
+                            "slope_crest_x_m": domain.crest_x, "slope_toe_x_m": domain.toe_x,
+                            "slope_height_m": domain.slope_height},
+                    pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
                     backend=backend, notes=notes)
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None

@@ -50,6 +50,7 @@ class Result:
     timing: dict
     domain: dict
     backend: str
+    pore_pressure_at_base_kPa: float = 0.0  # pressures are effective; total adds this
     notes: list[str] = field(default_factory=list)
     hand_methods: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
@@ -77,6 +78,7 @@ class Result:
             "timing": {k: round(v, 4) for k, v in self.timing.items()},
             "domain": self.domain,
             "backend": self.backend,
+            "pore_pressure_at_base_kPa": self.pore_pressure_at_base_kPa,
             "notes": self.notes,
             "caution": CAUTION,
         }
