@@ -32,12 +32,14 @@ test: setup
 
 demo: setup
 	@$(VENV)/bin/bearbound run examples/pump-house.toml
+	@$(VENV)/bin/bearbound run examples/embankment-crest.toml
 
 verify: setup
 	@$(VENV)/bin/bearbound verify
 
 bench: setup
 	@$(PY) benchmarks/run.py
+	@$(PY) benchmarks/sweep_bench.py
 
 clean:
 	@rm -rf out/ .pytest_cache/ .hypothesis/ build/ dist/ ./*.egg-info
