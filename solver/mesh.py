@@ -201,6 +201,14 @@ FAN_CLEARANCE = 0.9  # a ray fills at most this fraction of its room to the symm
 #                      this fraction of the first interface's depth (a flat fan squashed under
 #                      a shallow interface gave a 5 % lower bound on a two-layer case)
 FAN_MIN_REACH = 1e-3  # longest ray / B below which no fan is built
+# Without a fan (the upper bound's mesh): h = s (PLAIN_EDGE_SIZE B + PLAIN_GRADING r).
+# Measured on the upper bound at 4k and 8k triangles (Prandtl, exact 2 + pi; and
+# N_gamma at phi = 30, reference 14.75 from memory): (0.02, 0.2) gave +1.13 % / +0.77 %
+# and +7.5 % / +5.0 %; (0.002, 0.15) gave +0.63 % / +0.41 % and +4.1 % / +2.7 %: the
+# continuous velocity field needs very small elements at the footing edge, where the
+# exact velocity jumps. Smaller edge sizes (5e-4 to 1e-3) measured no better.
+PLAIN_EDGE_SIZE = 0.002
+PLAIN_GRADING = 0.15
 FAN_SLOPE_SETBACK = 0.1  # no fans when a crest is nearer than this * B to the footing edge
 FAN_FIRST_RING = 0.03  # innermost ring / ray length [0.01-0.03]
 FAN_ASPECT = 6.0  # radial / circumferential spacing of the cells near the edge [3.5-10]
@@ -337,8 +345,8 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     """Mesh the case's domain with about ``elements`` triangles of the given order.
 
     Without a fan the element size grows linearly with the distance r from
-    the nearest footing edge, h = s (0.02 B + 0.2 r), capped at a tenth of the
-    domain depth; the scale s is set from the target count and corrected after
+    the nearest footing edge, h = s (PLAIN_EDGE_SIZE B + PLAIN_GRADING r), capped
+    at a tenth of the domain depth; the scale s is set from the target count and corrected after
     trial meshes (element count scales as 1/s^2).
 
     ``fan`` (default: on for first order, off for second) puts a structured
@@ -419,8 +427,10 @@ def _estimate_count(domain: Domain, B: float, fan: bool = False) -> float:
     return float(2.3 * np.sum((r > fan_reach(domain, B)) * cell / h**2)) + layout.n_elements
 
 
-def _size(r, B: float, domain: Domain, edge_size: float = 0.02, grading: float = 0.2):
+def _size(r, B: float, domain: Domain, edge_size: float | None = None, grading: float | None = None):
     """Element size (m) at distance r (m) from the nearest footing edge, for scale 1."""
+    edge_size = PLAIN_EDGE_SIZE if edge_size is None else edge_size
+    grading = PLAIN_GRADING if grading is None else grading
     return np.minimum(edge_size * B + grading * r, 0.1 * domain.depth)
 
 
@@ -496,7 +506,7 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     if domain.slope:  # the mechanism leaves the ground at or below the crest: refine there too
         distance += f", 2*Sqrt((x-({domain.crest_x}))^2+y^2)"
     distance = f"Min({distance})" if "," in distance else distance
-    edge, grading = (FAN_EDGE_SIZE, FAN_GRADING) if layout else (0.02, 0.2)
+    edge, grading = (FAN_EDGE_SIZE, FAN_GRADING) if layout else (PLAIN_EDGE_SIZE, PLAIN_GRADING)
     mesh.field.add("MathEval", 1)
     mesh.field.setString(1, "F", f"{scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
     mesh.field.setAsBackgroundMesh(1)
