@@ -28,7 +28,8 @@ CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velo
 
 
 def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
-            backend: str | None = None, solver_settings: dict | None = None) -> Result:
+            backend: str | None = None, solver_settings: dict | None = None,
+            progress: bool = False) -> Result:
     """Run the bounds the case asks for and return the certified Result."""
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
@@ -36,14 +37,19 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     start = time.perf_counter()
     domain = plan_domain(case)
     lower = upper = None
-    if bounds in ("lower", "both"):
-        lower = _run_bound(case, "lower", elements, backend, domain, solver_settings)
-    if bounds in ("upper", "both"):
-        upper = _run_bound(case, "upper", elements, backend, domain, solver_settings)
-    total = time.perf_counter() - start
-    timing = {key: sum(b.timing[key] for b in (lower, upper) if b) for key in
-              ("mesh_s", "assemble_s", "solve_s", "certify_s")}
-    timing["total_s"] = total
+    history = None
+    if case.analysis.target_gap is not None:
+        from .adapt import refine_until  # adaptive refinement wraps run_bound
+        lower, upper, history, timing = refine_until(case, bounds, elements, backend, domain, solver_settings,
+                                                     progress=progress)
+    else:
+        if bounds in ("lower", "both"):
+            lower = run_bound(case, "lower", elements, backend, domain, solver_settings)
+        if bounds in ("upper", "both"):
+            upper = run_bound(case, "upper", elements, backend, domain, solver_settings)
+        timing = {key: sum(b.timing[key] for b in (lower, upper) if b) for key in
+                  ("mesh_s", "assemble_s", "solve_s", "certify_s")}
+    timing["total_s"] = time.perf_counter() - start
     notes = []
     if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
             and lower.pressure_kPa > upper.pressure_kPa * (1 + 1e-6):
@@ -73,6 +79,7 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                             "slope_height_m": domain.slope_height},
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
                     backend=backend, notes=notes)
+    result.adapt_history = history
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None
     result.hand_methods = [{"method": h.method, "source": h.source, "pressure_kPa": h.pressure_kPa,
@@ -81,9 +88,12 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     return result
 
 
-def _run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings) -> BoundResult:
+def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings,
+              size_hint=None) -> BoundResult:
+    """Mesh, assemble, solve and certify one bound ("lower" or "upper")."""
     t0 = time.perf_counter()
-    mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain)
+    mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
+                      size_hint=size_hint)
     t1 = time.perf_counter()
     program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
     t2 = time.perf_counter()

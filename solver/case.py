@@ -57,6 +57,30 @@ class Key:
     choices: tuple[str, ...] = ()
     default: Any = REQUIRED
     max_len: int = 200  # str only: one printable line of at most this many characters
+    # numbers only: what a value below (above) the range would mean, added to the message;
+    # the range alone does not say why, e.g. for a negative depth of the water table
+    below: str = ""
+    above: str = ""
+
+    def why_outside(self, value: Any) -> str:
+        """``below`` or ``above`` for a finite number out of range on that side, else ''.
+
+        >>> Key(float, gt=0, lt=90, above="; too steep").why_outside(95)
+        '; too steep'
+        >>> Key(float, gt=0, lt=90, above="; too steep").why_outside(-5)
+        ''
+        """
+        if isinstance(value, bool) or not isinstance(value, numbers.Real):
+            return ""
+        try:
+            number = float(value)
+        except OverflowError:
+            return ""
+        if not math.isfinite(number):
+            return ""
+        low = (self.gt is not None and number <= self.gt) or (self.ge is not None and number < self.ge)
+        high = (self.lt is not None and number >= self.lt) or (self.le is not None and number > self.le)
+        return self.below if low else self.above if high else ""
 
     @property
     def allowed(self) -> str:
@@ -105,8 +129,12 @@ FOOTING_KEYS = {
 }
 GROUND_KEYS = {
     "surcharge": Key(float, "kPa", ge=0, default=0.0),
-    "water_table": Key(float, "m below the ground surface", ge=0, default=None),
-    "slope_angle": Key(float, "degrees", ge=0, lt=90, default=0.0),
+    "water_table": Key(float, "m below the ground surface", ge=0, default=None,
+                       below="; a negative depth puts the water table above the ground surface "
+                               "(standing water over the soil), which this version does not model"),
+    "slope_angle": Key(float, "degrees", ge=0, lt=90, default=0.0,
+                       above="; 90 degrees or more is a vertical or overhanging face, "
+                               "which this version does not model"),
     "crest_setback": Key(float, "m", ge=0, default=0.0),
     "slope_height": Key(float, "m", gt=0, default=None),
 }
@@ -121,6 +149,9 @@ ANALYSIS_KEYS = {
     "bounds": Key(str, choices=("lower", "upper", "both"), default="both"),
     "elements": Key(int, ge=200, le=400_000, default=4000),
     "backend": Key(str, choices=("clarabel", "cvxpy"), default="clarabel"),
+    "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=None),
+    "max_steps": Key(int, ge=1, le=20, default=6),
+    "time_limit_s": Key(float, "s", gt=0, le=86400, default=600.0),
 }
 # Strength keys of each soil model; a layer holds the keys of its own model only.
 MODEL_KEYS = {
@@ -150,6 +181,17 @@ TABLES = {"footing": (Footing, FOOTING_KEYS), "ground": (Ground, GROUND_KEYS),
           "analysis": (Analysis, ANALYSIS_KEYS), "factors": (Factors, FACTORS_KEYS)}
 OPTIONAL_TABLES = ("factors",)  # absent: None in the Case
 REQUIRED_TABLES = ("footing",)
+# [geometry]: the user's own drawing of the site (solver.sitefile); the path is relative to the case file.
+GEOMETRY_KEYS = {"file": Key(str, "a gmsh .geo script or .msh mesh", max_len=1000)}
+# Keys a drawn site does not take in this version: (key path, value when not given, why).
+NOT_WITH_GEOMETRY = (
+    ("footing.embedment", 0.0, "0 (m) with a [geometry] file: draw the soil beside the footing instead"),
+    ("ground.water_table", None, "left out with a [geometry] file: this version takes no water table "
+                                 "with a drawn site"),
+    ("ground.slope_angle", 0.0, "left out with a [geometry] file: draw the slope instead"),
+    ("ground.crest_setback", 0.0, "left out with a [geometry] file: draw the slope instead"),
+    ("ground.slope_height", None, "left out with a [geometry] file: draw the slope instead"),
+)
 
 
 # -- reading ------------------------------------------------------------------
@@ -197,8 +239,9 @@ def _read_table(table: dict, schema: dict[str, Key], path: str,
         except ValueError:
             close = difflib.get_close_matches(table[key], spec.choices, n=1) \
                 if spec.choices and isinstance(table[key], str) else []
-            raise _not_allowed(where, table[key], spec.allowed,
-                               f" (did you mean {close[0]!r}?)" if close else "") from None
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            hint = spec.why_outside(table[key]) or hint
+            raise _not_allowed(where, table[key], spec.allowed, hint) from None
     return values
 
 
@@ -229,14 +272,18 @@ def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
     return Layer(**values)
 
 
-def _read_layers(raw: Any) -> tuple[Layer, ...]:
+def _read_layers(raw: Any, drawn: bool = False) -> tuple[Layer, ...]:
     if raw is None:
         raise CaseError("layers: missing; required, at least one [[layers]] table (top to bottom)")
     if not isinstance(raw, list) or not raw:
         raise _not_allowed("layers", raw,
                            "an array of tables [[layers]], at least one (top to bottom)")
-    layers = tuple(_read_layer(item, f"layers[{i}]", is_last=i == len(raw))
+    layers = tuple(_read_layer(item, f"layers[{i}]", is_last=drawn or i == len(raw))
                    for i, item in enumerate(raw, 1))
+    for i, layer in enumerate(layers, 1):
+        if drawn and layer.thickness is not None:
+            raise _not_allowed(f"layers[{i}].thickness", layer.thickness,
+                               "left out with a [geometry] file: the drawing gives each layer's extent")
     seen: dict[str, int] = {}
     for i, layer in enumerate(layers, 1):
         if layer.name in seen:
@@ -246,7 +293,8 @@ def _read_layers(raw: Any) -> tuple[Layer, ...]:
     return layers
 
 
-def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Case:
+def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
+               base_dir: str | pathlib.Path | None = None) -> Case:
     """Check the keys of a case (as read from TOML) and return the :class:`Case`.
 
     Parameters
@@ -257,6 +305,9 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
         Short name of the case (the case file's stem); also the default title.
     source_sha256 : str
         Hash of the case file's bytes, carried into reports.
+    base_dir : str or Path, optional
+        Folder that a relative ``geometry.file`` is read from (the case file's
+        folder; default the working folder).
 
     Returns
     -------
@@ -280,7 +331,7 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
     """
     if not isinstance(data, dict):
         raise _not_allowed("case", data, "a table of keys")
-    _check_keys(data, TOP_KEYS | dict.fromkeys(TABLES) | {"layers": None}, "")
+    _check_keys(data, TOP_KEYS | dict.fromkeys(TABLES) | {"layers": None, "geometry": None}, "")
     title = _read_table({k: data[k] for k in TOP_KEYS if k in data}, TOP_KEYS, "")["title"]
 
     parts = {}
@@ -295,7 +346,13 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
             parts[table] = None
             continue
         parts[table] = cls(**_read_table(raw or {}, schema, table))
-    layers = _read_layers(data.get("layers"))
+    drawn = data.get("geometry") is not None
+    layers = _read_layers(data.get("layers"), drawn)
+    if drawn:
+        geometry = _read_geometry(data["geometry"], base_dir, parts, layers)
+        _check_consistency(parts["footing"], parts["ground"], layers)
+        return Case(title=name if title is None else title, layers=layers, name=name,
+                    source_sha256=source_sha256, geometry=geometry, **parts)
 
     total = sum(layer.thickness for layer in layers[:-1]) + (layers[-1].thickness or math.inf)
     if parts["footing"].embedment >= total:
@@ -305,6 +362,25 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "") -> Ca
     _check_consistency(parts["footing"], parts["ground"], layers)
     return Case(title=name if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
+
+
+def _read_geometry(raw: Any, base_dir: str | pathlib.Path | None, parts: dict, layers: tuple[Layer, ...]):
+    """[geometry]: refuse the keys a drawn site does not take, then read and check the
+    drawing (solver.sitefile; gmsh is loaded only here)."""
+    if not isinstance(raw, dict):
+        raise _not_allowed("geometry", raw, "a table [geometry] with file = \"<site>.geo\" or \".msh\"")
+    file = _read_table(raw, GEOMETRY_KEYS, "geometry")["file"]
+    for key, unset, why in NOT_WITH_GEOMETRY:
+        table, field_name = key.split(".")
+        value = getattr(parts[table], field_name)
+        if value != unset:
+            raise _not_allowed(key, value, why)
+    path = pathlib.Path(file)
+    if not path.is_absolute():
+        path = pathlib.Path(base_dir or ".") / path
+    from .sitefile import read_site  # imports gmsh
+
+    return read_site(path, layers, parts["footing"].width, where="geometry.file")
 
 
 def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ...]) -> None:
@@ -320,7 +396,7 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
                         f"{ground.slope_angle:g} > 0, must be {GROUND_KEYS['slope_height'].allowed}")
     if ground.slope_angle == 0 and ground.slope_height is not None:
         raise _not_allowed("ground.slope_height", ground.slope_height,
-                           "only with slope_angle > 0 (degrees); level ground has no slope")
+                           "left out on level ground: give it only with slope_angle > 0 (degrees)")
     if ground.slope_angle > 0 and footing.embedment > 0:
         raise _not_allowed("footing.embedment", footing.embedment,
                            "0 (m) next to a slope in this version: the embedment is modelled as a "
@@ -370,7 +446,8 @@ def load_case(path: str | pathlib.Path) -> Case:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
-    return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest())
+    return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest(),
+                      base_dir=path.parent)
 
 
 def case_to_dict(case: Case) -> dict:
@@ -398,4 +475,6 @@ def case_to_dict(case: Case) -> dict:
         if getattr(case, table) is not None:
             out[table] = keys_of(getattr(case, table), schema)
     out["layers"] = [keys_of(layer, LAYER_KEYS | MODEL_KEYS[layer.model]) for layer in case.layers]
+    if case.geometry is not None:
+        out["geometry"] = {"file": case.geometry.file}  # absolute: reads the same file from anywhere
     return out

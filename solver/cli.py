@@ -3,15 +3,22 @@
 Exit status: 0 when every bound asked for is certified; 1 when a bound is
 withheld (solver trouble or a failed certificate; the result still says why);
 2 for bad input (one line naming the key, the value and what is allowed,
-nothing written); 130 when interrupted (nothing half-written: every output is
-written to a temporary file and renamed).
+nothing written); 130 when interrupted (nothing half-written: a run writes its
+outputs only once every bound is solved, each to a temporary file renamed into
+place, and a Ctrl-C while they are written waits until all are whole).
 """
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib.util
+import os
+import signal
 import sys
+import threading
+from collections.abc import Callable, Iterator
 from pathlib import Path
+from typing import Any
 
 from .case import CaseError, load_case
 from .result import CAUTION
@@ -27,8 +34,14 @@ def main(argv: list[str] | None = None) -> int:
     except CaseError as error:
         print(f"bearbound: {error}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("bearbound: interrupted; no output was left half-written", file=sys.stderr)
+    except KeyboardInterrupt as interrupt:
+        print(f"bearbound: {interrupt.args[0] if interrupt.args else 'interrupted; no output was left half-written'}",
+              file=sys.stderr, flush=True)
+        if isinstance(interrupt, _SolveAbandoned):
+            # The solve thread is still inside the solver and cannot be stopped; it has
+            # written nothing. Leave now rather than let interpreter shutdown race it.
+            sys.stdout.flush()
+            os._exit(130)
         return 130
 
 
@@ -91,22 +104,83 @@ def _run(args) -> int:
         raise CaseError(f"--out: {out_dir} is not allowed; writing {clash.name} there would overwrite "
                         "the case file, choose another folder")
     from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
+    from .report import write_run_files
     from .result import write_result
 
-    result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend)
-    if case.footing.design_load is not None or case.factors is not None:
-        from .safety import factor_of_safety
+    def solve_case():
+        result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend,
+                     progress=sys.stderr.isatty())
+        if case.footing.design_load is not None or case.factors is not None:
+            from .safety import factor_of_safety
 
-        result.factor_of_safety = factor_of_safety(
-            case, result, elements=args.elements, backend=args.backend,
-            progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True))
-    path = write_result(result, out_dir)
-    from .report import write_run_files
+            result.factor_of_safety = factor_of_safety(
+                case, result, elements=args.elements, backend=args.backend,
+                progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True))
+        return result
 
-    write_run_files(result, case, args.case, out_dir, pictures=not args.no_pictures, report=not args.no_report)
+    result = _solve_interruptibly(solve_case, out_dir)
+    with _interrupt_after_writing() as interrupted:
+        path = write_result(result, out_dir)
+        write_run_files(result, case, args.case, out_dir, pictures=not args.no_pictures,
+                        report=not args.no_report)
+    if interrupted:
+        raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
+                                f"first and are whole in {out_dir}")
     print(format_summary(result, path))
     asked = [b for b in (result.lower, result.upper) if b is not None]
     return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+
+
+class _SolveAbandoned(KeyboardInterrupt):
+    """Ctrl-C during the solve: the solve thread is left running and nothing was written."""
+
+
+def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
+    """Run ``work`` (meshing and solving, no output) in a thread and wait for it.
+
+    Python handles a signal only in the main thread, between bytecodes; a solve on
+    the main thread would hold a Ctrl-C until Clarabel returns (tens of seconds on
+    a fine mesh). Clarabel and gmsh release the GIL while they work, so the main
+    thread, waiting here, takes the Ctrl-C at once.
+    """
+    outcome: dict[str, Any] = {}
+
+    def target() -> None:
+        try:
+            outcome["value"] = work()
+        except BaseException as error:  # handed to the main thread below
+            outcome["error"] = error
+
+    thread = threading.Thread(target=target, name="bearbound-solve", daemon=True)
+    thread.start()
+    try:
+        while thread.is_alive():
+            thread.join(0.1)
+    except KeyboardInterrupt:
+        raise _SolveAbandoned(f"interrupted while solving; nothing was written to {out_dir}") from None
+    if "error" in outcome:
+        raise outcome["error"]
+    return outcome["value"]
+
+
+@contextlib.contextmanager
+def _interrupt_after_writing() -> Iterator[list[int]]:
+    """Hold a Ctrl-C while the outputs are written (a second or two) and report it after.
+
+    Each file is renamed into place whole, but a Ctrl-C between two files would leave
+    this run's result.json beside an earlier run's report and pictures. The list
+    yielded holds the signals that arrived.
+    """
+    arrived: list[int] = []
+    if (threading.current_thread() is not threading.main_thread()
+            or signal.getsignal(signal.SIGINT) is signal.SIG_IGN):
+        yield arrived
+        return
+    previous = signal.signal(signal.SIGINT, lambda signum, frame: arrived.append(signum))
+    try:
+        yield arrived
+    finally:
+        signal.signal(signal.SIGINT, previous)
 
 
 def format_summary(result, path: Path | None = None) -> str:

@@ -22,7 +22,8 @@ from .model import Case
 
 # Boundary edge kinds (codes in Mesh.boundary_kind).
 FOOTING, GROUND, SYMMETRY, FAR_SIDE, FAR_BASE = range(5)
-BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base")
+FIXED = 5  # a drawn site's rigid boundary (solver.sitefile): no velocity (upper), any traction (lower)
+BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base", "fixed")
 
 _GMSH_LOCK = threading.Lock()  # gmsh keeps one global model per process
 
@@ -136,6 +137,27 @@ class Mesh:
                       - (p[:, 2, 0] - p[:, 0, 0]) * (p[:, 1, 1] - p[:, 0, 1]))
 
 
+@dataclass(frozen=True)
+class SizeHint:
+    """A wanted element size (m) at the corner nodes of a previous mesh of the same
+    domain, from adaptive refinement (:mod:`solver.adapt`). build_mesh scales it
+    as a whole to meet its element target, so only its shape matters."""
+
+    points: np.ndarray  # (n, 2) m
+    triangles: np.ndarray  # (m, 3) corner nodes
+    size: np.ndarray  # (n,) m
+
+    def estimate_count(self) -> float:
+        """Triangles a mesh following this size would have: about 2.3 * integral of 1/h^2."""
+        p = self.points[self.triangles]
+        area = 0.5 * np.abs((p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1])
+                            - (p[:, 2, 0] - p[:, 0, 0]) * (p[:, 1, 1] - p[:, 0, 1]))
+        return float(2.3 * np.sum(area / self.size[self.triangles].mean(axis=1) ** 2))
+
+
+HINT_SHARE = 0.5  # with a size hint, the graded field alone would give this share of the target
+
+
 def is_symmetric(case: Case) -> bool:
     """A vertical central load on level layered ground is symmetric about x = 0."""
     return (case.footing.load_inclination == 0.0 and case.footing.eccentricity == 0.0
@@ -151,7 +173,11 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     beyond the edge 2 r1 cos(45 - phi/2), depth at most r1. The domain is made
     twice that plus B so that neither bound is restricted by its boundary; the
     result reports whether the upper-bound mechanism stayed clear of it.
+    A drawn site ([geometry] file) has the extent of its drawing (solver.sitefile).
     """
+    if case.geometry is not None:
+        from .sitefile import plan_site_domain
+        return plan_site_domain(case)
     B = case.footing.width
     strata = case.strata()
     phi = max(s.phi_rad for s in strata)
@@ -341,7 +367,8 @@ def _ring_fractions(domain: Domain, B: float, scale: float, sectors: int, reach:
 
 
 def build_mesh(case: Case, order: int, elements: int | None = None,
-               domain: Domain | None = None, fan: bool | None = None) -> Mesh:
+               domain: Domain | None = None, fan: bool | None = None,
+               size_hint: SizeHint | None = None) -> Mesh:
     """Mesh the case's domain with about ``elements`` triangles of the given order.
 
     Without a fan the element size grows linearly with the distance r from
@@ -371,30 +398,46 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     fan : bool, optional
         Build the fans (default ``order == 1``); none is built where there is
         no room (:func:`fan_reach`).
+    size_hint : SizeHint, optional
+        Adaptive refinement: the element size follows the hint (scaled to the
+        target count) where it is finer than the graded field that alone would
+        give HINT_SHARE of the target.
+
+    A drawn site ([geometry] file) is meshed by solver.sitefile instead
+    (``domain``, ``fan`` and ``size_hint`` do not apply to it).
     """
+    if case.geometry is not None:
+        from .sitefile import build_site_mesh
+        return build_site_mesh(case, order, elements)
     domain = domain or plan_domain(case)
     target = elements or case.analysis.elements
     B = case.footing.width
     fan = ((order == 1) if fan is None else fan) and fan_reach(domain, B) > 0
     scale = math.sqrt(_estimate_count(domain, B, fan) / target)
+    # With a hint, the graded field stays at the size that alone would give a
+    # HINT_SHARE of the target (the edges keep their refinement); only the hint
+    # is scaled to meet the target.
+    graded_scale = scale / math.sqrt(HINT_SHARE) if size_hint else None
+    if size_hint:
+        scale = math.sqrt(size_hint.estimate_count() / target)
     layout = None
     with _GMSH_LOCK:
         gmsh = _start_gmsh()
         try:
             tried = {}  # scale -> relative miss of the element count
             for attempt in range(6):
-                layout = _fan_layout(domain, B, scale) if fan else None
+                layout = _fan_layout(domain, B, graded_scale or scale) if fan else None
                 rim = _draw(gmsh, domain, B, layout)
-                count = _mesh_once(gmsh, domain, B, scale, 1, layout)
+                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint, graded_scale)
                 count += layout.n_elements if layout else 0
                 tried[scale] = abs(count / target - 1.0)
                 if tried[scale] < 0.05:
                     break
                 if attempt == 5:  # not converged (small targets): keep the closest
                     scale = min(tried, key=tried.get)
-                    layout = _fan_layout(domain, B, scale) if fan else None
+                    layout = _fan_layout(domain, B, graded_scale or scale) if fan else None
                     rim = _draw(gmsh, domain, B, layout)
-                    _mesh_once(gmsh, domain, B, scale, 1, layout)
+                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint, graded_scale)
                     break
                 scale *= math.sqrt(count / target)
             gmsh_order = 1 if fan else order
@@ -497,10 +540,12 @@ def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np
 
 
 def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
-               layout: FanLayout | None = None) -> int:
+               layout: FanLayout | None = None, size_hint: SizeHint | None = None,
+               graded_scale: float | None = None) -> int:
     mesh = gmsh.model.mesh
     mesh.clear()
-    mesh.field.remove(1) if 1 in mesh.field.list() else None
+    for tag in mesh.field.list():
+        mesh.field.remove(tag)
     centres = [B / 2] if domain.half else [B / 2, -B / 2]
     distance = ", ".join(f"Sqrt((x-({x}))^2+y^2)" for x in centres)
     if domain.slope:  # the mechanism leaves the ground at or below the crest: refine there too
@@ -508,8 +553,22 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     distance = f"Min({distance})" if "," in distance else distance
     edge, grading = (FAN_EDGE_SIZE, FAN_GRADING) if layout else (PLAIN_EDGE_SIZE, PLAIN_GRADING)
     mesh.field.add("MathEval", 1)
-    mesh.field.setString(1, "F", f"{scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
-    mesh.field.setAsBackgroundMesh(1)
+    graded_scale = graded_scale or scale
+    mesh.field.setString(1, "F", f"{graded_scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
+    if size_hint is None:
+        mesh.field.setAsBackgroundMesh(1)
+    else:
+        # the hint as a post-processing view of scalar triangles, all at once
+        view = gmsh.view.add("size hint")
+        p = size_hint.points[size_hint.triangles]  # (m, 3, 2)
+        values = scale * size_hint.size[size_hint.triangles]
+        data = np.concatenate([p[:, :, 0], p[:, :, 1], np.zeros_like(values), values], axis=1)
+        gmsh.view.addListData(view, "ST", len(values), data.ravel().tolist())
+        mesh.field.add("PostView", 2)
+        mesh.field.setNumber(2, "ViewTag", view)
+        mesh.field.add("Min", 3)
+        mesh.field.setNumbers(3, "FieldsList", [1, 2])
+        mesh.field.setAsBackgroundMesh(3)
     gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
     gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
     gmsh.option.setNumber("Mesh.MeshSizeFromCurvature", 0)

@@ -120,6 +120,9 @@ class Analysis:
     bounds: str = "both"  # "lower" | "upper" | "both"
     elements: int = 4000  # target number of triangles in each bound's mesh
     backend: str = "clarabel"  # "clarabel" (its own API) | "cvxpy" (through cvxpy)
+    target_gap: float | None = None  # adaptive refinement until (upper - lower)/lower <= this (fraction)
+    max_steps: int = 6  # adaptive refinement: at most this many solve steps
+    time_limit_s: float = 600.0  # adaptive refinement: no new step that would end after this
 
 
 @dataclass(frozen=True)
@@ -145,6 +148,27 @@ class Stratum:
 
 
 @dataclass(frozen=True)
+class Geometry:
+    """The user's own drawing of the site ([geometry] file: a gmsh .geo script or
+    .msh mesh), as read and checked by :mod:`solver.sitefile`.
+
+    The solver's coordinates put the footing centre at x = 0 and the footing
+    level at y = 0 (``origin`` is that point in the drawing's coordinates, m).
+    Depths are measured down from the footing level (m; negative above it).
+    """
+
+    file: str  # absolute path of the .geo or .msh file
+    sha256: str  # of its bytes when the case was read; the mesh stage re-checks it
+    origin: tuple[float, float]  # m, the footing centre at footing level in the drawing's x, y
+    x_min: float  # m, extent of the soil in the solver's coordinates
+    x_max: float
+    y_min: float
+    y_max: float
+    layer_tops: tuple[float, ...]  # m below the footing level of each layer's highest point (Case.layers order)
+    layer_bottoms: tuple[float, ...]  # m below the footing level of each layer's lowest point
+
+
+@dataclass(frozen=True)
 class Case:
     title: str
     footing: Footing
@@ -154,6 +178,7 @@ class Case:
     factors: Factors | None = None  # partial factors, when the case gives them
     name: str = "case"  # short name for the output folder (the case file's stem)
     source_sha256: str = ""  # hash of the case file's bytes, for reports
+    geometry: Geometry | None = None  # a drawn site; None: level layers as the keys describe
 
     # -- derived quantities used by the geometry and the bounds -------------
 
@@ -217,7 +242,17 @@ class Case:
         ``pore_pressure_at_base_kPa()``. For Tresca layers this is the same
         analysis as one in total stress (a hydrostatic pore pressure does not
         change the Tresca yield condition).
+
+        A drawn site has one stratum per layer, in ``layers`` order: ``top`` is the
+        depth of the layer's highest point, where c (or su) is the layer's value,
+        rising by its gradient per m below that level (no water table).
         """
+        if self.geometry is not None:
+            return [Stratum(index, layer.name, top, bottom, davis_reduction(layer)[0] * layer.c_top_kPa,
+                            davis_reduction(layer)[0] * layer.c_gradient_kPa_per_m, davis_reduction(layer)[1],
+                            layer.unit_weight, False)
+                    for index, (layer, top, bottom) in enumerate(zip(self.layers, self.geometry.layer_tops,
+                                                                     self.geometry.layer_bottoms))]
         water = self.water_depth_below_base()
         out = []
         for index, layer in enumerate(self.layers):

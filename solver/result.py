@@ -51,6 +51,7 @@ class Result:
     domain: dict
     backend: str
     pore_pressure_at_base_kPa: float = 0.0  # pressures are effective; total adds this
+    adapt_history: list[dict] | None = None  # adaptive refinement: one row per step
     notes: list[str] = field(default_factory=list)
     hand_methods: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
@@ -84,6 +85,8 @@ class Result:
         }
         if self.hand_methods:
             data["hand_methods"] = self.hand_methods
+        if self.adapt_history is not None:
+            data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:
             data["factor_of_safety"] = self.factor_of_safety
         return _clean(data)
