@@ -39,6 +39,7 @@ verify: setup
 
 bench: setup
 	@$(PY) benchmarks/run.py
+	@$(PY) benchmarks/cases.py
 	@$(PY) benchmarks/sweep_bench.py
 
 clean:
