@@ -147,7 +147,13 @@ def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
     B = mesh.footing_width
     depth = float(-mesh.points[moving, 1].min()) if moving.any() else 0.0
     half_width = float(np.abs(mesh.points[moving, 0]).max()) if moving.any() else 0.0
+    x_lo = float(mesh.points[moving, 0].min()) if moving.any() else 0.0
+    x_hi = float(mesh.points[moving, 0].max()) if moving.any() else 0.0
+    if mesh.domain.half:
+        x_lo = -x_hi
     return {"mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
+            "mechanism_x_min_m": x_lo, "mechanism_x_max_m": x_hi,
+            "mechanism_width_m": x_hi - x_lo, "mechanism_width_over_B": (x_hi - x_lo) / B,
             "mechanism_half_width_m": half_width, "mechanism_half_width_over_B": half_width / B,
             "max_speed_next_to_far_boundary": float(speed[near_far].max(initial=0.0)),
             "mechanism_clear_of_boundary": bool(speed[near_far].max(initial=0.0) < CLEAR_FRACTION)}

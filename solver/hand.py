@@ -4,16 +4,49 @@ These are the hand methods an engineer would use to check a strip footing:
 Terzaghi (1943), Meyerhof (1963), Brinch Hansen (1970), Vesic (1973/1975) and
 EN 1997-1:2004 Annex D on homogeneous ground, and Meyerhof & Hanna (1978),
 Brown & Meyerhof (1969) and two "equivalent homogeneous" shortcuts on layered
-ground. Each estimate is the ultimate average pressure q_u (kPa) under a strip
-footing carrying a vertical central load. Where a method does not apply to the
-case, the estimate carries ``pressure_kPa = None`` and a note saying why; no
-number is made up.
+ground. Each estimate is the vertical collapse load of the strip divided by
+its full width B (``pressure_kPa``, kPa), the quantity both bounds report.
+Where a method does not cover the case, the estimate carries
+``pressure_kPa = None`` and a note saying why; no number is made up.
 
-Units: lengths in m, stresses in kPa, unit weights in kN/m^3, angles in degrees.
+The case's loads and ground enter every method the same way:
+
+* eccentric load (e, m): Meyerhof's effective width B' = B - 2|e| (Meyerhof
+  1953, 1963). The method's pressure q_u' acts on B'; the vertical collapse
+  load is V = q_u' B' and ``pressure_kPa`` = q_u' B'/B. B' is in ``factors``
+  as "B_prime_m".
+* inclined load (delta from vertical): each method's own inclination factors
+  where it has them. Most need H and V: for a given inclination H = V tan(delta),
+  so V is solved for (``solve_vertical_load``, brentq) and the note says so.
+  Meyerhof's (1963) factors depend on delta alone, so no solve is needed.
+  Terzaghi (1943), Brown & Meyerhof (1969) and the two-layer formula of
+  Meyerhof & Hanna (1978) as coded here have none: None, with the reason.
+  A rough base cannot carry more horizontal load than the soil under it:
+  H <= B' c + V tan(phi) (common practice, the sliding check); where that
+  limit is reached first, the estimate is the sliding load and says so.
+* sloping ground beside the footing (slope angle beta, falling away on the +x
+  side): Brinch Hansen's (1970) and Vesic's (1975) ground-inclination factors.
+  They are for a footing at the crest of an unbounded slope; for a footing set
+  back from the crest, or a slope of limited height, they are applied
+  unchanged, as if at the crest of an unbounded slope (conservative; the note
+  says so). Meyerhof (1957) gave the setback effect only as charts, not
+  reproduced; Terzaghi (1943), Meyerhof (1963) and EN 1997-1 Annex D have no
+  ground-inclination factors: those estimates are None ("does not cover a
+  sloping ground"), as are the layered methods.
+* water table: q is the effective overburden (``Case.overburden_kPa``); in
+  the N_gamma term gamma is the mean effective unit weight over B' below the
+  base (common practice: gamma' = gamma_sat - gamma_w below the water table,
+  which is linear interpolation between gamma' and gamma when the water
+  table lies between the base and B' below it). The pressures are effective,
+  as the bounds' are; with the water table above the base, the total contact
+  pressure adds the pore pressure there (the note gives it).
+
+Units: lengths in m, stresses in kPa, unit weights in kN/m^3, angles in degrees,
+line loads in kN/m.
 
 Bibliographic details (journal volumes, pages, table numbers) are from memory
-and should be checked before they are cited. Values recalled rather than read
-from the source are marked "from memory" where they are used.
+and should be checked before they are cited. Values and formulas recalled
+rather than read from the source are marked "from memory" where they are used.
 
 Results are for checking by a qualified engineer; local codes and licensed
 practice govern.
@@ -26,7 +59,14 @@ Reissner, H. (1924). Zum Erddruckproblem. Proc. 1st Int. Congress of Applied
     Mechanics, Delft, 295-311.
 Terzaghi, K. (1943). Theoretical Soil Mechanics. John Wiley & Sons, New York.
 Bowles, J.E. (1996). Foundation Analysis and Design, 5th ed. McGraw-Hill,
-    New York (Table 4-2: Terzaghi's factors; table number from memory).
+    New York (Table 4-2: Terzaghi's factors; Tables 4-1, 4-5: the factors of
+    Meyerhof, Hansen and Vesic as tabulated there; table numbers from memory).
+Meyerhof, G.G. (1953). The bearing capacity of foundations under eccentric
+    and inclined loads. Proc. 3rd Int. Conf. on Soil Mechanics and Foundation
+    Engineering, Zurich, Vol. 1, 440-445.
+Meyerhof, G.G. (1957). The ultimate bearing capacity of foundations on
+    slopes. Proc. 4th Int. Conf. on Soil Mechanics and Foundation Engineering,
+    London, Vol. 1, 384-386.
 Meyerhof, G.G. (1963). Some recent research on the bearing capacity of
     foundations. Canadian Geotechnical Journal 1(1), 16-26.
 Brinch Hansen, J. (1970). A revised and extended formula for bearing capacity.
@@ -52,7 +92,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from solver.model import Case, Layer
+from collections.abc import Callable
+
+from scipy.optimize import brentq
+
+from solver.model import WATER_UNIT_WEIGHT, Case, Layer
 
 # -- references, one line each, for HandEstimate.source -----------------------
 
@@ -78,6 +122,11 @@ SRC_BROWN_MEYERHOF = ("Brown, J.D. & Meyerhof, G.G. (1969). Experimental study o
                       "capacity in layered clays. Proc. 7th Int. Conf. Soil Mech. Found. Eng., "
                       "Mexico City, Vol. 2, 45-51 (formula from memory)")
 SRC_SHORTCUT = "common practice (equivalent homogeneous soil); factors: " + SRC_MEYERHOF
+SRC_MEYERHOF_1953 = ("Meyerhof, G.G. (1953). The bearing capacity of foundations under eccentric "
+                     "and inclined loads. Proc. 3rd Int. Conf. Soil Mech. Found. Eng., Zurich, "
+                     "Vol. 1, 440-445 (effective width B' = B - 2e)")
+SRC_MEYERHOF_1957 = ("Meyerhof, G.G. (1957). The ultimate bearing capacity of foundations on "
+                     "slopes. Proc. 4th Int. Conf. Soil Mech. Found. Eng., London, Vol. 1, 384-386")
 
 METHODS = ("terzaghi", "meyerhof", "hansen", "vesic", "ec7")
 
@@ -88,6 +137,7 @@ INFLUENCE_DEPTH_WIDTHS = 2.0
 AVERAGING_DEPTH_WIDTHS = 1.0
 
 _PHI_ZERO_RAD = 1e-9  # below this the phi -> 0 limits of Nc are used
+_PHI_ZERO_DEG = math.degrees(_PHI_ZERO_RAD)  # the same, degrees: phi = 0 forms of the factors
 
 # Terzaghi's factors as tabulated by Bowles (1996), Table 4-2 (values from
 # memory). Terzaghi (1943) gave N_gamma only as a curve; Bowles' N_gamma comes
@@ -111,11 +161,14 @@ class HandEstimate:
     source : str
         The full reference.
     pressure_kPa : float or None
-        Ultimate average pressure q_u (kPa) under the strip for a vertical
-        central load; None where the method does not apply.
+        Vertical collapse load of the strip divided by its full width B, kPa
+        (for a central vertical load, the ultimate average pressure q_u; for an
+        eccentric load q_u' B'/B); None where the method does not apply.
     factors : dict[str, float]
-        Bearing-capacity factors "Nc", "Nq", "Ngamma" and any shape or depth
-        factors used ("sc", "dc", ...); empty where the method does not apply.
+        Bearing-capacity factors "Nc", "Nq", "Ngamma" and any shape, depth,
+        inclination or ground factors used ("sc", "dc", "iq", "gq", ...), the
+        effective width "B_prime_m" (m) and, for an inclined load, the solved
+        "V_kN_per_m" and "H_kN_per_m"; empty where the method does not apply.
     note : str
         Why the method does not apply, or the assumptions made.
     """
@@ -309,6 +362,238 @@ def _strip_pressure(c: float, q: float, gamma: float, width: float,
             + 0.5 * gamma * width * f["Ngamma"] * d["dgamma"])
 
 
+# -- eccentric and inclined loads, sloping ground -------------------------------
+
+def effective_width(width_m: float, eccentricity_m: float) -> float:
+    """Meyerhof's effective width B' = B - 2|e|, m (Meyerhof 1953, 1963).
+
+    The load is taken as uniform over the width B' centred on its line of
+    action. Raises ValueError when |e| >= B/2 (no width left).
+
+    >>> effective_width(2.0, 0.25), effective_width(2.0, -0.25)
+    (1.5, 1.5)
+    """
+    width_eff = float(width_m) - 2.0 * abs(float(eccentricity_m))
+    if not (math.isfinite(width_eff) and width_eff > 0.0):
+        raise ValueError(f"eccentricity_m: {eccentricity_m!r} is not allowed; must be less than "
+                         f"B/2 = {width_m / 2:g} (m) in size")
+    return width_eff
+
+
+def meyerhof_inclination_factors(delta_deg: float, phi_deg: float) -> dict[str, float]:
+    """Meyerhof's (1963) inclination factors, Can. Geotech. J. 1(1) (from memory).
+
+    ic = iq = (1 - delta/90)^2 and igamma = (1 - delta/phi)^2 for delta <= phi,
+    0 beyond (delta, phi in degrees). With phi = 0, igamma is 0 for any
+    delta > 0 (N_gamma is 0 there anyway). They depend on the inclination
+    alone, not on V or H.
+
+    >>> f = meyerhof_inclination_factors(10.0, 30.0)
+    >>> round(f["ic"], 4), round(f["igamma"], 4)
+    (0.7901, 0.4444)
+    """
+    delta = abs(float(delta_deg))
+    ic = (1.0 - delta / 90.0) ** 2
+    if delta == 0.0:
+        igamma = 1.0
+    elif phi_deg <= 0.0 or delta >= phi_deg:
+        igamma = 0.0
+    else:
+        igamma = (1.0 - delta / phi_deg) ** 2
+    return {"ic": ic, "iq": ic, "igamma": igamma}
+
+
+def _shear_ratio(H: float, width_eff: float, c_kPa: float) -> float:
+    """H / (A' c), capped at 1 (the sliding limit of a rough base on phi = 0 soil)."""
+    if H <= 0.0:
+        return 0.0
+    return min(H / (width_eff * c_kPa), 1.0) if c_kPa > 0.0 else 1.0
+
+
+def _load_ratio(phi_deg: float, H: float, V: float, c_kPa: float, width_eff: float) -> float:
+    """H / (V + A' c cot phi) with A' = B' per m run; 0 for H = 0."""
+    if H == 0.0:
+        return 0.0
+    return H / (V + width_eff * c_kPa / math.tan(math.radians(phi_deg)))
+
+
+def hansen_inclination_factors(phi_deg: float, H: float, V: float, c_kPa: float,
+                               width_eff: float) -> dict[str, float]:
+    """Brinch Hansen's (1970) inclination factors for a level base, DGI Bulletin 28
+    (from memory, as tabulated by Bowles 1996, Table 4-5).
+
+    H, V in kN/m; A' = B' (m^2 per m run); the base adhesion ca is taken as c
+    (a rough base, common practice).
+
+    * phi > 0: iq = [1 - 0.5 H/(V + A' c cot phi)]^5,
+      igamma = [1 - 0.7 H/(V + A' c cot phi)]^5, ic = iq - (1 - iq)/(Nq - 1).
+    * phi = 0: the additive i'c = 0.5 - 0.5 sqrt(1 - H/(A' c)), used as
+      q_u = (2 + pi) su (1 + d'c - i'c - g'c) + q; H <= A' c.
+
+    A negative base of a power is taken as 0.
+
+    >>> round(hansen_inclination_factors(0.0, 20.0, 100.0, 20.0, 2.0)["i'c"], 4)  # H/(A' c) = 0.5
+    0.1464
+    """
+    if phi_deg <= _PHI_ZERO_DEG:
+        return {"i'c": 0.5 - 0.5 * math.sqrt(1.0 - _shear_ratio(H, width_eff, c_kPa))}
+    ratio = _load_ratio(phi_deg, H, V, c_kPa, width_eff)
+    iq = max(1.0 - 0.5 * ratio, 0.0) ** 5
+    igamma = max(1.0 - 0.7 * ratio, 0.0) ** 5
+    nq = _nq_reissner(math.radians(phi_deg))
+    return {"ic": iq - (1.0 - iq) / (nq - 1.0), "iq": iq, "igamma": igamma}
+
+
+def vesic_inclination_factors(phi_deg: float, H: float, V: float, c_kPa: float,
+                              width_eff: float, m: float = 2.0) -> dict[str, float]:
+    """Vesic's (1973, 1975) inclination factors (from memory).
+
+    m = (2 + B/L)/(1 + B/L) for a load inclined in the B direction: 2 for a strip.
+
+    * iq = [1 - H/(V + A' c cot phi)]^m, igamma = [1 - H/(V + A' c cot phi)]^(m+1),
+      ic = iq - (1 - iq)/(Nc tan phi) for phi > 0;
+    * ic = 1 - m H/(A' c Nc) for phi = 0 (Nc = 2 + pi).
+
+    H, V in kN/m, A' = B'; ca = c (rough base). A negative base is taken as 0.
+
+    >>> round(vesic_inclination_factors(30.0, 10.0, 100.0, 0.0, 2.0)["igamma"], 4)
+    0.729
+    """
+    if phi_deg <= _PHI_ZERO_DEG:
+        ic = 1.0 - m * _shear_ratio(H, width_eff, c_kPa) / (math.pi + 2.0)
+        return {"ic": max(ic, 0.0), "iq": 1.0, "igamma": 1.0, "m": m}
+    base = max(1.0 - _load_ratio(phi_deg, H, V, c_kPa, width_eff), 0.0)
+    iq, igamma = base ** m, base ** (m + 1.0)
+    phi_rad = math.radians(phi_deg)
+    nc = _nc_prandtl(_nq_reissner(phi_rad), phi_rad)
+    return {"ic": iq - (1.0 - iq) / (nc * math.tan(phi_rad)), "iq": iq, "igamma": igamma, "m": m}
+
+
+def ec7_inclination_factors(phi_deg: float, H: float, V: float, c_kPa: float,
+                            width_eff: float, m: float = 2.0) -> dict[str, float]:
+    """EN 1997-1:2004 Annex D.4 (drained) inclination factors (from memory).
+
+    iq = [1 - H/(V + A' c' cot phi')]^m, igamma = [1 - H/(V + A' c' cot phi')]^(m+1),
+    ic = iq - (1 - iq)/(Nc tan phi'), with m = mB = (2 + B'/L')/(1 + B'/L') for
+    H in the direction of B': 2 for a strip. A negative base is taken as 0.
+    For phi' = 0 see :func:`ec7_undrained_ic` (D.3).
+    """
+    if phi_deg <= _PHI_ZERO_DEG:
+        raise ValueError(f"phi_deg: {phi_deg!r} is not allowed; D.4 needs phi' > 0 "
+                         "(see ec7_undrained_ic for D.3)")
+    return vesic_inclination_factors(phi_deg, H, V, c_kPa, width_eff, m)
+
+
+def ec7_undrained_ic(H: float, width_eff: float, cu_kPa: float) -> float:
+    """EN 1997-1:2004 Annex D.3 (undrained): ic = 0.5 (1 + sqrt(1 - H/(A' cu))),
+    H <= A' cu (from memory). H in kN/m, A' = B' (m^2 per m run).
+
+    >>> ec7_undrained_ic(0.0, 2.0, 40.0), ec7_undrained_ic(80.0, 2.0, 40.0)
+    (1.0, 0.5)
+    """
+    return 0.5 * (1.0 + math.sqrt(1.0 - _shear_ratio(H, width_eff, cu_kPa)))
+
+
+def hansen_ground_factors(phi_deg: float, beta_deg: float) -> dict[str, float] | None:
+    """Brinch Hansen's (1970) ground-inclination factors, DGI Bulletin 28 (from
+    memory, as tabulated by Bowles 1996, Table 4-5).
+
+    For a footing at the crest of ground falling away at beta (degrees):
+
+    * phi > 0: gc = 1 - beta/147, gq = ggamma = (1 - 0.5 tan beta)^5;
+    * phi = 0: the additive g'c = beta/147 (q_u = (2 + pi) su (1 + d'c - i'c - g'c) + q).
+
+    beta/147 (degrees) is 2 beta/(2 + pi) with beta in radians: the Prandtl
+    field with its passive fan shortened by beta, Nc = 2 + pi - 2 beta
+    (common practice). Returns None for phi > 0 and beta >= phi, where the
+    cohesionless slope itself would be at failure and the factors do not hold.
+
+    >>> f = hansen_ground_factors(30.0, 10.0)
+    >>> round(f["gc"], 4), round(f["gq"], 4)
+    (0.932, 0.6304)
+    """
+    beta = float(beta_deg)
+    if phi_deg > _PHI_ZERO_DEG and beta >= phi_deg:
+        return None
+    if phi_deg <= _PHI_ZERO_DEG:
+        return {"g'c": beta / 147.0, "gq": 1.0, "ggamma": 1.0}
+    g = (1.0 - 0.5 * math.tan(math.radians(beta))) ** 5
+    return {"gc": 1.0 - beta / 147.0, "gq": g, "ggamma": g}
+
+
+def vesic_ground_factors(phi_deg: float, beta_deg: float) -> dict[str, float] | None:
+    """Vesic's (1975) ground-inclination factors (from memory).
+
+    For a footing at the crest of ground falling away at beta:
+
+    * gq = ggamma = (1 - tan beta)^2; gc = gq - (1 - gq)/(Nc tan phi) for phi > 0
+      (some tabulations print 5.14 tan phi in place of Nc tan phi);
+    * phi = 0: the additive g'c = 2 beta/(2 + pi) (beta in radians), and
+      N_gamma = -2 sin beta in place of 0: self-weight now works against the
+      footing, as the ground falls away.
+
+    Returns None for phi > 0 and beta >= phi (Vesic's limit beta < phi).
+
+    >>> f = vesic_ground_factors(0.0, 30.0)
+    >>> round(f["g'c"], 4), round(f["Ngamma"], 4)
+    (0.2037, -1.0)
+    """
+    beta_rad = math.radians(float(beta_deg))
+    if phi_deg > _PHI_ZERO_DEG and beta_deg >= phi_deg:
+        return None
+    if phi_deg <= _PHI_ZERO_DEG:
+        return {"g'c": 2.0 * beta_rad / (math.pi + 2.0), "gq": 1.0, "ggamma": 1.0,
+                "Ngamma": -2.0 * math.sin(beta_rad)}
+    g = (1.0 - math.tan(beta_rad)) ** 2
+    phi_rad = math.radians(phi_deg)
+    nc = _nc_prandtl(_nq_reissner(phi_rad), phi_rad)
+    return {"gc": g - (1.0 - g) / (nc * math.tan(phi_rad)), "gq": g, "ggamma": g}
+
+
+def sliding_limit_kN_per_m(tan_delta: float, c_kPa: float, phi_deg: float,
+                           width_eff: float) -> float:
+    """Largest V (kN/m) a rough base can carry at H = V tan(delta) before it slides.
+
+    Sliding in the soil just under a rough base: H <= B' c + V tan(phi)
+    (common practice). inf when tan(delta) <= tan(phi) and nothing limits V.
+
+    >>> round(sliding_limit_kN_per_m(math.tan(math.radians(20.0)), 40.0, 0.0, 2.0), 2)
+    219.8
+    """
+    excess = tan_delta - math.tan(math.radians(phi_deg))
+    if tan_delta <= 0.0 or excess <= 0.0:
+        return math.inf
+    return width_eff * c_kPa / excess
+
+
+def solve_vertical_load(pressure_kPa: Callable[[float, float], float], width_eff: float,
+                        tan_delta: float, v_limit: float = math.inf) -> tuple[float, bool]:
+    """Vertical collapse load V (kN/m) of a method whose factors need H and V.
+
+    Solves V = B' q_u'(V, H) with H = V tan(delta) by brentq, where
+    ``pressure_kPa(V, H)`` is the method's q_u' on the effective width B'. q_u'
+    must not rise as V (and with it H) grows, which holds for every factor
+    set here; the root is then unique and lies in [0, B' q_u'(0, 0)].
+    ``v_limit`` caps V (sliding, :func:`sliding_limit_kN_per_m`); returns
+    (V, True) when the cap is reached before the formula's root.
+
+    >>> v, capped = solve_vertical_load(lambda V, H: 100.0 - 0.1 * H, 2.0, 1.0)
+    >>> round(v, 4), capped
+    (166.6667, False)
+    """
+    top = width_eff * pressure_kPa(0.0, 0.0)
+    if tan_delta == 0.0:
+        return min(top, v_limit), top > v_limit
+    def gap(V: float) -> float:
+        return V - width_eff * pressure_kPa(V, V * tan_delta)
+    if v_limit < top and gap(v_limit) <= 0.0:
+        return v_limit, True
+    hi = min(top, v_limit)
+    if gap(hi) <= 0.0:  # only at round-off: q_u' did not fall at all
+        return hi, False
+    return float(brentq(gap, 0.0, hi, xtol=1e-12 * max(top, 1.0), rtol=1e-12)), False
+
+
 # -- Terzaghi --------------------------------------------------------------------
 
 _TERZAGHI_SHAPES = ("strip", "square", "circle", "rectangle")
@@ -406,14 +691,15 @@ class _Soil:
     tresca: bool
     c_kPa: float  # c' (mohr-coulomb) or su at the top of the part considered (tresca)
     phi_deg: float  # 0 for tresca
-    gamma: float  # kN/m^3
+    gamma: float  # kN/m^3, bulk (above the water table)
     gradient: float  # kPa/m (tresca)
+    layer: Layer | None = None  # the layer itself, for its weight below the water table
 
 
 def _soil(layer: Layer, c_top: float) -> _Soil:
     if layer.is_tresca:
-        return _Soil(layer.name, True, c_top, 0.0, layer.unit_weight, layer.strength_gradient)
-    return _Soil(layer.name, False, layer.cohesion, layer.friction_angle, layer.unit_weight, 0.0)
+        return _Soil(layer.name, True, c_top, 0.0, layer.unit_weight, layer.strength_gradient, layer)
+    return _Soil(layer.name, False, layer.cohesion, layer.friction_angle, layer.unit_weight, 0.0, layer)
 
 
 def _same_ground(a: tuple[Layer, float, float, float], b: tuple[Layer, float, float, float]) -> bool:
@@ -423,6 +709,10 @@ def _same_ground(a: tuple[Layer, float, float, float], b: tuple[Layer, float, fl
     lb, _, _, c_b = b
     close = lambda x, y: math.isclose(x, y, rel_tol=1e-9, abs_tol=1e-9)  # noqa: E731
     if la.model != lb.model or not close(la.unit_weight, lb.unit_weight):
+        return False
+    saturated = [lay.unit_weight if lay.saturated_unit_weight is None else lay.saturated_unit_weight
+                 for lay in (la, lb)]
+    if not close(*saturated):
         return False
     if la.is_tresca:
         return (close(la.strength_gradient, lb.strength_gradient)
@@ -450,6 +740,9 @@ def _homogeneous(case: Case) -> tuple[_Soil | None, str]:
                          "(conservative: su rises with depth)")
     else:
         notes.append(f"c' = {soil.c_kPa:.4g} kPa, phi' = {soil.phi_deg:.4g} deg")
+        if first[0].dilation_angle is not None:
+            notes.append("the factors take c', phi' as given; the bounds' Davis (1968) reduction "
+                         "for the dilation angle is not applied here")
     return soil, "; ".join(notes)
 
 
@@ -457,48 +750,225 @@ def _none(method: str, source: str, why: str) -> HandEstimate:
     return HandEstimate(method, source, None, {}, why)
 
 
+@dataclass(frozen=True)
+class _Setting:
+    """The case's loads and ground beside the footing, as every hand method sees them."""
+
+    width: float  # B, m
+    width_eff: float  # B' = B - 2|e|, m
+    eccentricity: float  # m
+    delta_deg: float  # |load inclination| from vertical, degrees
+    beta_deg: float  # slope angle, degrees (0: level ground)
+    setback: float  # m, right edge of the footing to the crest
+    slope_height: float | None  # m
+    q: float  # effective overburden at footing level, kPa
+    water_below_base: float  # m (negative: above the base; inf: none)
+    pore_pressure_base: float  # kPa
+
+    @property
+    def tan_delta(self) -> float:
+        return math.tan(math.radians(self.delta_deg))
+
+
+def _setting(case: Case) -> _Setting:
+    f, g = case.footing, case.ground
+    return _Setting(f.width, effective_width(f.width, f.eccentricity), f.eccentricity,
+                    abs(f.load_inclination), g.slope_angle, g.crest_setback, g.slope_height,
+                    case.overburden_kPa(), case.water_depth_below_base(),
+                    case.pore_pressure_at_base_kPa())
+
+
+def _mean_gamma(case: Case, layer: Layer, top: float, bottom: float) -> float:
+    """Mean effective unit weight (kN/m^3) of ``layer``'s soil between depths ``top``
+    and ``bottom`` below the base (m), as if it filled that range: gamma above the
+    water table, gamma_sat - gamma_w below it (common practice). Over [0, B'] this is
+    the usual rule for the N_gamma term: gamma' when the water table is at or above
+    the base, gamma when it is B' or more below, linear in between. A range of no
+    thickness gives the value at ``top``.
+
+    >>> from solver.model import Footing, Ground
+    >>> sand = Layer("sand", "mohr-coulomb", None, 18.0, friction_angle=30.0, saturated_unit_weight=20.0)
+    >>> wet = Case("t", Footing(2.0), Ground(water_table=0.5), (sand,))
+    >>> round(_mean_gamma(wet, sand, 0.0, 2.0), 4)  # 0.25 x 18 + 0.75 x (20 - 9.81)
+    12.1425
+    """
+    dry = layer.unit_weight
+    wet = max((layer.saturated_unit_weight if layer.saturated_unit_weight is not None
+               else layer.unit_weight) - WATER_UNIT_WEIGHT, 0.0)
+    water = case.water_depth_below_base()
+    if bottom <= top:
+        return dry if top < water else wet
+    dry_part = min(max(water, top), bottom) - top
+    return (dry * dry_part + wet * (bottom - top - dry_part)) / (bottom - top)
+
+
+def _setting_notes(st: _Setting, soil: _Soil | None, gamma: float | None) -> list[str]:
+    """The notes every method shares about the loads, the ground and the water."""
+    notes = []
+    if st.eccentricity != 0.0:
+        notes.append(f"eccentric load e = {st.eccentricity:.4g} m: effective width B' = B - 2|e| = "
+                     f"{st.width_eff:.4g} m (Meyerhof 1953, 1963); pressure = q_u' B'/B")
+    if math.isfinite(st.water_below_base) and gamma is not None and soil is not None \
+            and not soil.tresca and st.water_below_base < st.width_eff:
+        notes.append(f"water table {st.water_below_base:.3g} m below the base: gamma = {gamma:.4g} "
+                     "kN/m^3 in the N_gamma term (mean effective weight over B' below the base, "
+                     "common practice)")
+    if st.pore_pressure_base > 0.0:
+        notes.append(f"effective pressure (q' = {st.q:.4g} kPa): the total contact pressure adds "
+                     f"the pore pressure {st.pore_pressure_base:.4g} kPa at the base")
+    if st.beta_deg > 0.0 and st.delta_deg > 0.0:
+        notes.append("the factors do not tell which way H points; toward the slope is the worse case")
+    return notes
+
+
+def _slope_note(st: _Setting) -> str:
+    where = (f"footing set back {st.setback:.3g} m from the crest: factors applied as if at the crest"
+             if st.setback > 0.0 else "footing at the crest")
+    return (f"ground falls away at beta = {st.beta_deg:.3g} deg; {where} of an unbounded slope "
+            f"(conservative; slope height {st.slope_height:.3g} m not used); the slope's own "
+            "stability is a separate check")
+
+
+NO_SLOPE = "does not cover a sloping ground"
+
+
+def _inclined_note(st: _Setting, capped: bool, solved: bool) -> str:
+    text = f"load inclined {st.delta_deg:.3g} deg from vertical: H = V tan(delta)"
+    if solved:
+        text += "; V solved from V = B' q_u'(V, H) (brentq), as the i factors depend on H and V"
+    if capped:
+        text += ("; limited by sliding under the rough base, H = B' c + V tan(phi) (common "
+                 "practice, the separate sliding check): the value is the sliding load")
+    return text
+
+
+def _finish(name: str, source: str, st: _Setting, V: float, factors: dict[str, float],
+            notes: list[str]) -> HandEstimate:
+    """The estimate from the vertical collapse load V (kN/m): pressure V/B."""
+    factors = {**factors, "B_prime_m": st.width_eff}
+    if st.eccentricity != 0.0:
+        source = f"{source}; B' after {SRC_MEYERHOF_1953}"
+    if st.delta_deg > 0.0:
+        factors.update(V_kN_per_m=V, H_kN_per_m=V * st.tan_delta)
+    return HandEstimate(name, source, float(V / st.width), factors,
+                        "; ".join(n for n in notes if n))
+
+
 # -- homogeneous methods ----------------------------------------------------------
 
 def _terzaghi_on(case: Case, soil: _Soil | None, why: str, local_shear: bool) -> HandEstimate:
+    """Terzaghi (1943) on B' with the effective gamma; no inclination or ground factors."""
     name = f"Terzaghi (1943), {'local' if local_shear else 'general'} shear"
     if soil is None:
         return _none(name, SRC_TERZAGHI, why)
+    st = _setting(case)
+    if st.delta_deg > 0.0:
+        return _none(name, SRC_TERZAGHI, "inclined load: Terzaghi (1943) gives no inclination "
+                                         "factors - see Meyerhof, Hansen, Vesic, EN 1997-1")
+    if st.beta_deg > 0.0:
+        return _none(name, SRC_TERZAGHI, f"{NO_SLOPE}: Terzaghi (1943) has no ground-inclination "
+                                         "factors - see Hansen, Vesic")
     phi_used = soil.phi_deg if not local_shear else math.degrees(
         math.atan(2.0 / 3.0 * math.tan(math.radians(soil.phi_deg))))
     if phi_used > 50.0:
         return _none(name, SRC_TERZAGHI, f"phi = {phi_used:.4g} deg is beyond Terzaghi's "
                                          "table (0 to 50 deg)")
-    est = terzaghi_footing(soil.phi_deg, soil.c_kPa, soil.gamma, case.footing.width,
-                           case.overburden_kPa(), "strip", local_shear=local_shear)
-    notes = [why, est.note]
+    gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
+    est = terzaghi_footing(soil.phi_deg, soil.c_kPa, gamma, st.width_eff, st.q, "strip",
+                           local_shear=local_shear)
+    notes = [why, est.note, *_setting_notes(st, soil, gamma)]
+    if st.eccentricity != 0.0:
+        notes.append("B' with Terzaghi's factors is common practice, not Terzaghi's")
     if case.footing.base == "smooth" and soil.phi_deg > 0.0 and soil.gamma > 0.0:
         notes.append("Terzaghi's mechanism assumes a rough base; this footing is smooth "
                      "(common practice)")
-    return HandEstimate(est.method, est.source, est.pressure_kPa, est.factors, "; ".join(notes))
+    return _finish(est.method, est.source, st, est.pressure_kPa * st.width_eff, est.factors, notes)
+
+
+_GENERAL = {
+    "meyerhof": ("Meyerhof (1963)", SRC_MEYERHOF, meyerhof_depth_factors),
+    "hansen": ("Brinch Hansen (1970)", SRC_HANSEN, hansen_depth_factors),
+    "vesic": ("Vesic (1973/1975)", SRC_VESIC, vesic_depth_factors),
+}
 
 
 def _general_on(case: Case, soil: _Soil | None, why: str, method: str) -> HandEstimate:
-    """Meyerhof, Hansen or Vesic on homogeneous ground, strip, with depth factors."""
-    name, source, depth = {
-        "meyerhof": ("Meyerhof (1963)", SRC_MEYERHOF, meyerhof_depth_factors),
-        "hansen": ("Brinch Hansen (1970)", SRC_HANSEN, hansen_depth_factors),
-        "vesic": ("Vesic (1973/1975)", SRC_VESIC, vesic_depth_factors),
-    }[method]
+    """Meyerhof, Hansen or Vesic on homogeneous ground: strip, depth, inclination and
+    (Hansen, Vesic) ground factors, on B'.
+
+    phi > 0 (and Meyerhof at any phi), multiplicative:
+    q_u' = c Nc dc ic gc + q Nq dq iq gq + 0.5 gamma B' Ngamma dgamma igamma ggamma.
+    phi = 0, Hansen and Vesic, their additive form (from memory):
+    q_u' = (2 + pi) su (1 + d'c - i'c - g'c) + q (+ 0.5 gamma B' Ngamma, Vesic on a slope),
+    with d'c = dc - 1 and Vesic's i'c = 1 - ic = m H/(A' su Nc).
+    Depth factors use D/B with the full width (common practice).
+    """
+    name, source, depth = _GENERAL[method]
     if soil is None:
         return _none(name, source, why)
-    width, embedment = case.footing.width, case.footing.embedment
-    f = bearing_factors(method, soil.phi_deg)
-    d = depth(soil.phi_deg, embedment / width)
-    pressure = _strip_pressure(soil.c_kPa, case.overburden_kPa(), soil.gamma, width, f, d)
-    factors = {**f, "sc": 1.0, "sq": 1.0, "sgamma": 1.0, **d}
-    notes = [why, "strip: shape factors 1"]
-    notes.append(f"depth factors for D/B = {embedment / width:.3g}" if embedment > 0.0
-                 else "surface footing: depth factors 1")
-    return HandEstimate(name, source, float(pressure), factors, "; ".join(notes))
+    st = _setting(case)
+    phi, c = soil.phi_deg, soil.c_kPa
+    zero = phi <= _PHI_ZERO_DEG
+    ground: dict[str, float] = {}
+    if st.beta_deg > 0.0:
+        if method == "meyerhof":
+            return _none(name, source, f"{NO_SLOPE}: Meyerhof (1963) has no ground-inclination "
+                                       "factors, and the slope charts of " + SRC_MEYERHOF_1957
+                                       + " are not reproduced here - see Hansen, Vesic")
+        found = (hansen_ground_factors if method == "hansen" else vesic_ground_factors)(phi, st.beta_deg)
+        if found is None:
+            return _none(name, source, f"slope angle beta = {st.beta_deg:.3g} deg >= phi = {phi:.3g} "
+                                       "deg: the ground factors hold only for beta < phi (a "
+                                       "cohesionless slope that steep is itself at failure)")
+        ground = found
+    f = bearing_factors(method, phi)
+    d = depth(phi, case.footing.embedment / st.width)
+    gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
+    ngamma = ground.get("Ngamma", f["Ngamma"])
+
+    def inclination(V: float, H: float) -> dict[str, float]:
+        if method == "meyerhof":
+            return meyerhof_inclination_factors(st.delta_deg, phi)
+        if method == "hansen":
+            return hansen_inclination_factors(phi, H, V, c, st.width_eff)
+        return vesic_inclination_factors(phi, H, V, c, st.width_eff)
+
+    def pressure(V: float, H: float) -> float:
+        i = inclination(V, H)
+        if zero and method != "meyerhof":
+            i_add = i["i'c"] if method == "hansen" else 1.0 - i["ic"]
+            return (c * f["Nc"] * (d["dc"] - i_add - ground.get("g'c", 0.0)) + st.q * f["Nq"] * d["dq"]
+                    + 0.5 * gamma * st.width_eff * ngamma * d["dgamma"])
+        return (c * f["Nc"] * d["dc"] * i.get("ic", 1.0) * ground.get("gc", 1.0)
+                + st.q * f["Nq"] * d["dq"] * i.get("iq", 1.0) * ground.get("gq", 1.0)
+                + 0.5 * gamma * st.width_eff * ngamma * d["dgamma"] * i.get("igamma", 1.0)
+                * ground.get("ggamma", 1.0))
+
+    if pressure(0.0, 0.0) <= 0.0:
+        return _none(name, source, "the formula gives no positive capacity for this case")
+    limit = sliding_limit_kN_per_m(st.tan_delta, c, phi, st.width_eff)
+    if method == "meyerhof":  # factors depend on delta alone: no solve
+        top = st.width_eff * pressure(0.0, 0.0)
+        V, capped, solved = min(top, limit), top > limit, False
+    else:
+        (V, capped), solved = solve_vertical_load(pressure, st.width_eff, st.tan_delta, limit), True
+    H = V * st.tan_delta
+    factors = {**f, "Ngamma": ngamma, "sc": 1.0, "sq": 1.0, "sgamma": 1.0, **d,
+               **inclination(V, H), **ground}
+    notes = [why, "strip: shape factors 1",
+             f"depth factors for D/B = {case.footing.embedment / st.width:.3g}"
+             if case.footing.embedment > 0.0 else "surface footing: depth factors 1",
+             *_setting_notes(st, soil, gamma)]
+    if st.delta_deg > 0.0:
+        notes.append(_inclined_note(st, capped, solved and st.delta_deg > 0.0))
+    if st.beta_deg > 0.0:
+        notes.append(_slope_note(st))
+    return _finish(name, source, st, V, factors, notes)
 
 
 def _ec7_undrained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
-    """EN 1997-1:2004 Annex D.3: R/A' = (pi + 2) cu bc sc ic + q (strip, vertical: 1)."""
+    """EN 1997-1:2004 Annex D.3: R/A' = (pi + 2) cu bc sc ic + q on B'; strip and level
+    base: bc = sc = 1; ic = 0.5 (1 + sqrt(1 - H/(A' cu))) with V solved for (from memory)."""
     name = "EN 1997-1:2004 Annex D.3, undrained"
     source = SRC_EC7 + ", D.3"
     if soil is None:
@@ -506,14 +976,31 @@ def _ec7_undrained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
     if not soil.tresca:
         return _none(name, source, "the ground is Mohr-Coulomb (drained c', phi'); D.3 is the "
                                    "undrained (Tresca) check - see D.4")
-    pressure = (math.pi + 2.0) * soil.c_kPa + case.overburden_kPa()
-    factors = {"Nc": math.pi + 2.0, "Nq": 1.0, "Ngamma": 0.0, "bc": 1.0, "sc": 1.0, "ic": 1.0}
-    note = f"{why}; strip, vertical load: bc = sc = ic = 1; Annex D has no depth factors"
-    return HandEstimate(name, source, float(pressure), factors, note)
+    st = _setting(case)
+    if st.beta_deg > 0.0:
+        return _none(name, source, f"{NO_SLOPE}: Annex D has no ground-inclination factors "
+                                   "(its b factors are for an inclined base)")
+    cu = soil.c_kPa
+
+    def pressure(V: float, H: float) -> float:
+        return (math.pi + 2.0) * cu * ec7_undrained_ic(H, st.width_eff, cu) + st.q
+
+    limit = sliding_limit_kN_per_m(st.tan_delta, cu, 0.0, st.width_eff)  # ic's own range, H <= A' cu
+    V, capped = solve_vertical_load(pressure, st.width_eff, st.tan_delta, limit)
+    ic = ec7_undrained_ic(V * st.tan_delta, st.width_eff, cu)
+    factors = {"Nc": math.pi + 2.0, "Nq": 1.0, "Ngamma": 0.0, "bc": 1.0, "sc": 1.0, "ic": ic}
+    load = "vertical load: ic = 1" if st.delta_deg == 0.0 else f"ic = {ic:.4g}"
+    notes = [why, f"strip, level base: bc = sc = 1; {load}; Annex D has no depth factors",
+             *_setting_notes(st, soil, None)]
+    if st.delta_deg > 0.0:
+        notes.append(_inclined_note(st, capped, True))
+    return _finish(name, source, st, V, factors, notes)
 
 
 def _ec7_drained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
-    """EN 1997-1:2004 Annex D.4: R/A' = c' Nc + q' Nq + 0.5 gamma' B' Ngamma (b, s, i = 1)."""
+    """EN 1997-1:2004 Annex D.4: R/A' = c' Nc bc sc ic + q' Nq bq sq iq + 0.5 gamma' B' Ngamma
+    bgamma sgamma igamma; strip, level base: b = s = 1; i from :func:`ec7_inclination_factors`
+    with V solved for."""
     name = "EN 1997-1:2004 Annex D.4, drained"
     source = SRC_EC7 + ", D.4"
     if soil is None:
@@ -521,16 +1008,41 @@ def _ec7_drained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
     if soil.tresca:
         return _none(name, source, "the ground is undrained (Tresca); D.4 is the drained "
                                    "check - see D.3")
-    f = bearing_factors("ec7", soil.phi_deg)
-    pressure = _strip_pressure(soil.c_kPa, case.overburden_kPa(), soil.gamma, case.footing.width, f)
+    st = _setting(case)
+    if st.beta_deg > 0.0:
+        return _none(name, source, f"{NO_SLOPE}: Annex D has no ground-inclination factors "
+                                   "(its b factors are for an inclined base)")
+    phi, c = soil.phi_deg, soil.c_kPa
+    if st.delta_deg > 0.0 and phi <= _PHI_ZERO_DEG:
+        return _none(name, source, "inclined load with phi' = 0: the D.4 inclination factors "
+                                   "need phi' > 0")
+    f = bearing_factors("ec7", phi)
+    gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
+
+    def inclination(V: float, H: float) -> dict[str, float]:
+        if st.delta_deg == 0.0:
+            return {"ic": 1.0, "iq": 1.0, "igamma": 1.0}
+        return ec7_inclination_factors(phi, H, V, c, st.width_eff)
+
+    def pressure(V: float, H: float) -> float:
+        i = inclination(V, H)
+        return (c * f["Nc"] * i["ic"] + st.q * f["Nq"] * i["iq"]
+                + 0.5 * gamma * st.width_eff * f["Ngamma"] * i["igamma"])
+
+    limit = sliding_limit_kN_per_m(st.tan_delta, c, phi, st.width_eff)
+    V, capped = solve_vertical_load(pressure, st.width_eff, st.tan_delta, limit)
+    i = inclination(V, V * st.tan_delta)
     factors = {**f, "bc": 1.0, "bq": 1.0, "bgamma": 1.0, "sc": 1.0, "sq": 1.0, "sgamma": 1.0,
-               "ic": 1.0, "iq": 1.0, "igamma": 1.0}
-    notes = [why, "strip, vertical load, level base: b = s = i = 1",
-             "Annex D has no depth factors"]
-    if case.footing.base == "smooth" and soil.phi_deg > 0.0 and soil.gamma > 0.0:
+               "ic": i["ic"], "iq": i["iq"], "igamma": i["igamma"]}
+    notes = [why, "strip, level base: b = s = 1" + ("; vertical load: i = 1" if st.delta_deg == 0.0
+                                                    else "; m = 2 (strip, H along B')"),
+             "Annex D has no depth factors", *_setting_notes(st, soil, gamma)]
+    if st.delta_deg > 0.0:
+        notes.append(_inclined_note(st, capped, True))
+    if case.footing.base == "smooth" and phi > 0.0 and gamma > 0.0:
         notes.append("the Annex's Ngamma is for a rough base (delta >= phi'/2); this footing "
                      "is smooth, so the gamma term is likely too high")
-    return HandEstimate(name, source, float(pressure), factors, "; ".join(notes))
+    return _finish(name, source, st, V, factors, notes)
 
 
 # -- layered ground ------------------------------------------------------------
@@ -552,6 +1064,18 @@ def _two_layers(case: Case, method: str, source: str
     return (_soil(l1, c1), _soil(l2, c2), h), None
 
 
+def _layered_refusal(case: Case, method: str, source: str) -> HandEstimate | None:
+    """None estimate for what the layered formulas here do not cover: inclined loads, slopes."""
+    st = _setting(case)
+    if st.beta_deg > 0.0:
+        return _none(method, source, f"{NO_SLOPE}: the layered formulas here are for level ground")
+    if st.delta_deg > 0.0:
+        return _none(method, source, "inclined load: the layered formulas here are for a vertical "
+                                     "load (Meyerhof & Hanna's inclined-load form rests on their "
+                                     "charts, not reproduced)")
+    return None
+
+
 def _meyerhof_hanna(case: Case) -> HandEstimate:
     """Meyerhof & Hanna (1978), Can. Geotech. J. 15(4): strong layer over weak, strip.
 
@@ -567,6 +1091,11 @@ def _meyerhof_hanna(case: Case) -> HandEstimate:
     0.5 gamma_i B Ngamma_i. Sand over clay and strong clay over weak clay are
     the special cases phi2 = 0 and phi1 = phi2 = 0 of this one formula.
 
+    An eccentric load acts on B' = B - 2|e| in place of B (common practice)
+    and the pressure is q_u B'/B. Unit weights are effective (gamma1 over the
+    top layer's thickness, gamma2 over B' below the interface, q_t's gamma1
+    over B'); q is the effective overburden. Inclined loads and slopes: None.
+
     Ks and ca/c1 come from charts in the paper, which are not reproduced here.
     In their place (approximations from memory, not the charts):
 
@@ -580,12 +1109,19 @@ def _meyerhof_hanna(case: Case) -> HandEstimate:
     found, none = _two_layers(case, method, SRC_MEYERHOF_HANNA)
     if found is None:
         return none
+    refused = _layered_refusal(case, method, SRC_MEYERHOF_HANNA)
+    if refused is not None:
+        return refused
     top, low, h = found
-    width, q = case.footing.width, case.overburden_kPa()
+    st = _setting(case)
+    width, q = st.width_eff, st.q
+    gamma1 = _mean_gamma(case, top.layer, 0.0, h)  # over the punched layer
+    gamma1_thick = _mean_gamma(case, top.layer, 0.0, width)  # as if the top layer ran deep
+    gamma2 = _mean_gamma(case, low.layer, h, h + width)
     f1 = bearing_factors("meyerhof", top.phi_deg)
     f2 = bearing_factors("meyerhof", low.phi_deg)
-    q1 = top.c_kPa * f1["Nc"] + 0.5 * top.gamma * width * f1["Ngamma"]
-    q2 = low.c_kPa * f2["Nc"] + 0.5 * low.gamma * width * f2["Ngamma"]
+    q1 = top.c_kPa * f1["Nc"] + 0.5 * gamma1_thick * width * f1["Ngamma"]
+    q2 = low.c_kPa * f2["Nc"] + 0.5 * gamma2 * width * f2["Ngamma"]
     if q1 <= 0.0:
         return _none(method, SRC_MEYERHOF_HANNA, f"the top layer '{top.name}' has no strength at "
                                                  "the surface (c = 0 and gamma = 0)")
@@ -594,13 +1130,13 @@ def _meyerhof_hanna(case: Case) -> HandEstimate:
         return _none(method, SRC_MEYERHOF_HANNA,
                      f"the top layer '{top.name}' is not the stronger (q2/q1 = {ratio:.3g} >= 1); "
                      "the strong-over-weak formula does not apply")
-    q_top = _strip_pressure(top.c_kPa, q, top.gamma, width, f1)
-    q_base = _strip_pressure(low.c_kPa, q + top.gamma * h, low.gamma, width, f2)
+    q_top = _strip_pressure(top.c_kPa, q, gamma1_thick, width, f1)
+    q_base = _strip_pressure(low.c_kPa, q + gamma1 * h, gamma2, width, f2)
     ca_over_c1 = 0.6 + 0.4 * ratio
     ks = math.tan(math.radians(45.0 + top.phi_deg / 2.0)) ** 2
     punching = (2.0 * ca_over_c1 * top.c_kPa * h / width
-                + (top.gamma * h * h + 2.0 * q * h) * ks * math.tan(math.radians(top.phi_deg)) / width
-                - top.gamma * h)
+                + (gamma1 * h * h + 2.0 * q * h) * ks * math.tan(math.radians(top.phi_deg)) / width
+                - gamma1 * h)
     formula = q_base + punching
     pressure = min(formula, q_top)
     factors = {"Nc": f1["Nc"], "Nq": f1["Nq"], "Ngamma": f1["Ngamma"],
@@ -617,7 +1153,11 @@ def _meyerhof_hanna(case: Case) -> HandEstimate:
         notes.append("su taken at each layer's top; the su gradient is ignored (conservative)")
     if case.layers_below_base()[2:]:
         notes.append(f"layers deeper than {INFLUENCE_DEPTH_WIDTHS:g}B below the base are ignored")
-    return HandEstimate(method, SRC_MEYERHOF_HANNA, float(pressure), factors, "; ".join(notes))
+    if math.isfinite(st.water_below_base) and st.water_below_base < h + width:
+        notes.append(f"effective unit weights below the water table: gamma1 = {gamma1:.4g}, "
+                     f"gamma2 = {gamma2:.4g} kN/m^3")
+    notes += _setting_notes(st, None, None)
+    return _finish(method, SRC_MEYERHOF_HANNA, st, pressure * width, factors, notes)
 
 
 def _brown_meyerhof(case: Case) -> HandEstimate:
@@ -626,7 +1166,8 @@ def _brown_meyerhof(case: Case) -> HandEstimate:
     q_u = su1 Nc + q, Nc = 1.5 H/B + 5.14 su2/su1 <= 5.14 (su2/su1 < 1), with
     5.14 taken as pi + 2. H is the depth of the interface below the base.
     Proc. 7th ICSMFE, Mexico City, Vol. 2, 45-51; formula recalled, not checked
-    against the paper.
+    against the paper. An eccentric load acts on B' in place of B (common
+    practice); inclined loads and slopes: None.
     """
     method = "Brown & Meyerhof (1969), stiff clay over soft clay"
     found, none = _two_layers(case, method, SRC_BROWN_MEYERHOF)
@@ -642,61 +1183,87 @@ def _brown_meyerhof(case: Case) -> HandEstimate:
         return _none(method, SRC_BROWN_MEYERHOF,
                      f"su1 = {top.c_kPa:.4g} kPa is not above su2 = {low.c_kPa:.4g} kPa (soft over "
                      "stiffer clay); the formula covers a stiff layer over a soft one")
-    width = case.footing.width
+    refused = _layered_refusal(case, method, SRC_BROWN_MEYERHOF)
+    if refused is not None:
+        return refused
+    st = _setting(case)
+    width = st.width_eff
     ratio = low.c_kPa / top.c_kPa
     nc = min(1.5 * h / width + (math.pi + 2.0) * ratio, math.pi + 2.0)
-    pressure = top.c_kPa * nc + case.overburden_kPa()
+    pressure = top.c_kPa * nc + st.q
     notes = [f"su1 = {top.c_kPa:.4g} kPa ('{top.name}') over su2 = {low.c_kPa:.4g} kPa "
              f"('{low.name}'), H = {h:.3g} m below the base", "formula from memory"]
     if nc >= math.pi + 2.0:
         notes.append(f"soft layer deep enough (H/B = {h / width:.3g}): the top-layer value governs")
     if top.gradient > 0.0 or low.gradient > 0.0:
         notes.append("su taken at each layer's top; the su gradient is ignored (conservative)")
+    notes += _setting_notes(st, None, None)
     factors = {"Nc": nc, "Nq": 1.0, "Ngamma": 0.0, "su2_over_su1": ratio, "H_over_B": h / width}
-    return HandEstimate(method, SRC_BROWN_MEYERHOF, float(pressure), factors, "; ".join(notes))
+    return _finish(method, SRC_BROWN_MEYERHOF, st, pressure * width, factors, notes)
 
 
-def _meyerhof_on(case: Case, c: float, phi_deg: float, gamma: float) -> tuple[float, dict[str, float]]:
-    """Meyerhof (1963) strip pressure with depth factors, and the factors used."""
-    width = case.footing.width
+def _meyerhof_on(case: Case, c: float, phi_deg: float, gamma: float
+                 ) -> tuple[float, dict[str, float], bool]:
+    """Meyerhof (1963) on B' with depth and inclination factors: (V in kN/m, the
+    factors used, whether sliding limited V). Inclination factors depend on delta
+    alone, so V needs no solve."""
+    st = _setting(case)
     f = bearing_factors("meyerhof", phi_deg)
-    d = meyerhof_depth_factors(phi_deg, case.footing.embedment / width)
-    return _strip_pressure(c, case.overburden_kPa(), gamma, width, f, d), {**f, **d}
+    d = meyerhof_depth_factors(phi_deg, case.footing.embedment / st.width)
+    i = meyerhof_inclination_factors(st.delta_deg, phi_deg)
+    pressure = (c * f["Nc"] * d["dc"] * i["ic"] + st.q * f["Nq"] * d["dq"] * i["iq"]
+                + 0.5 * gamma * st.width_eff * f["Ngamma"] * d["dgamma"] * i["igamma"])
+    limit = sliding_limit_kN_per_m(st.tan_delta, c, phi_deg, st.width_eff)
+    V = st.width_eff * pressure
+    return min(V, limit), {**f, **d, **i}, V > limit
 
 
 def _weakest_layer(case: Case) -> HandEstimate:
     """Equivalent homogeneous soil: the weakest layer within 2B below the base.
 
     Each layer whose top lies within the zone is taken alone as homogeneous
-    ground (Tresca: the lowest su it has inside the zone) and given Meyerhof's
-    (1963) strip pressure with depth factors; the lowest governs. Common
-    practice; it ignores any help from stronger layers.
+    ground (Tresca: the lowest su it has inside the zone; gamma: its effective
+    weight over B' below the base) and given Meyerhof's (1963) strip pressure
+    with depth and inclination factors on B'; the lowest governs. Common
+    practice; it ignores any help from stronger layers. Slopes: None.
     """
     method = f"Equivalent homogeneous: weakest layer within {INFLUENCE_DEPTH_WIDTHS:g}B"
+    st = _setting(case)
+    if st.beta_deg > 0.0:
+        return _none(method, SRC_SHORTCUT, f"{NO_SLOPE}: Meyerhof (1963) has no ground-inclination "
+                                           "factors")
     zone = INFLUENCE_DEPTH_WIDTHS * case.footing.width
-    best: tuple[float, dict[str, float], _Soil] | None = None
+    best: tuple[float, dict[str, float], _Soil, bool] | None = None
     for layer, top, bottom, c_top in case.layers_below_base():
         if top >= zone:
             break
         soil = _soil(layer, c_top)
         c = min(c_top, c_top + soil.gradient * (min(bottom, zone) - top)) if soil.tresca else soil.c_kPa
-        pressure, factors = _meyerhof_on(case, c, soil.phi_deg, soil.gamma)
-        if best is None or pressure < best[0]:
-            best = (pressure, factors, soil)
-    pressure, factors, soil = best
-    note = (f"weakest layer within {zone:.3g} m below the base: '{soil.name}', taken as "
-            "homogeneous; Meyerhof (1963) factors with depth factors; stronger layers ignored")
+        V, factors, capped = _meyerhof_on(case, c, soil.phi_deg, _mean_gamma(case, layer, 0.0, st.width_eff))
+        if best is None or V < best[0]:
+            best = (V, factors, soil, capped)
+    V, factors, soil, capped = best
+    notes = [f"weakest layer within {zone:.3g} m below the base: '{soil.name}', taken as "
+             "homogeneous; Meyerhof (1963) factors with depth factors; stronger layers ignored"]
     if soil.tresca and soil.gradient > 0.0:
-        note += "; su at the layer's top, gradient ignored"
-    return HandEstimate(method, SRC_SHORTCUT, float(pressure), factors, note)
+        notes.append("su at the layer's top, gradient ignored")
+    notes += _setting_notes(st, None, None)
+    if st.delta_deg > 0.0:
+        notes.append(_inclined_note(st, capped, False))
+    return _finish(method, SRC_SHORTCUT, st, V, factors, notes)
 
 
 def _averaged(case: Case) -> HandEstimate:
     """Equivalent homogeneous soil: thickness-weighted average c, tan(phi), gamma
-    over B below the base, then Meyerhof's (1963) strip pressure with depth
-    factors. Common practice. Tresca su is averaged over its linear profile.
+    over B below the base, then Meyerhof's (1963) strip pressure with depth and
+    inclination factors on B'. Common practice. Tresca su is averaged over its
+    linear profile; gamma is effective below the water table. Slopes: None.
     """
     method = f"Equivalent homogeneous: average over {AVERAGING_DEPTH_WIDTHS:g}B"
+    st = _setting(case)
+    if st.beta_deg > 0.0:
+        return _none(method, SRC_SHORTCUT, f"{NO_SLOPE}: Meyerhof (1963) has no ground-inclination "
+                                           "factors")
     zone = AVERAGING_DEPTH_WIDTHS * case.footing.width
     rows = []  # (thickness in zone, mean c, tan phi, gamma, tresca)
     for layer, top, bottom, c_top in case.layers_below_base():
@@ -705,25 +1272,29 @@ def _averaged(case: Case) -> HandEstimate:
         t = min(bottom, zone) - top
         soil = _soil(layer, c_top)
         c_mean = c_top + soil.gradient * t / 2.0 if soil.tresca else soil.c_kPa
-        rows.append((t, c_mean, math.tan(math.radians(soil.phi_deg)), soil.gamma, soil.tresca))
+        rows.append((t, c_mean, math.tan(math.radians(soil.phi_deg)),
+                     _mean_gamma(case, layer, top, top + t), soil.tresca))
     data = np.array([r[:4] for r in rows], dtype=float)
     weights = data[:, 0] / zone
     c_bar, tan_bar, gamma_bar = (weights[:, None] * data[:, 1:]).sum(axis=0)
     phi_bar = math.degrees(math.atan(tan_bar))
-    pressure, factors = _meyerhof_on(case, float(c_bar), phi_bar, float(gamma_bar))
+    V, factors, capped = _meyerhof_on(case, float(c_bar), phi_bar, float(gamma_bar))
     factors.update(c_avg_kPa=float(c_bar), phi_avg_deg=phi_bar, gamma_avg=float(gamma_bar))
     notes = [f"average over {zone:.3g} m below the base of {len(rows)} layer(s): "
              f"c = {c_bar:.4g} kPa, phi = {phi_bar:.4g} deg, gamma = {gamma_bar:.4g} kN/m^3",
              "Meyerhof (1963) factors with depth factors"]
     if len({r[4] for r in rows}) > 1:
         notes.append("mixes drained (c', phi') and undrained (su) strengths")
-    return HandEstimate(method, SRC_SHORTCUT, float(pressure), factors, "; ".join(notes))
+    notes += _setting_notes(st, None, None)
+    if st.delta_deg > 0.0:
+        notes.append(_inclined_note(st, capped, False))
+    return _finish(method, SRC_SHORTCUT, st, V, factors, notes)
 
 
 # -- the list the program prints ----------------------------------------------------
 
 def hand_methods(case: Case) -> list[HandEstimate]:
-    """Every hand method for the case's strip footing under a vertical central load.
+    """Every hand method for the case's strip footing, under the case's load and ground.
 
     Homogeneous-ground methods (one layer below the base, or all layers below
     it alike): Terzaghi (1943) general and local shear, Meyerhof (1963), Brinch
@@ -735,6 +1306,11 @@ def hand_methods(case: Case) -> list[HandEstimate]:
     Layered-ground methods: Meyerhof & Hanna (1978), Brown & Meyerhof (1969),
     and the equivalent-homogeneous shortcuts (weakest layer within 2B; average
     c, tan phi, gamma over B).
+
+    Eccentric loads use B' = B - 2|e| everywhere, inclined loads each method's
+    inclination factors, slopes Hansen's and Vesic's ground factors, and the
+    water table effective weights (see the module docstring). Every
+    ``pressure_kPa`` is the vertical collapse load divided by B.
 
     The list always holds the same methods in the same order; a method that
     does not apply has ``pressure_kPa = None`` and says why.

@@ -9,7 +9,9 @@ Makrodimopoulos & Martin 2006 for the second-order cone form):
 * equilibrium with self-weight holds exactly in every triangle;
 * normal and shear traction are continuous across every interior edge;
 * ground-surface tractions equal the surcharge, the footing carries only
-  normal stress when smooth, shear is zero on the symmetry line;
+  normal stress when smooth, shear is zero on the symmetry line; the contact
+  under the footing carries no tension (a footing cannot pull on the soil,
+  which matters for eccentric loads);
 * Mohr-Coulomb (Tresca when phi = 0) holds at every stress node as a cone
   ||(sigma_x - sigma_y, 2 tau)|| <= 2 c cos(phi) - (sigma_x + sigma_y) sin(phi);
   the stress is linear and c at most linear in depth, so it holds everywhere;
@@ -30,7 +32,7 @@ from __future__ import annotations
 import numpy as np
 
 from .conic import ConicProgram, assemble, drop_empty_equalities
-from .mesh import FAR_BASE, FAR_SIDE, FOOTING, GROUND, SYMMETRY, Mesh
+from .mesh import FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, SYMMETRY, Mesh
 from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .model import Case
 
@@ -190,6 +192,15 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
            np.repeat(mat["phi"][mesh.layer], 3))
     for triple, c, phi in strips["cones"]:
         _cones(cone, triple, c, phi)
+    # 7. No tension under the footing: a footing cannot pull on the soil, so the
+    #    contact normal stress is compressive, sigma_y <= 0, at every contact node
+    #    (written as the cone (-sigma_y, 0, 0)). The upper bound's bonded footing
+    #    stays an upper bound of this problem: no separation is one admissible case.
+    contact = np.unique(foot_sy.ravel())
+    r = cone.count + 3 * np.arange(len(contact))
+    cone.count += 3 * len(contact)
+    cone.rhs.append(np.zeros(3 * len(contact)))
+    cone.add(r, contact, 1.0)
 
     n_zero = eq.count
     A = assemble(eq.rows + [r + n_zero for r in cone.rows], eq.cols + cone.cols, eq.vals + cone.vals,
@@ -299,7 +310,9 @@ def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q)
     ground_edges = mesh.boundary_kind == GROUND
     on_ground = np.isin(s_node, mesh.boundary_edges[ground_edges][:, :2])
     on_symmetry = np.isin(s_node, mesh.boundary_edges[mesh.boundary_kind == SYMMETRY][:, :2]) & ~on_ground
-    if not np.all(on_ground | on_symmetry):
+    # a fixed (rigid) boundary continues along the ray and carries any traction: no condition there
+    on_fixed = np.isin(s_node, mesh.boundary_edges[mesh.boundary_kind == FIXED][:, :2])
+    if not np.all(on_ground | on_symmetry | on_fixed):
         raise RuntimeError("extension elements: a far-boundary chain ends nowhere known")
     # the ray continues the level ground beyond the mesh: the surcharge there is that of
     # ground at the footing's level, none at the toe of a slope

@@ -235,7 +235,9 @@ FAN_MIN_REACH = 1e-3  # longest ray / B below which no fan is built
 # exact velocity jumps. Smaller edge sizes (5e-4 to 1e-3) measured no better.
 PLAIN_EDGE_SIZE = 0.002
 PLAIN_GRADING = 0.15
-FAN_SLOPE_SETBACK = 0.1  # no fans when a crest is nearer than this * B to the footing edge
+FAN_SLOPE_SETBACK = 0.1
+FAN_SLOPE_CLEARANCE = 0.5  # rays stop at this fraction of their room to a slope face (measured: 0.9 made
+#                            the lower bound infeasible with a surcharge, setback 0.5 B)  # no fans when a crest is nearer than this * B to the footing edge
 FAN_FIRST_RING = 0.03  # innermost ring / ray length [0.01-0.03]
 FAN_ASPECT = 6.0  # radial / circumferential spacing of the cells near the edge [3.5-10]
 FAN_RADIAL = 2.5  # ... but radial spacing at most this times the outside size [1.5-2.5]: long
@@ -313,6 +315,9 @@ def _ray_lengths(domain: Domain, B: float, centres: np.ndarray, x: np.ndarray, y
             t = np.where(rate > 0, setback * tan_b / rate, np.inf)
         with np.errstate(invalid="ignore"):  # inf * 0 on the surface ray
             t = np.where(np.nan_to_num(t * -y, nan=0.0) <= domain.slope_height, t, np.inf)
+        # leave the crest to the unstructured mesh: a sliver between the rim and the
+        # crest leaves the crest node too few triangles to turn the surcharge's end
+        t = t * FAN_SLOPE_CLEARANCE / FAN_CLEARANCE
         room = np.minimum(room, t)
     if domain.interfaces:
         room = np.minimum(room, domain.interfaces[0])
@@ -452,7 +457,35 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
         points, triangles = _add_fans(points, triangles, layout, rim_nodes)
         if order == 2:
             points, triangles = _second_order(points, triangles)
+    if order == 1:
+        points, triangles = _split_corner_triangles(points, triangles)
     return _assemble_mesh(points, triangles, domain, case)
+
+
+def _split_corner_triangles(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Split every first-order triangle with two boundary edges into three about
+    its centroid.
+
+    In the lower bound a node's stress must meet the tractions prescribed on
+    every boundary edge of its triangle there; at a corner of the ground (the
+    crest, the toe) two edges may carry different tractions (surcharge on one,
+    none on the other), which no single stress state meets: the program would
+    be infeasible. Split, each corner triangle's node sees one edge only.
+    """
+    edges = triangles[:, [[0, 1], [1, 2], [2, 0]]].reshape(-1, 2)
+    _, inverse, counts = np.unique(np.sort(edges, axis=1), axis=0, return_inverse=True, return_counts=True)
+    on_boundary = (counts[inverse.ravel()] == 1).reshape(-1, 3)
+    corner = np.flatnonzero(on_boundary.sum(axis=1) >= 2)
+    if len(corner) == 0:
+        return points, triangles
+    centre = len(points) + np.arange(len(corner))
+    a, b, c = triangles[corner].T
+    pieces = np.concatenate([np.column_stack([a, b, centre]), np.column_stack([b, c, centre]),
+                             np.column_stack([c, a, centre])])
+    keep = np.ones(len(triangles), dtype=bool)
+    keep[corner] = False
+    return (np.concatenate([points, points[triangles[corner]].mean(axis=1)]),
+            np.concatenate([triangles[keep], pieces]))
 
 
 def _estimate_count(domain: Domain, B: float, fan: bool = False) -> float:
@@ -510,6 +543,7 @@ def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np
         centres = [B / 2] if domain.half else [B / 2, -B / 2]
         occ.fragment(bands, [(0, occ.addPoint(x, 0.0, 0.0)) for x in centres])
         occ.synchronize()
+        _embed_crest_points(gmsh, domain, B)
         return None
     rim = layout.ring_nodes()[:, -1]  # (n_fans, sectors + 1, 2)
     cutters = []
@@ -536,7 +570,35 @@ def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np
         ends = [position.get(abs(t)) for _, t in gmsh.model.getBoundary([(1, curve)], oriented=False)]
         if len(ends) == 2 and None not in ends and ends[0][0] == ends[1][0] and abs(ends[0][1] - ends[1][1]) == 1:
             gmsh.model.mesh.setTransfiniteCurve(curve, 2)
+    _embed_crest_points(gmsh, domain, B)
     return rim_tags
+
+
+CREST_POINTS = 3  # nodes embedded round the crest, so that several triangles meet there
+CREST_RADIUS = 0.02  # their distance from the crest, times B
+
+
+def _embed_crest_points(gmsh, domain: Domain, B: float) -> None:
+    """Embed CREST_POINTS nodes just inside the soil round the crest.
+
+    The lower bound needs several triangles at a ground corner where the
+    surcharge ends (each triangle's node meets the tractions of its own edge
+    only, and stress discontinuities between them turn the load's end); a
+    mesher left to itself often puts one obtuse triangle there.
+    """
+    if not domain.slope:
+        return
+    beta = math.atan2(domain.slope_height, domain.toe_x - domain.crest_x)
+    inside = math.pi - beta  # the soil's angle at the crest, from the level ground round to the face
+    angles = math.pi + inside * np.arange(1, CREST_POINTS + 1) / (CREST_POINTS + 1)
+    xy = np.column_stack([domain.crest_x + CREST_RADIUS * B * np.cos(angles), CREST_RADIUS * B * np.sin(angles)])
+    for x, y in xy:
+        for _, surface in gmsh.model.getEntities(2):
+            if gmsh.model.isInside(2, surface, [x, y, 0.0]):
+                point = gmsh.model.occ.addPoint(x, y, 0.0)
+                gmsh.model.occ.synchronize()
+                gmsh.model.mesh.embed(0, [point], 2, surface)
+                break
 
 
 def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,

@@ -14,9 +14,18 @@ import pytest
 import solver.hand
 from solver.hand import (
     bearing_factors,
+    ec7_undrained_ic,
+    effective_width,
     hand_methods,
+    hansen_ground_factors,
+    hansen_inclination_factors,
+    meyerhof_inclination_factors,
+    sliding_limit_kN_per_m,
+    solve_vertical_load,
     terzaghi_factors,
     terzaghi_footing,
+    vesic_ground_factors,
+    vesic_inclination_factors,
     where_it_falls,
 )
 from solver.model import Case, Footing, Ground, Layer
@@ -370,3 +379,240 @@ def test_where_it_falls_rejects_crossed_bounds():
 
 def test_doctests():
     assert doctest.testmod(solver.hand).failed == 0
+
+
+# -- issue 3: eccentric and inclined loads, sloping ground, water table ----------------------
+
+PRANDTL = math.pi + 2.0
+
+
+def loaded_case(*layers: Layer, width: float = 2.0, eccentricity: float = 0.0, inclination: float = 0.0,
+                embedment: float = 0.0, surcharge: float = 0.0, water_table: float | None = None,
+                slope: float = 0.0, setback: float = 0.0, slope_height: float | None = None) -> Case:
+    return Case("test footing", Footing(width, "rough", embedment, inclination, eccentricity),
+                Ground(surcharge, water_table, slope, setback, slope_height), layers)
+
+
+def test_effective_width():
+    # Meyerhof (1953): B' = B - 2|e|.
+    assert effective_width(2.0, 0.3) == pytest.approx(1.4)
+    assert effective_width(2.0, -0.3) == pytest.approx(1.4)
+    with pytest.raises(ValueError, match="^eccentricity_m: "):
+        effective_width(2.0, 1.0)
+
+
+def test_eccentric_load_on_tresca_uses_b_prime_in_every_method():
+    # Weightless Tresca, e = 0.25 B: (2 + pi) su B'/B with B' = B/2 (Meyerhof 1953, 1963);
+    # Terzaghi (1943) with his own 5.71 on B' (common practice).
+    found = by_method(loaded_case(clay("clay", 40.0, unit_weight=0.0), eccentricity=0.5))
+    for name in ("Meyerhof (1963)", "Brinch Hansen (1970)", "Vesic (1973/1975)",
+                 "EN 1997-1:2004 Annex D.3, undrained", "Equivalent homogeneous: average over 1B"):
+        assert found[name].pressure_kPa == pytest.approx(PRANDTL * 40.0 * 0.5), name
+        assert found[name].factors["B_prime_m"] == pytest.approx(1.0), name
+        assert "B' = B - 2|e|" in found[name].note, name
+    assert found["Terzaghi (1943), general shear"].pressure_kPa == pytest.approx(
+        (1.5 * math.pi + 1.0) * 40.0 * 0.5)
+
+
+@pytest.mark.parametrize("layers", [
+    (sand("sand", 33.0, c=3.0),),
+    (clay("clay", 45.0),),
+    (clay("stiff", 90.0, thickness=0.8), clay("soft", 30.0)),
+    (sand("sand", 40.0, thickness=0.8), clay("soft", 30.0)),
+])
+def test_eccentric_estimate_is_the_b_prime_footings_times_b_prime_over_b(layers):
+    # B' behaviour: on a surface footing (depth factors 1), each method's estimate for width
+    # B and eccentricity e equals its estimate for a central footing of width B', scaled by
+    # B'/B. The equivalent-homogeneous shortcuts size their zone from B, so they are left out
+    # on layered ground.
+    b, e = 2.0, 0.35
+    off = by_method(loaded_case(*layers, width=b, eccentricity=e, surcharge=8.0))
+    central = by_method(loaded_case(*layers, width=b - 2 * e, surcharge=8.0))
+    for name, est in off.items():
+        if len(layers) > 1 and name.startswith("Equivalent"):
+            continue
+        if est.pressure_kPa is None:
+            assert central[name].pressure_kPa is None, name
+            continue
+        assert est.pressure_kPa == pytest.approx(central[name].pressure_kPa * (b - 2 * e) / b, rel=1e-9), name
+
+
+def test_meyerhof_inclination_factors():
+    # Meyerhof (1963), from memory: ic = iq = (1 - delta/90)^2, igamma = (1 - delta/phi)^2.
+    f = meyerhof_inclination_factors(15.0, 30.0)
+    assert f["ic"] == pytest.approx((75.0 / 90.0) ** 2) and f["iq"] == f["ic"]
+    assert f["igamma"] == pytest.approx(0.25)
+    assert meyerhof_inclination_factors(30.0, 30.0)["igamma"] == 0.0  # delta >= phi
+    assert meyerhof_inclination_factors(0.0, 0.0) == {"ic": 1.0, "iq": 1.0, "igamma": 1.0}
+
+
+def test_undrained_inclination_factors_of_hansen_vesic_and_ec7():
+    # H/(A' cu) = 0 and 1 (the sliding limit): Brinch Hansen (1970) i'c = 0.5 - 0.5 sqrt(1 - H/(A' ca))
+    # runs from 0 to 0.5; EN 1997-1 D.3 ic = 0.5 (1 + sqrt(1 - H/(A' cu))) from 1 to 0.5 and is
+    # 1 - i'c throughout (the Annex takes Hansen's form); Vesic (1975) ic = 1 - m H/(A' ca Nc), m = 2.
+    # All from memory.
+    width, cu = 2.0, 40.0
+    for h in (0.0, 0.3, 0.7, 1.0):
+        H = h * width * cu
+        hansen = hansen_inclination_factors(0.0, H, 200.0, cu, width)["i'c"]
+        assert hansen == pytest.approx(0.5 - 0.5 * math.sqrt(1.0 - h))
+        assert ec7_undrained_ic(H, width, cu) == pytest.approx(1.0 - hansen)
+        assert vesic_inclination_factors(0.0, H, 200.0, cu, width)["ic"] == pytest.approx(1.0 - 2.0 * h / PRANDTL)
+
+
+def test_drained_inclination_factors_of_hansen_and_vesic():
+    # phi = 30, c = 10 kPa, B' = 2 m, H = 50, V = 300 kN/m: ratio H/(V + A' c cot phi), written
+    # out afresh. Brinch Hansen (1970): exponents 5 with 0.5 and 0.7; Vesic (1975): m = 2 and
+    # m + 1 = 3; ic = iq - (1 - iq)/(Nq - 1) in both (Nc tan phi = Nq - 1). From memory.
+    ratio = 50.0 / (300.0 + 2.0 * 10.0 / math.tan(math.radians(30.0)))
+    nq = nq_reissner(30.0)
+    h = hansen_inclination_factors(30.0, 50.0, 300.0, 10.0, 2.0)
+    assert h["iq"] == pytest.approx((1 - 0.5 * ratio) ** 5) and h["igamma"] == pytest.approx((1 - 0.7 * ratio) ** 5)
+    assert h["ic"] == pytest.approx(h["iq"] - (1 - h["iq"]) / (nq - 1))
+    v = vesic_inclination_factors(30.0, 50.0, 300.0, 10.0, 2.0)
+    assert v["iq"] == pytest.approx((1 - ratio) ** 2) and v["igamma"] == pytest.approx((1 - ratio) ** 3)
+    assert v["ic"] == pytest.approx(v["iq"] - (1 - v["iq"]) / (nq - 1))
+
+
+def test_inclined_load_on_tresca():
+    # Meyerhof (1963): no solve, (2 + pi) su (1 - delta/90)^2. EN 1997-1 D.3: V solved from
+    # V = B' [(2 + pi) cu ic(H) + q] with H = V tan(delta) -- the returned V must satisfy it.
+    case = loaded_case(clay("clay", 40.0, unit_weight=0.0), inclination=10.0)
+    found = by_method(case)
+    meyerhof = found["Meyerhof (1963)"]
+    assert meyerhof.pressure_kPa == pytest.approx(PRANDTL * 40.0 * (80.0 / 90.0) ** 2)
+    assert "brentq" not in meyerhof.note
+    ec7 = found["EN 1997-1:2004 Annex D.3, undrained"]
+    V, H = ec7.factors["V_kN_per_m"], ec7.factors["H_kN_per_m"]
+    assert H == pytest.approx(V * math.tan(math.radians(10.0)))
+    assert V == pytest.approx(2.0 * PRANDTL * 40.0 * 0.5 * (1 + math.sqrt(1 - H / (2.0 * 40.0))), rel=1e-9)
+    assert ec7.pressure_kPa == pytest.approx(V / 2.0) and "brentq" in ec7.note
+    # Brinch Hansen's phi = 0 form 1 - i'c is the Annex's ic: the same estimate.
+    assert found["Brinch Hansen (1970)"].pressure_kPa == pytest.approx(ec7.pressure_kPa, rel=1e-9)
+    for name in ("Terzaghi (1943), general shear", "Terzaghi (1943), local shear"):
+        assert found[name].pressure_kPa is None and "inclination" in found[name].note
+        assert found[name].factors == {}
+
+
+@pytest.mark.parametrize("name", ["Brinch Hansen (1970)", "Vesic (1973/1975)", "EN 1997-1:2004 Annex D.4, drained"])
+def test_inclined_load_on_sand_solves_v_consistently(name):
+    # The solved V must reproduce itself through the reported factors:
+    # V = B' (c Nc dc ic + q Nq dq iq + 0.5 gamma B' Ngamma dgamma igamma), H = V tan(delta).
+    case = loaded_case(sand("sand", 34.0, c=4.0), inclination=12.0, eccentricity=0.2, surcharge=15.0)
+    est = by_method(case)[name]
+    f, width = est.factors, est.factors["B_prime_m"]
+    d = {k: f.get(k, 1.0) for k in ("dc", "dq", "dgamma")}
+    q_prime = (4.0 * f["Nc"] * d["dc"] * f["ic"] + 15.0 * f["Nq"] * d["dq"] * f["iq"]
+               + 0.5 * 19.0 * width * f["Ngamma"] * d["dgamma"] * f["igamma"])
+    assert f["V_kN_per_m"] == pytest.approx(width * q_prime, rel=1e-9)
+    assert est.pressure_kPa == pytest.approx(f["V_kN_per_m"] / 2.0)
+    assert f["H_kN_per_m"] == pytest.approx(f["V_kN_per_m"] * math.tan(math.radians(12.0)))
+    vertical = by_method(loaded_case(sand("sand", 34.0, c=4.0), eccentricity=0.2, surcharge=15.0))[name]
+    assert est.pressure_kPa < vertical.pressure_kPa
+
+
+def test_sliding_limits_a_steeply_inclined_load():
+    # A rough base on Tresca soil cannot carry H > B' su (common practice): at 30 degrees
+    # Meyerhof's (1963) factor alone would give H = 1.32 su B, so the sliding load governs.
+    case = loaded_case(clay("clay", 40.0, unit_weight=0.0), inclination=30.0)
+    slide = 2.0 * 40.0 / math.tan(math.radians(30.0)) / 2.0
+    assert PRANDTL * (60.0 / 90.0) ** 2 * math.tan(math.radians(30.0)) > 1.0  # above the limit
+    for name in ("Meyerhof (1963)", "Vesic (1973/1975)", "EN 1997-1:2004 Annex D.3, undrained"):
+        est = by_method(case)[name]
+        assert est.pressure_kPa == pytest.approx(slide), name
+        assert "sliding" in est.note, name
+    assert sliding_limit_kN_per_m(0.3, 10.0, 30.0, 2.0) == math.inf  # tan(delta) < tan(phi)
+
+
+def test_solve_vertical_load_on_a_known_line():
+    # q_u'(H) = 100 - 0.1 H on B' = 2, tan(delta) = 1: V = 2 (100 - 0.1 V), V = 200/1.2.
+    V, capped = solve_vertical_load(lambda V, H: 100.0 - 0.1 * H, 2.0, 1.0)
+    assert V == pytest.approx(200.0 / 1.2) and not capped
+    V, capped = solve_vertical_load(lambda V, H: 100.0 - 0.1 * H, 2.0, 1.0, v_limit=150.0)
+    assert V == 150.0 and capped
+
+
+def test_ground_factors():
+    # Brinch Hansen (1970): gc = 1 - beta/147, gq = ggamma = (1 - 0.5 tan beta)^5; Vesic (1975):
+    # gq = ggamma = (1 - tan beta)^2 (both from memory). Hansen's beta/147 (degrees) is
+    # 2 beta/(2 + pi) (radians), the Prandtl field with its passive fan shortened by beta
+    # (common practice), which is Vesic's phi = 0 g'c: equal to 0.3 % (147 for 147.3).
+    t = math.tan(math.radians(15.0))
+    h = hansen_ground_factors(35.0, 15.0)
+    assert h["gc"] == pytest.approx(1 - 15.0 / 147.0) and h["gq"] == pytest.approx((1 - 0.5 * t) ** 5)
+    v = vesic_ground_factors(35.0, 15.0)
+    assert v["gq"] == pytest.approx((1 - t) ** 2) and v["ggamma"] == v["gq"]
+    for beta in (10.0, 30.0, 45.0):
+        assert hansen_ground_factors(0.0, beta)["g'c"] == pytest.approx(
+            vesic_ground_factors(0.0, beta)["g'c"], rel=3e-3)
+    assert vesic_ground_factors(0.0, 30.0)["Ngamma"] == pytest.approx(-1.0)  # -2 sin(beta), Vesic (1975)
+    assert hansen_ground_factors(30.0, 30.0) is None and vesic_ground_factors(30.0, 35.0) is None
+
+
+def test_slope_beside_the_footing():
+    # Footing at the crest, weightless Tresca: Hansen's (1970) phi = 0 form gives
+    # (2 + pi) su (1 - beta/147); methods without ground factors say so and give None.
+    case = loaded_case(clay("clay", 40.0, unit_weight=0.0), slope=30.0, slope_height=4.0)
+    found = by_method(case)
+    assert found["Brinch Hansen (1970)"].pressure_kPa == pytest.approx(PRANDTL * 40.0 * (1 - 30.0 / 147.0))
+    assert found["Vesic (1973/1975)"].pressure_kPa == pytest.approx(
+        40.0 * (PRANDTL - 2.0 * math.radians(30.0)))
+    for name in ("Terzaghi (1943), general shear", "Meyerhof (1963)", "EN 1997-1:2004 Annex D.3, undrained",
+                 "Equivalent homogeneous: weakest layer within 2B", "Equivalent homogeneous: average over 1B"):
+        assert found[name].pressure_kPa is None and "does not cover a sloping ground" in found[name].note, name
+    # With self-weight, Vesic's phi = 0 N_gamma = -2 sin(beta) lowers his value by gamma B sin(beta).
+    heavy = by_method(loaded_case(clay("clay", 40.0, unit_weight=18.0), slope=30.0, slope_height=4.0))
+    assert heavy["Vesic (1973/1975)"].pressure_kPa == pytest.approx(
+        found["Vesic (1973/1975)"].pressure_kPa - 18.0 * 2.0 * 0.5)
+
+
+def test_setback_is_treated_as_at_the_crest_and_steep_slopes_are_refused():
+    crest = by_method(loaded_case(sand("sand", 32.0, c=5.0), slope=20.0, slope_height=3.0))
+    back = by_method(loaded_case(sand("sand", 32.0, c=5.0), slope=20.0, slope_height=3.0, setback=1.5))
+    for name in ("Brinch Hansen (1970)", "Vesic (1973/1975)"):
+        assert back[name].pressure_kPa == pytest.approx(crest[name].pressure_kPa)
+        assert "as if at the crest" in back[name].note and "conservative" in back[name].note
+    steep = by_method(loaded_case(sand("sand", 30.0), slope=35.0, slope_height=3.0))
+    for name in ("Brinch Hansen (1970)", "Vesic (1973/1975)"):
+        assert steep[name].pressure_kPa is None and "beta < phi" in steep[name].note
+
+
+@pytest.mark.parametrize("water_table, gamma", [
+    (0.0, 20.0 - 9.81),  # at the base: gamma' (common practice)
+    (2.0, 18.0),  # B below the base: gamma
+    (10.0, 18.0),
+    (0.5, 0.25 * 18.0 + 0.75 * (20.0 - 9.81)),  # between: linear in the depth of the water table
+])
+def test_water_table_in_the_ngamma_term(water_table, gamma):
+    wet_sand = Layer("sand", "mohr-coulomb", None, 18.0, friction_angle=30.0, saturated_unit_weight=20.0)
+    found = by_method(loaded_case(wet_sand, water_table=water_table))
+    for name, method in (("Meyerhof (1963)", "meyerhof"), ("Vesic (1973/1975)", "vesic"),
+                         ("EN 1997-1:2004 Annex D.4, drained", "ec7")):
+        ngamma = bearing_factors(method, 30.0)["Ngamma"]
+        assert found[name].pressure_kPa == pytest.approx(0.5 * gamma * 2.0 * ngamma), name
+
+
+def test_water_above_the_base_gives_effective_pressures_and_says_so():
+    wet_sand = Layer("sand", "mohr-coulomb", None, 18.0, friction_angle=30.0, saturated_unit_weight=20.0)
+    case = loaded_case(wet_sand, embedment=1.0, water_table=0.4)
+    q_eff = 18.0 * 0.4 + (20.0 - 9.81) * 0.6  # = Case.overburden_kPa()
+    assert case.overburden_kPa() == pytest.approx(q_eff)
+    est = by_method(case)["EN 1997-1:2004 Annex D.4, drained"]
+    f = bearing_factors("ec7", 30.0)
+    assert est.pressure_kPa == pytest.approx(q_eff * f["Nq"] + 0.5 * (20.0 - 9.81) * 2.0 * f["Ngamma"])
+    assert "pore pressure" in est.note
+
+
+def test_layered_methods_under_inclined_load_and_slope_say_why():
+    crust = (clay("stiff", 90.0, thickness=0.8), clay("soft", 30.0))
+    for kwargs, words in (({"inclination": 8.0}, "inclined load"),
+                          ({"slope": 20.0, "slope_height": 2.0}, "does not cover a sloping ground")):
+        found = by_method(loaded_case(*crust, **kwargs))
+        for name in ("Meyerhof & Hanna (1978), strong over weak",
+                     "Brown & Meyerhof (1969), stiff clay over soft clay"):
+            assert found[name].pressure_kPa is None and words in found[name].note, name
+            assert found[name].factors == {}
+    # The shortcuts take Meyerhof's inclination factors: the weakest layer's value.
+    found = by_method(loaded_case(*crust, inclination=8.0))
+    assert found["Equivalent homogeneous: weakest layer within 2B"].pressure_kPa == pytest.approx(
+        PRANDTL * 30.0 * (82.0 / 90.0) ** 2)
