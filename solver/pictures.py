@@ -1,8 +1,8 @@
 """Pictures of a run (matplotlib, PNG and SVG beside result.json).
 
 * ``model``: the ground profile, the layers with their parameters, the water
-  table (when given), the footing and the lower bound's mesh; the whole model
-  and a detail near the footing.
+  table (when given), the footing with its load and the lower bound's mesh; the
+  whole model and a detail near the footing.
 * ``mechanism``: the upper bound's collapse mechanism: plastic dissipation
   shaded on the mesh, velocity arrows, the footing's motion and the extent of
   the moving soil (m and multiples of B).
@@ -11,6 +11,13 @@
   positive).
 * :func:`convergence_figure`: lower and upper bound, and wall time, against the
   number of elements (for runs that refine the mesh).
+
+The ground is drawn as it is modelled (:class:`Profile`): level, or level to a
+crest, down a slope face to a toe and level beyond. Everything that belongs to
+the soil (layer bands, interfaces, the water table, velocity arrows, the
+mechanism's frame) is drawn only below the ground surface; the air stays blank.
+The load is drawn along its line of action: inclined as given and through the
+base at its eccentricity.
 
 Symmetric cases are solved on the half domain x >= 0 and mirrored here. Colour
 maps run from light to dark so that the pictures print in grey; every series
@@ -23,6 +30,7 @@ from __future__ import annotations
 import io
 import math
 import textwrap
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -30,7 +38,7 @@ from matplotlib import rc_context
 from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, LogNorm
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch, Rectangle
+from matplotlib.patches import Patch, Polygon, Rectangle
 from matplotlib.tri import LinearTriInterpolator, Triangulation
 
 from .export import BoundFields, principal_stresses, write_bytes_atomic
@@ -45,8 +53,13 @@ PAGE_WIDTH_IN = 7.2  # fits an A4 or Letter page with margins
 LAYER_COLOURS = ("#f3e6c4", "#bfd9d4", "#dcc08a", "#9cc3bb", "#e6d7b0", "#7fa9a1")
 LAYER_HATCHES = ("", ".", "/", "x", "\\", "o")
 FOOTING_COLOUR = "#3a3a3a"
+WATER_COLOUR = "#1f4e9c"  # dark: reads as a dark grey in print; the dash pattern tells it apart
+WATER_STYLE = (0, (6, 2, 1, 2))  # dash-dot: distinct from the dashed layer interfaces
 MOVING_SPEED = 1e-3  # as analysis.CLEAR_FRACTION: the soil 'moves' above this fraction of the footing's speed
 PLASTIC_UTILISATION = 0.98  # stress points at least this close to the yield surface count as plastic
+ARROW_CELLS = 30  # velocity arrows and stress crosses: grid cells across the detail view
+ARROW_LONGEST = 0.8  # the fastest soil's arrow, in grid cells
+ARROW_CLEARANCE = 0.08  # grid cells an arrow's ends keep below the ground surface (room for the head)
 # Light-to-dark maps that print in grey.
 UTILISATION_MAP = LinearSegmentedColormap.from_list("utilisation", ["#ffffff", "#e3e3e3", "#a6a6a6", "#6e6e6e"])
 # (light to mid: the black velocity arrows stay visible on the darkest shade, in colour or grey)
@@ -60,6 +73,126 @@ def plain(text: str) -> str:
     fill \\$x\\$
     """
     return str(text).replace("$", r"\$")
+
+
+# -- the ground as drawn ------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Profile:
+    """The ground surface and the soil below it, as the pictures draw them.
+
+    Coordinates in m: x from the footing centre, y up, y = 0 at the footing base.
+    Level ground lies at y = 0 (the soil above the base, ``Df`` thick, is drawn as
+    a band beside the footing but is not meshed). Beside a slope the ground is
+    level at y = 0 up to the crest, falls along the face to the toe at
+    (``toe_x``, -``slope_height``) and is level beyond. The soil is the region at
+    or below that surface inside the meshed box; the rest is air.
+
+    >>> p = Profile(B=1.0, Df=0.0, x_min=-10.0, x_max=20.0, depth=8.0, crest_x=1.0, toe_x=5.0, slope_height=2.0)
+    >>> p.surface_y(np.array([-3.0, 1.0, 3.0, 5.0, 9.0])).tolist()
+    [0.0, 0.0, -1.0, -2.0, -2.0]
+    >>> p.in_soil(np.array([[3.0, -0.5], [3.0, -1.5], [8.0, -1.0]])).tolist()
+    [False, True, False]
+    >>> p.soil_end(-1.0), p.soil_end(-3.0)
+    (3.0, 20.0)
+    """
+
+    B: float  # m, footing width
+    Df: float  # m, embedment
+    x_min: float  # m, the meshed box (a half domain's mirror image included)
+    x_max: float
+    depth: float  # m below the base
+    crest_x: float | None = None  # m, None: level ground
+    toe_x: float | None = None
+    slope_height: float = 0.0  # m
+
+    @classmethod
+    def of(cls, case: Case, domain: dict) -> Profile:
+        """From the case and result.json's "domain" (older results without the box's ends
+        or the slope keys are read as a level, centred box)."""
+        half = bool(domain.get("half_domain_by_symmetry"))
+        if domain.get("x_max_m") is not None:
+            x_max = float(domain["x_max_m"])
+            x_min = -x_max if half else float(domain["x_min_m"])
+        else:
+            x_max = float(domain["width_m"]) if half else float(domain["width_m"]) / 2
+            x_min = -x_max
+        crest, toe = domain.get("slope_crest_x_m"), domain.get("slope_toe_x_m")
+        if crest is None or toe is None:
+            crest = toe = None
+        return cls(B=case.footing.width, Df=case.footing.embedment, x_min=x_min, x_max=x_max,
+                   depth=float(domain["depth_m"]), crest_x=crest, toe_x=toe,
+                   slope_height=float(domain.get("slope_height_m") or 0.0) if crest is not None else 0.0)
+
+    @property
+    def slope(self) -> bool:
+        return self.crest_x is not None
+
+    @property
+    def slope_angle_deg(self) -> float:
+        return math.degrees(math.atan2(self.slope_height, self.toe_x - self.crest_x)) if self.slope else 0.0
+
+    def surface_y(self, x: np.ndarray) -> np.ndarray:
+        """Height (m) of the soil's top at x (the base level y = 0 beside the footing on level ground)."""
+        x = np.asarray(x, dtype=float)
+        if not self.slope:
+            return np.zeros_like(x)
+        return np.interp(x, [self.crest_x, self.toe_x], [0.0, -self.slope_height])
+
+    def soil_end(self, y: float) -> float:
+        """The largest x (m) at which the level y is still in the soil (its left end is x_min)."""
+        if not self.slope or y <= -self.slope_height:
+            return self.x_max
+        return min(self.crest_x + (-y) * (self.toe_x - self.crest_x) / self.slope_height, self.x_max)
+
+    def in_soil(self, points: np.ndarray, clearance: float = 0.0) -> np.ndarray:
+        """Whether points (n, 2) lie in the soil at least ``clearance`` (m, vertically) below its top."""
+        x, y = points[:, 0], points[:, 1]
+        return ((x >= self.x_min) & (x <= self.x_max) & (y >= -self.depth)
+                & (y <= self.surface_y(x) - clearance))
+
+    def segments_in_soil(self, start: np.ndarray, end: np.ndarray, clearance: float = 0.0) -> np.ndarray:
+        """Whether the straight segments start-end (n, 2 each) lie wholly in the soil.
+
+        The soil left of the toe is convex (below a concave surface), and so is the soil
+        right of it: a segment lies in the soil when its ends do and, if it crosses the
+        toe's vertical, so does that crossing point."""
+        inside = self.in_soil(start, clearance) & self.in_soil(end, clearance)
+        if not self.slope:
+            return inside
+        x0, x1 = start[:, 0], end[:, 0]
+        spans = (np.minimum(x0, x1) < self.toe_x) & (np.maximum(x0, x1) > self.toe_x)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(spans, (self.toe_x - x0) / (x1 - x0), 0.0)
+        crossing = start + t[:, None] * (end - start)
+        return inside & (~spans | self.in_soil(crossing, clearance))
+
+    def surface_corners(self, x_lo: float, x_hi: float) -> np.ndarray:
+        """(n, 2) the soil's top from x_lo to x_hi (m): its ends and the crest and toe between."""
+        xs = [x_lo] + ([x for x in (self.crest_x, self.toe_x) if x_lo < x < x_hi] if self.slope else []) + [x_hi]
+        xs = np.array(xs)
+        return np.column_stack([xs, self.surface_y(xs)])
+
+    def soil_polygon(self, x_lo: float, x_hi: float, y_lo: float) -> np.ndarray:
+        """(n, 2) corners of the soil within x_lo..x_hi and above y_lo (m), counter-clockwise."""
+        top = self.surface_corners(x_lo, x_hi)[::-1]
+        return np.vstack([[[x_lo, y_lo], [x_hi, y_lo]], top])
+
+    def ground_lines(self, x_lo: float, x_hi: float) -> list[np.ndarray]:
+        """The ground surface left and right of the footing (m), as polylines: the top of the
+        soil above the base (y = Df) on level ground, the true profile beside a slope."""
+        half = self.B / 2
+        left = np.array([[x_lo, self.Df], [-half, self.Df], [-half, 0.0]])
+        right = self.surface_corners(half, max(x_hi, half))
+        right[:, 1] += self.Df  # a slope comes with Df = 0 (the case file refuses both)
+        right = np.vstack([[[half, 0.0]], right])
+        return [left, right]
+
+    def clip_patch(self, ax, x_lo: float, x_hi: float, y_lo: float) -> Polygon:
+        """A patch (not drawn) of the soil, a little beyond the given box, to clip artists to."""
+        pad = 0.05 * (x_hi - x_lo)
+        return Polygon(self.soil_polygon(x_lo - pad, x_hi + pad, y_lo - pad), closed=True,
+                       transform=ax.transData)
 
 
 # -- geometry helpers ------------------------------------------------------------
@@ -104,75 +237,232 @@ def split_quadratic(triangles: np.ndarray) -> np.ndarray:
     return np.vstack([t[:, [0, 3, 5]], t[:, [3, 1, 4]], t[:, [5, 4, 2]], t[:, [3, 4, 5]]])
 
 
-def view_extent(B: float, domain: dict, mechanism: dict | None) -> tuple[float, float]:
-    """Half-width and depth (m) of the detail view: the mechanism with some room around it."""
-    if mechanism and mechanism.get("mechanism_half_width_m"):
-        half_width, depth = mechanism["mechanism_half_width_m"], mechanism["mechanism_depth_m"]
+def moving_extent(upper: BoundFields | None, half: bool) -> tuple[float, float, float] | None:
+    """(x_lo, x_hi, depth) in m of the soil moving faster than MOVING_SPEED (per unit velocity of
+    the footing along the load), from the upper bound's nodal velocities; None if nothing moves.
+
+    >>> f = BoundFields("upper", np.array([[0.0, 0.0], [2.0, -1.0], [5.0, -3.0]]), np.zeros((0, 6), int),
+    ...                 np.zeros(0, int), {"velocity": np.array([[0.0, -1.0], [0.5, 0.5], [0.0, 0.0]])})
+    >>> moving_extent(f, half=True)
+    (-2.0, 2.0, 1.0)
+    """
+    if upper is None or "velocity" not in upper.arrays:
+        return None
+    moving = np.hypot(*np.asarray(upper.arrays["velocity"]).T) > MOVING_SPEED
+    if not moving.any():
+        return None
+    x, depth = upper.points[moving, 0], float(-upper.points[moving, 1].min())
+    if half:
+        reach = float(np.abs(x).max())
+        return -reach, reach, depth
+    return float(x.min()), float(x.max()), depth
+
+
+def footing_motion(case: Case, upper: BoundFields, half: bool) -> dict | None:
+    """The rigid footing's velocity read from the nodes on its base (per unit velocity along
+    the load): horizontal ``u`` (rough base only; None on a smooth one, where the soil
+    slides), and vertical ``v_left``, ``v_right`` at its edges (negative: down)."""
+    B = case.footing.width
+    p, vel = upper.points, np.asarray(upper.arrays.get("velocity", np.zeros((0, 2))))
+    if len(vel) != len(p):
+        return None
+    tol = 1e-9 * max(float(np.abs(p).max()), 1.0)
+    base = (np.abs(p[:, 1]) <= tol) & (np.abs(p[:, 0]) <= B / 2 + tol)
+    if base.sum() < 2:
+        return None
+    x, v = p[base, 0], vel[base, 1]
+    if half:
+        x, v = np.concatenate([x, -x]), np.concatenate([v, v])
+    slope, at_centre = np.polyfit(x, v, 1)  # rigid: v = v_centre + omega x
+    u = float(np.median(vel[base, 0])) if case.footing.base == "rough" and not half else (0.0 if half else None)
+    return {"u": u, "v_left": float(at_centre - slope * B / 2), "v_right": float(at_centre + slope * B / 2)}
+
+
+def detail_view(profile: Profile, domain: dict, extent: tuple[float, float, float] | None
+                ) -> tuple[float, float, float]:
+    """x_lo, x_hi and depth (m) of the detail view: the mechanism with some room around it (centred
+    on the footing for a symmetric case), the crest, and the toe when it is within a mechanism's
+    width of the moving soil."""
+    B = profile.B
+    if extent is not None:
+        x_lo, x_hi, depth = extent
     else:
-        half_width = B / 2 + domain.get("estimated_mechanism_width_m", 2 * B)
-        depth = domain.get("estimated_mechanism_depth_m", 2 * B)
-    half_width = min(1.15 * half_width + 0.3 * B, domain["width_m"] / (1 if domain["half_domain_by_symmetry"] else 2))
-    depth = min(1.25 * depth + 0.3 * B, domain["depth_m"])
-    return half_width, depth
+        reach = B / 2 + domain.get("estimated_mechanism_width_m", 2 * B)
+        x_lo, x_hi, depth = -reach, reach, domain.get("estimated_mechanism_depth_m", 2 * B)
+    x_lo, x_hi = min(x_lo, -B / 2), max(x_hi, B / 2)
+    room = 0.075 * (x_hi - x_lo) + 0.3 * B
+    lo, hi, down = x_lo - room, x_hi + room, 1.25 * depth + 0.3 * B
+    if profile.slope:
+        hi = max(hi, profile.crest_x + 0.5 * B)
+        if profile.toe_x - x_hi <= x_hi - x_lo:
+            hi = max(hi, profile.toe_x + room)
+            down = max(down, profile.slope_height + 0.3 * B)
+    if extent is None or domain.get("half_domain_by_symmetry"):
+        lo, hi = -max(-lo, hi), max(-lo, hi)  # a symmetric case, or nothing measured: centred
+    return max(lo, profile.x_min), min(hi, profile.x_max), min(down, profile.depth)
 
 
-def _layer_label(layer, top: float, bottom: float) -> str:
-    """One legend line per layer: name, depths below ground, model and parameters with units."""
+def _wrap(text: str) -> str:
+    return textwrap.fill(text, 105, subsequent_indent="    ")
+
+
+def _layer_label(layer, top: float, bottom: float, water: float | None, slope: bool) -> str:
+    """One legend line per layer: name, depths below ground (m), model and parameters with units;
+    ``water``: the water table's depth below ground (m), None when there is none."""
     if layer.is_tresca:
         strength = f"Tresca, su = {layer.undrained_strength:g} kPa at its top"
         if layer.strength_gradient:
             strength += f", rising {layer.strength_gradient:g} kPa/m"
     else:
         strength = f"Mohr-Coulomb, c\u2032 = {layer.cohesion:g} kPa, \u03c6\u2032 = {layer.friction_angle:g}\u00b0"
-    depths = f"from {top:g} m below ground down" if math.isinf(bottom) else f"{top:g} to {bottom:g} m below ground"
-    return textwrap.fill(f"{plain(layer.name)} ({depths}): {strength}, \u03b3 = {layer.unit_weight:g} kN/m\u00b3",
-                         105, subsequent_indent="    ")
+        if layer.dilation_angle is not None:
+            strength += f", dilation \u03c8\u2032 = {layer.dilation_angle:g}\u00b0 (Davis reduction)"
+    weight = f"\u03b3 = {layer.unit_weight:g} kN/m\u00b3"
+    if water is not None and layer.saturated_unit_weight is not None:
+        weight += f", saturated {layer.saturated_unit_weight:g} kN/m\u00b3"
+    elif water is not None and bottom > water:
+        weight += " above and below the water table"
+    ground = "below the ground beside the footing" if slope else "below ground"
+    depths = f"from {top:g} m {ground} down" if math.isinf(bottom) else f"{top:g} to {bottom:g} m {ground}"
+    return _wrap(f"{plain(layer.name)} ({depths}): {strength}, {weight}")
 
 
-def _draw_ground(ax, case: Case, x_min: float, x_max: float, y_min: float, surcharge_marks: bool) -> list:
-    """Layer bands below the base, the soil above the base beside the footing, the ground
-    surface, the surcharge and the water table. Returns legend handles."""
+def _ratio(profile: Profile) -> str:
+    run = (profile.toe_x - profile.crest_x) / profile.slope_height
+    return f"1 : {run:.2f}"
+
+
+def _ground_handles(case: Case, profile: Profile) -> list:
+    """Legend entries of the ground: layers, soil above the base, surface, surcharge, water table."""
     handles = []
     B, Df = case.footing.width, case.footing.embedment
-    below = {id(layer): (top, bottom) for layer, top, bottom, _ in case.layers_below_base()}
+    below = {id(layer) for layer, *_ in case.layers_below_base()}
+    water = case.ground.water_table
     for i, (layer, top) in enumerate(zip(case.layers, case.layer_tops())):
         if id(layer) not in below:
-            continue  # wholly above the base: carried as surcharge, drawn below with that soil
-        colour, hatch = LAYER_COLOURS[i % len(LAYER_COLOURS)], LAYER_HATCHES[i % len(LAYER_HATCHES)]
-        base_top, base_bottom = below[id(layer)]
-        low = max(-base_bottom, y_min) if math.isfinite(base_bottom) else y_min
-        ax.add_patch(Rectangle((x_min, low), x_max - x_min, -base_top - low, facecolor=colour, hatch=hatch,
-                               edgecolor="#6b6b6b", linewidth=0.0, zorder=0))
-        if base_top > 0:
-            ax.axhline(-base_top, color="#4d4d4d", linewidth=0.8, linestyle="--", zorder=3)
+            continue  # wholly above the base: carried as surcharge, shown as that soil
         bottom = top + layer.thickness if layer.thickness is not None else math.inf
-        handles.append(Patch(facecolor=colour, hatch=hatch, edgecolor="#6b6b6b",
-                             label=_layer_label(layer, top, bottom)))
+        handles.append(Patch(facecolor=LAYER_COLOURS[i % len(LAYER_COLOURS)],
+                             hatch=LAYER_HATCHES[i % len(LAYER_HATCHES)], edgecolor="#6b6b6b",
+                             label=_layer_label(layer, top, bottom, water, profile.slope)))
     if Df > 0:
-        for left in (x_min, B / 2):
-            ax.add_patch(Rectangle((left, 0.0), x_max - B / 2, Df, facecolor="#ececec", hatch="---",
-                                   edgecolor="#9a9a9a", linewidth=0.0, zorder=0))
         handles.append(Patch(facecolor="#ececec", hatch="---", edgecolor="#9a9a9a",
-                             label=f"soil above the base (Df = {Df:g} m): not meshed, carried as the surcharge "
-                                   f"{case.overburden_kPa():g} kPa beside the footing"))
-    ax.plot([x_min, -B / 2, -B / 2], [Df, Df, 0], color="black", linewidth=0.9, zorder=4)
-    ax.plot([B / 2, B / 2, x_max], [0, Df, Df], color="black", linewidth=0.9, zorder=4)
+                             label=_wrap(f"soil above the base (Df = {Df:g} m): not meshed, carried as the "
+                                         f"surcharge {case.overburden_kPa():g} kPa beside the footing")))
+    if profile.slope:
+        g = case.ground
+        handles.append(Line2D([], [], color="black", linewidth=1.2, marker="o", markersize=4,
+                              markerfacecolor="white",
+                              label=_wrap(f"ground surface: level to the crest {g.crest_setback:g} m beyond the "
+                                          f"footing's edge (x = {profile.crest_x:g} m), a slope of "
+                                          f"{g.slope_angle:g}\u00b0 ({_ratio(profile)}, vertical : horizontal) "
+                                          "falling "
+                                          f"{profile.slope_height:g} m to the toe (x = {profile.toe_x:.2f} m), "
+                                          "level beyond; air above it is left blank")))
     if case.ground.surcharge > 0:
-        marks = np.linspace(0.95 * x_min, 0.95 * x_max, 41)
-        marks = marks[np.abs(marks) > B / 2 + 0.02 * (x_max - x_min)]
-        if surcharge_marks:
-            ax.plot(marks, np.full(marks.shape, Df + 0.06 * B), linestyle="none", marker=7, color="black",
-                    markersize=4, zorder=5)
+        where = "on the level ground at footing level (none on the slope or beyond the toe)" if profile.slope \
+            else "on the ground surface"
         handles.append(Line2D([], [], linestyle="none", marker=7, color="black", markersize=4,
-                              label=f"surcharge on the ground surface: {case.ground.surcharge:g} kPa"))
-    water = case.ground.water_table
+                              label=f"surcharge {where}: {case.ground.surcharge:g} kPa"))
     if water is not None:
-        y = Df - water
-        ax.axhline(y, color="#1f4e9c", linestyle=(0, (6, 3)), linewidth=1.0, zorder=5)
-        ax.plot([x_min + 0.04 * (x_max - x_min)], [y], marker="v", color="#1f4e9c", markersize=6, zorder=5)
-        handles.append(Line2D([], [], color="#1f4e9c", linestyle=(0, (6, 3)), marker="v",
-                              label=f"water table, {water:g} m below ground"))
+        ground = "the ground beside the footing" if profile.slope else "ground"
+        text = f"water table, {case.ground.water_table:g} m below {ground}" + (" (drawn in the soil only)"
+                                                                              if profile.slope else "")
+        if case.pore_pressure_at_base_kPa() > 0:
+            text += f"; pore pressure at the base {case.pore_pressure_at_base_kPa():.1f} kPa"
+        handles.append(Line2D([], [], color=WATER_COLOUR, linestyle=WATER_STYLE, marker="v", label=_wrap(text)))
     return handles
+
+
+def _clip(artists, patch) -> None:
+    for artist in artists if isinstance(artists, (list, tuple)) else [artists]:
+        artist.set_clip_path(patch)
+
+
+def _draw_ground(ax, case: Case, profile: Profile, x_lo: float, x_hi: float, y_lo: float,
+                 marks_within: tuple[float, float] | None) -> None:
+    """Layer bands (in the soil only), the soil above the base beside the footing, the
+    ground surface, the surcharge (marked within ``marks_within``, m, when given) and the
+    water table, over x_lo..x_hi and down to y_lo (m)."""
+    B, Df = case.footing.width, case.footing.embedment
+    soil = profile.clip_patch(ax, x_lo, x_hi, y_lo)
+    below = {id(layer): (top, bottom) for layer, top, bottom, _ in case.layers_below_base()}
+    for i, layer in enumerate(case.layers):
+        if id(layer) not in below:
+            continue
+        base_top, base_bottom = below[id(layer)]
+        if -base_top < y_lo:
+            continue
+        low = max(-base_bottom, y_lo) if math.isfinite(base_bottom) else y_lo
+        band = ax.add_patch(Rectangle((x_lo, low), x_hi - x_lo, -base_top - low,
+                                      facecolor=LAYER_COLOURS[i % len(LAYER_COLOURS)],
+                                      hatch=LAYER_HATCHES[i % len(LAYER_HATCHES)],
+                                      edgecolor="#6b6b6b", linewidth=0.0, zorder=0))
+        _clip(band, soil)
+    _draw_interfaces(ax, case, profile, x_lo, x_hi)
+    if Df > 0:
+        for left, right in ((x_lo, -B / 2), (B / 2, x_hi)):
+            ax.add_patch(Rectangle((left, 0.0), right - left, Df, facecolor="#ececec", hatch="---",
+                                   edgecolor="#9a9a9a", linewidth=0.0, zorder=0))
+    _draw_surface(ax, profile, x_lo, x_hi)
+    if case.ground.surcharge > 0 and marks_within is not None:
+        lo, hi = marks_within
+        level_end = profile.crest_x if profile.slope else hi  # the surcharge acts at footing level only
+        marks = np.linspace(lo, hi, 41)[1:-1]
+        marks = marks[(np.abs(marks) > B / 2 + 0.02 * (hi - lo)) & (marks <= level_end)]
+        ax.plot(marks, np.full(marks.shape, Df + 0.06 * B), linestyle="none", marker=7, color="black",
+                markersize=4, zorder=5)
+    _draw_water(ax, case, profile, x_lo, x_hi, y_lo, marker=True)
+
+
+def _draw_water(ax, case: Case, profile: Profile, x_lo: float, x_hi: float, y_lo: float, marker: bool) -> None:
+    """The water table from the left edge to where it meets the ground (the slope face)."""
+    if case.ground.water_table is None:
+        return
+    y = case.footing.embedment - case.ground.water_table
+    if y < y_lo:
+        return
+    start = max(x_lo, profile.x_min)
+    end = min(profile.soil_end(min(y, 0.0)), x_hi) if y <= 0 else x_hi  # above the base: beside the footing
+    ax.plot([start, end], [y, y], color=WATER_COLOUR, linestyle=WATER_STYLE, linewidth=1.0, zorder=5)
+    if marker:
+        ax.plot([start + 0.04 * (x_hi - x_lo)], [y], marker="v", color=WATER_COLOUR, markersize=6, zorder=5)
+
+
+def _draw_interfaces(ax, case: Case, profile: Profile, x_lo: float, x_hi: float) -> None:
+    """Dashed layer interfaces, each from the left edge to where it meets the ground."""
+    for _, layer_top, _, _ in case.layers_below_base():
+        if layer_top > 0:
+            ax.plot([max(x_lo, profile.x_min), min(profile.soil_end(-layer_top), x_hi)], [-layer_top, -layer_top],
+                    color="#4d4d4d", linewidth=0.8, linestyle="--", zorder=3)
+
+
+def _draw_surface(ax, profile: Profile, x_lo: float, x_hi: float) -> None:
+    for line in profile.ground_lines(x_lo, x_hi):
+        ax.plot(line[:, 0], line[:, 1], color="black", linewidth=1.0, zorder=4, solid_joinstyle="miter")
+
+
+def _mark_slope(ax, profile: Profile, x_lo: float, x_hi: float, labels: bool) -> None:
+    """Crest and toe as open circles (labelled when ``labels``), and the slope's angle along its face."""
+    if not profile.slope:
+        return
+    H = profile.slope_height
+    points = [(x, y, name) for x, y, name in ((profile.crest_x, 0.0, "crest"), (profile.toe_x, -H, "toe"))
+              if x_lo <= x <= x_hi]
+    for x, y, name in points:
+        ax.plot([x], [y], marker="o", markersize=4.5, markerfacecolor="white", markeredgecolor="black",
+                zorder=8, clip_on=False)
+        if labels:
+            ax.annotate(name, (x, y), xytext=(4, 4), textcoords="offset points", ha="left", va="bottom",
+                        fontsize=7.5, zorder=8)
+    if labels:
+        right = min(profile.toe_x, x_hi)
+        if right - profile.crest_x > 0.25 * (x_hi - x_lo):  # room along the face for the label
+            mid = (profile.crest_x + right) / 2
+            ax.annotate(f"{profile.slope_angle_deg:.1f}\u00b0 ({_ratio(profile)}), {H:g} m high",
+                        (mid, float(profile.surface_y(np.array(mid)))), xytext=(0, 5),
+                        textcoords="offset points", ha="center", va="bottom", fontsize=7.5,
+                        rotation=-profile.slope_angle_deg, rotation_mode="anchor", zorder=8)
 
 
 def _draw_footing(ax, B: float, Df: float, stem: float) -> Patch:
@@ -181,15 +471,30 @@ def _draw_footing(ax, B: float, Df: float, stem: float) -> Patch:
     return Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
 
 
-def _draw_interfaces(ax, case: Case) -> None:
-    for _, layer_top, _, _ in case.layers_below_base():
-        if layer_top > 0:
-            ax.axhline(-layer_top, color="#4d4d4d", linewidth=0.8, linestyle="--", zorder=3)
+def _draw_load(ax, case: Case, y_head: float, length: float) -> None:
+    """The load as a thick arrow along its line of action, head on the top of the footing;
+    the line continues (dotted) through the footing to the base at the eccentricity."""
+    delta = math.radians(case.footing.load_inclination)
+    e = case.footing.eccentricity
+    x_head = e - y_head * math.tan(delta)  # the line of action passes through (e, 0)
+    tail = (x_head - length * math.sin(delta), y_head + length * math.cos(delta))
+    ax.annotate("", xy=(x_head, y_head), xytext=tail, zorder=9,
+                arrowprops={"arrowstyle": "-|>,head_length=0.5,head_width=0.25", "color": "black",
+                            "linewidth": 1.8, "shrinkA": 0, "shrinkB": 0})
+    if delta != 0 or e != 0:
+        ax.plot([x_head, e], [y_head, 0.0], color="white", linestyle=":", linewidth=1.0, zorder=9)
+        ax.plot([e], [0.0], marker="o", markersize=3.5, markerfacecolor="white", markeredgecolor="black",
+                zorder=9, clip_on=False)
 
 
-def _draw_surface(ax, B: float, Df: float, hw: float) -> None:
-    ax.plot([-hw, -B / 2, -B / 2], [Df, Df, 0], color="black", linewidth=0.9, zorder=4)
-    ax.plot([B / 2, B / 2, hw], [0, Df, Df], color="black", linewidth=0.9, zorder=4)
+def _load_label(case: Case) -> str:
+    f = case.footing
+    if f.load_inclination == 0 and f.eccentricity == 0:
+        return "load: vertical, through the footing's centre"
+    side = "+x" if f.load_inclination > 0 else "-x"
+    slant = "vertical" if f.load_inclination == 0 else \
+        f"{abs(f.load_inclination):g}\u00b0 from vertical toward {side}"
+    return f"load: {slant}, through the base at e = {f.eccentricity:g} m from the centre (dotted: line of action)"
 
 
 def _mesh_lines(ax, tri: Triangulation, linewidth: float):
@@ -261,45 +566,68 @@ def _legend_height(labels: list[str]) -> float:
 
 # -- the pictures ---------------------------------------------------------------
 
+STEM = 0.2  # B: the footing drawn this far above the ground, so that it shows
+
+
+def _load_length(B: float, x_lo: float, x_hi: float) -> float:
+    """Length (m) of the load arrow: a quarter of B, but long enough to see in a wide view."""
+    return max(0.25 * B, 0.045 * (x_hi - x_lo))
+
+
+def _top(case: Case, x_lo: float, x_hi: float) -> float:
+    """Top of a detail view (m): room for the footing's stem, the load arrow and a margin."""
+    B = case.footing.width
+    return case.footing.embedment + STEM * B + _load_length(B, x_lo, x_hi) + 0.06 * B
+
+
 def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: BoundFields | None,
                  mechanism: dict | None = None) -> Figure:
-    """The model: layers, ground profile, water table, footing and mesh (whole model and detail)."""
+    """The model: layers, ground profile, water table, footing and load, mesh (whole model and detail).
+
+    ``mechanism`` (result.json's upper-bound "extra") is read for the detail view only when
+    there is no upper-bound velocity field to measure the moving soil from."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
-    x_far = domain["width_m"] if half else domain["width_m"] / 2
-    depth = domain["depth_m"]
-    top = Df + 0.3 * B
+    profile = Profile.of(case, domain)
     mesh_fields = lower if lower is not None else upper
-    hw, vd = view_extent(B, domain, mechanism)
+    x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
+    tops = (Df + 0.3 * B, _top(case, x_lo, x_hi))
     with rc_context(STYLE):
         kind = "lower" if lower is not None else "upper"
         mesh_label = (f"mesh of the {kind} bound: {mesh_fields.n_elements} triangles"
                       + (" on the half x \u2265 0, mirrored" if half else "")) if mesh_fields else "no mesh"
-        probe = Figure().add_subplot()  # the legend entries, to size the legend's row
-        labels = [h.get_label() for h in _draw_ground(probe, case, -1, 1, -1, False)] + ["footing", mesh_label]
-        whole, detail = _plot_size(2 * x_far, depth + top), _plot_size(2 * hw, vd + top)
+        footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
+        load = Line2D([], [], color="black", linewidth=1.8, marker=">", markersize=4, label=_load_label(case))
+        handles = _ground_handles(case, profile) + [footing, load,
+                                                    Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6,
+                                                           label=mesh_label)]
+        whole = _plot_size(profile.x_max - profile.x_min, profile.depth + tops[0])
+        detail = _plot_size(x_hi - x_lo, vd + tops[1])
         column = _Column([("title0", TITLE_IN), ("whole", whole[1]), ("xlabel0", XLABEL_IN),
                           ("title1", TITLE_IN), ("detail", detail[1]), ("xlabel1", XLABEL_IN),
-                          ("legend", _legend_height(labels))])
+                          ("legend", _legend_height([h.get_label() for h in handles]))])
         fig = column.fig
         axes = (column.axes("whole", whole[0]), column.axes("detail", detail[0]))
-        handles = []
-        for ax, (x_lim, y_lim, lw) in zip(axes, ((x_far, depth, 0.12), (hw, vd, 0.3))):
-            handles = _draw_ground(ax, case, -x_lim * 1.05, x_lim * 1.05, -y_lim * 1.05,
-                                   surcharge_marks=ax is axes[1])
-            footing = _draw_footing(ax, B, Df, stem=0.25 * B)
+        views = ((profile.x_min, profile.x_max, profile.depth, tops[0], 0.12),
+                 (x_lo, x_hi, vd, tops[1], 0.3))
+        for ax, (lo, hi, down, top, lw) in zip(axes, views):
+            pad = 0.05 * (hi - lo)
+            _draw_ground(ax, case, profile, lo - pad, hi + pad, -down - pad,
+                         marks_within=(lo, hi) if ax is axes[1] else None)
+            _draw_footing(ax, B, Df, stem=STEM * B)
+            _mark_slope(ax, profile, lo, hi, labels=ax is axes[1])
             if mesh_fields is not None:
                 _mesh_lines(ax, corner_triangulation(mesh_fields, half), lw)
-            ax.set_xlim(-x_lim, x_lim)
-            ax.set_ylim(-y_lim, top)
+            ax.set_xlim(lo, hi)
+            ax.set_ylim(-down, top)
             _axes_labels(ax)
         ax0, ax1 = axes
-        ax0.add_patch(Rectangle((-hw, -vd), 2 * hw, vd + top, fill=False, edgecolor="black",
+        _draw_load(ax1, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
+        ax0.add_patch(Rectangle((x_lo, -vd), x_hi - x_lo, vd + tops[1], fill=False, edgecolor="black",
                                 linestyle=":", linewidth=1.0, zorder=7))
         ax0.set_title(textwrap.shorten(f"The model: {plain(case.title)}", TITLE_CHARS, placeholder=" ..."),
                       loc="left")
         ax1.set_title("Detail near the footing (dotted frame above)", loc="left")
-        handles = handles + [footing, Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6, label=mesh_label)]
         lax = column.axes("legend", PAGE_WIDTH_IN - 0.2, left_in=0.1)
         lax.axis("off")
         lax.legend(handles=handles, loc="upper left", ncols=1, frameon=False, handlelength=2.2,
@@ -307,66 +635,92 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
     return fig
 
 
+def _extent(upper: BoundFields | None, half: bool, mechanism: dict | None) -> tuple[float, float, float] | None:
+    """The moving soil's extent: measured on the velocity field, else from result.json's numbers."""
+    extent = moving_extent(upper, half)
+    if extent is None and mechanism and mechanism.get("mechanism_half_width_m"):
+        reach = mechanism["mechanism_half_width_m"]
+        extent = (-reach, reach, mechanism["mechanism_depth_m"])
+    return extent
+
+
+def _motion_text(motion: dict | None) -> str:
+    if motion is None:
+        return ""
+    left, right = motion["v_left"], motion["v_right"]
+    vertical = (f"vertical {left:.2f} (negative: down)" if abs(left - right) <= 1e-3 * max(abs(left), abs(right), 1e-9)
+                else f"vertical {left:.2f} at its left edge and {right:.2f} at its right edge (negative: down)")
+    horizontal = ("free to slide (smooth base)" if motion["u"] is None
+                  else f"horizontal {motion['u']:.2f}")
+    return f" Footing (rigid): {horizontal}, {vertical}."
+
+
 def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: dict | None,
                      pressure_kPa: float | None) -> Figure:
-    """The upper bound's mechanism: dissipation shaded, velocity arrows, extent."""
+    """The upper bound's mechanism: dissipation shaded, velocity arrows, extent (all in the soil)."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
-    hw, vd = view_extent(B, domain, mechanism)
-    top = Df + 0.45 * B
+    profile = Profile.of(case, domain)
+    extent = _extent(upper, half, mechanism)
+    x_lo, x_hi, vd = detail_view(profile, domain, extent)
+    top = _top(case, x_lo, x_hi)
     caption = ("Shading: plastic dissipation per unit area (white: rigid, below 1/1000 of the peak). Arrows: "
-               "soil velocity per unit downward velocity of the footing (thick arrow).")
-    if mechanism and mechanism.get("mechanism_half_width_m"):
-        mw, md = mechanism["mechanism_half_width_m"], mechanism["mechanism_depth_m"]
-        caption += (f" Dashed frame: the soil moving faster than {MOVING_SPEED:.1%} of the footing, "
-                    f"{2 * mw:.2f} m wide ({2 * mw / B:.2f} B) and {md:.2f} m deep ({md / B:.2f} B).")
-    else:
-        mw = md = None
+               "soil velocity, each centred on its point and drawn only where it lies wholly in the soil, "
+               "length in proportion to the speed (key: the footing's velocity along the load = 1). Thick "
+               "arrow: the load along its line of action.")
+    caption += _motion_text(footing_motion(case, upper, half))
+    if extent is not None:
+        mx_lo, mx_hi, md = extent
+        caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.1%} of the footing, "
+                    f"{mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from {mx_lo:.2f} to {mx_hi:.2f} m) "
+                    f"and {md:.2f} m deep ({md / B:.2f} B).")
     if any(not layer.is_tresca and layer.cohesion == 0 for layer, *_ in case.layers_below_base()):
         caption += (" A cohesionless layer (c\u2032 = 0) dissipates no energy under associated flow: "
                     "it shows no shading, its motion shows in the arrows.")
     caption += " Dashed lines: layer interfaces."
+    if case.ground.water_table is not None:
+        caption += " Dash-dot line: the water table."
     with rc_context(STYLE):
-        fig, ax, cax = _field_layout(2 * hw, vd + top, caption)
+        fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
+        soil = profile.clip_patch(ax, x_lo, x_hi, -vd)
         tri = corner_triangulation(upper, half)
         density = np.concatenate([upper.arrays["dissipation"]] * (2 if half else 1))
         peak = float(density.max()) if density.size and density.max() > 0 else 1.0
         cmap = DISSIPATION_MAP.with_extremes(under="white")
         shade = ax.tripcolor(tri, facecolors=np.maximum(density, peak * 1e-9), cmap=cmap,
                              norm=LogNorm(vmin=peak * 1e-3, vmax=peak), rasterized=True, zorder=1)
-        _draw_interfaces(ax, case)
-        # velocity arrows on a regular grid, interpolated on the 6-node triangles split in four
-        pts = mirror_points(upper.points, half)
-        vel = upper.arrays["velocity"]
-        vel = np.vstack([vel, vel * [-1.0, 1.0]]) if half else vel
-        sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
-        fine = Triangulation(pts[:, 0], pts[:, 1], sub)
-        spacing = 2 * hw / 30
-        gx, gy = np.meshgrid(np.arange(-hw + spacing / 2, hw, spacing), np.arange(-spacing / 2, -vd, -spacing))
-        u = LinearTriInterpolator(fine, vel[:, 0])(gx, gy)
-        v = LinearTriInterpolator(fine, vel[:, 1])(gx, gy)
-        speed = np.ma.hypot(u, v)
-        show = ~np.ma.getmaskarray(speed) & (speed.filled(0) > 0.02)
-        arrows = ax.quiver(gx[show], gy[show], u[show], v[show], angles="xy", scale_units="xy",
-                           scale=1.0 / (0.9 * spacing), width=0.0026, color="#000000", zorder=5)
-        ax.quiverkey(arrows, 0.74, 0.05, 1.0, "footing velocity", labelpos="E", coordinates="axes",
-                     fontproperties={"size": 7.5})
-        _draw_footing(ax, B, Df, stem=0.2 * B)
-        ax.annotate("", xy=(0, Df + 0.2 * B), xytext=(0, top - 0.05 * B), zorder=7,
-                    arrowprops={"arrowstyle": "-|>", "color": "black", "linewidth": 1.6})
-        _draw_surface(ax, B, Df, hw)
-        if mw is not None:
-            ax.add_patch(Rectangle((-mw, -md), 2 * mw, md, fill=False, edgecolor="black", linestyle="--",
-                                   linewidth=1.0, zorder=6))
-            ax.annotate("", xy=(mw, -md), xytext=(mw, 0), zorder=7,
+        _draw_interfaces(ax, case, profile, x_lo, x_hi)
+        _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
+        arrows, unit = _velocity_arrows(ax, upper, half, profile, x_lo, x_hi, vd)
+        if arrows is not None:
+            _clip(arrows, soil)
+            key = _key_value(unit)
+            # the key sits in the air above a slope, clear of the arrows; below level ground otherwise
+            ax.quiverkey(arrows, 0.62, 0.9 if profile.slope else 0.05, key,
+                         f"{key:g} \u00d7 the footing's velocity along the load", labelpos="E",
+                         coordinates="axes",
+                         fontproperties={"size": 7.5})
+        _draw_footing(ax, B, Df, stem=STEM * B)
+        _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
+        _draw_surface(ax, profile, x_lo, x_hi)
+        _mark_slope(ax, profile, x_lo, x_hi, labels=True)
+        if extent is not None:
+            frame = ax.add_patch(Rectangle((mx_lo, -md), mx_hi - mx_lo, md, fill=False, edgecolor="black",
+                                           linestyle="--", linewidth=1.0, zorder=6))
+            _clip(frame, soil)
+            # dimensions along the left side and the bottom: both lie in the soil (the moving soil
+            # touches the bottom edge and the footing's left edge is left of any crest)
+            ax.annotate("", xy=(mx_lo, -md), xytext=(mx_lo, 0), zorder=7,
                         arrowprops={"arrowstyle": "<->", "color": "black", "linewidth": 0.8})
-            ax.text(mw - 0.01 * hw, -md / 2, f"depth {md:.2f} m\n= {md / B:.2f} B", ha="right", va="center",
-                    zorder=8, fontsize=7.5, bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
-            ax.annotate("", xy=(-mw, -md), xytext=(mw, -md), zorder=7,
+            ax.text(mx_lo + 0.01 * (x_hi - x_lo), -md / 2, f"depth {md:.2f} m\n= {md / B:.2f} B", ha="left",
+                    va="center", zorder=8, fontsize=7.5,
+                    bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
+            ax.annotate("", xy=(mx_lo, -md), xytext=(mx_hi, -md), zorder=7,
                         arrowprops={"arrowstyle": "<->", "color": "black", "linewidth": 0.8})
-            ax.text(0, -md - 0.01 * vd, f"width {2 * mw:.2f} m = {2 * mw / B:.2f} B", ha="center", va="top",
-                    zorder=8, fontsize=7.5, bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
-        ax.set_xlim(-hw, hw)
+            ax.text((mx_lo + mx_hi) / 2, -md - 0.01 * vd, f"width {mx_hi - mx_lo:.2f} m = {(mx_hi - mx_lo) / B:.2f} B",
+                    ha="center", va="top", zorder=8, fontsize=7.5,
+                    bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
+        ax.set_xlim(x_lo, x_hi)
         ax.set_ylim(-vd, top)
         _axes_labels(ax)
         bound = f"upper bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "upper bound withheld"
@@ -377,29 +731,79 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
     return fig
 
 
+def _key_value(unit: float) -> float:
+    """A round velocity for the arrows' key, no more than the fastest arrow (``unit``).
+
+    >>> _key_value(0.7), _key_value(3.4), _key_value(12.0)
+    (0.5, 3.0, 10.0)
+    """
+    for value in (10.0, 5.0, 3.0, 2.0, 1.0, 0.5, 0.2, 0.1):
+        if value <= unit * 1.0001:
+            return value
+    return unit
+
+
+def _velocity_arrows(ax, upper: BoundFields, half: bool, profile: Profile, x_lo: float, x_hi: float,
+                     vd: float):
+    """Velocity arrows on a regular grid, centred on their grid points, kept only where the
+    whole arrow lies in the soil. Returns the quiver (None if no arrow) and the fastest speed."""
+    pts = mirror_points(upper.points, half)
+    vel = np.asarray(upper.arrays["velocity"])
+    vel = np.vstack([vel, vel * [-1.0, 1.0]]) if half else vel
+    sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
+    fine = Triangulation(pts[:, 0], pts[:, 1], sub)
+    spacing = (x_hi - x_lo) / ARROW_CELLS
+    gx, gy = np.meshgrid(np.arange(x_lo + spacing / 2, x_hi, spacing), np.arange(-spacing / 2, -vd, -spacing))
+    u = LinearTriInterpolator(fine, vel[:, 0])(gx, gy)
+    v = LinearTriInterpolator(fine, vel[:, 1])(gx, gy)
+    speed = np.ma.hypot(u, v)
+    known = ~np.ma.getmaskarray(speed)
+    fastest = float(speed[known].max()) if known.any() else 0.0
+    if fastest <= 0:
+        return None, 0.0
+    scale = fastest / (ARROW_LONGEST * spacing)  # velocity per m of arrow
+    show = known & (speed.filled(0) > 0.02 * fastest)
+    centre = np.column_stack([gx[show], gy[show]])
+    half_arrow = np.column_stack([u[show].filled(0), v[show].filled(0)]) / (2 * scale)
+    fits = profile.segments_in_soil(centre - half_arrow, centre + half_arrow, ARROW_CLEARANCE * spacing)
+    if not fits.any():
+        return None, fastest
+    centre, arrow = centre[fits], 2 * half_arrow[fits] * scale
+    quiver = ax.quiver(centre[:, 0], centre[:, 1], arrow[:, 0], arrow[:, 1], angles="xy", scale_units="xy",
+                       scale=scale, pivot="middle", width=0.0026, color="#000000", zorder=5)
+    return quiver, fastest
+
+
 UTILISATION_LEVELS = (0.0, 0.5, 0.7, 0.8, 0.9, 0.95, 0.98, 1.0)
 
 
 def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict | None,
-                  pressure_kPa: float | None) -> Figure:
-    """The lower bound's stress field: utilisation and principal directions in the plastic zone."""
+                  pressure_kPa: float | None, upper: BoundFields | None = None) -> Figure:
+    """The lower bound's stress field: utilisation and principal directions in the plastic zone.
+    The view is the mechanism's (``upper`` when given, else ``mechanism``), so both pictures match."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
-    hw, vd = view_extent(B, domain, mechanism)
-    top = Df + 0.45 * B
+    profile = Profile.of(case, domain)
+    x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
+    top = _top(case, x_lo, x_hi)
     caption = (f"Shading: yield utilisation, the stress deviator over its value on the yield surface at the same "
                f"mean stress (1: on the yield surface). Crosses: principal stress directions (compression "
                f"positive) where every node of a triangle is within {1 - PLASTIC_UTILISATION:.0%} of the yield "
-               f"surface, one per grid cell. Dashed lines: layer interfaces.")
+               f"surface, one per grid cell. Thick arrow: the load along its line of action. "
+               f"Dashed lines: layer interfaces.")
+    if case.ground.water_table is not None:
+        caption += " Dash-dot line: the water table."
     with rc_context(STYLE):
-        fig, ax, cax = _field_layout(2 * hw, vd + top, caption)
+        fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
+        soil = profile.clip_patch(ax, x_lo, x_hi, -vd)
         tri = own_node_triangulation(lower, half)
         util = lower.arrays["utilisation"].reshape(-1)
         util = np.clip(np.concatenate([util] * (2 if half else 1)), 0.0, 1.0)
         shade = ax.tricontourf(tri, util, levels=list(UTILISATION_LEVELS), cmap=UTILISATION_MAP, zorder=1,
                                norm=BoundaryNorm(UTILISATION_LEVELS, UTILISATION_MAP.N))
         shade.set_rasterized(True)
-        _draw_interfaces(ax, case)
+        _draw_interfaces(ax, case, profile, x_lo, x_hi)
+        _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
         # principal directions at the centroids of plastic triangles, one per grid cell
         stress = lower.arrays["stress_kPa"].mean(axis=1)  # compression positive
         centroid = lower.points[lower.triangles[:, :3]].mean(axis=1)
@@ -408,20 +812,23 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
             stress = np.vstack([stress, stress * [1.0, 1.0, -1.0]])
             centroid = np.vstack([centroid, centroid * [-1.0, 1.0]])
             plastic = np.concatenate([plastic, plastic])
-        spacing = 2 * hw / 30
-        inside = plastic & (np.abs(centroid[:, 0]) < hw) & (centroid[:, 1] > -vd)
+        spacing = (x_hi - x_lo) / ARROW_CELLS
+        inside = plastic & (centroid[:, 0] > x_lo) & (centroid[:, 0] < x_hi) & (centroid[:, 1] > -vd)
         picked = np.flatnonzero(inside)
         _, first = np.unique(np.floor(centroid[picked] / spacing).astype(int), axis=0, return_index=True)
         picked = picked[first]
         _, _, angle = principal_stresses(stress[picked])
         for turn, size, width in ((0.0, 0.75, 0.0026), (np.pi / 2, 0.4, 0.0013)):
-            ax.quiver(centroid[picked, 0], centroid[picked, 1], size * spacing * np.cos(angle + turn),
-                      size * spacing * np.sin(angle + turn), angles="xy", scale_units="xy", scale=1.0,
-                      pivot="middle", headwidth=0, headlength=0, headaxislength=0, width=width,
-                      color="black", zorder=5)
-        _draw_footing(ax, B, Df, stem=0.2 * B)
-        _draw_surface(ax, B, Df, hw)
-        ax.set_xlim(-hw, hw)
+            crosses = ax.quiver(centroid[picked, 0], centroid[picked, 1], size * spacing * np.cos(angle + turn),
+                                size * spacing * np.sin(angle + turn), angles="xy", scale_units="xy", scale=1.0,
+                                pivot="middle", headwidth=0, headlength=0, headaxislength=0, width=width,
+                                color="black", zorder=5)
+            _clip(crosses, soil)  # a cross at the slope face is cut there, never drawn in the air
+        _draw_footing(ax, B, Df, stem=STEM * B)
+        _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
+        _draw_surface(ax, profile, x_lo, x_hi)
+        _mark_slope(ax, profile, x_lo, x_hi, labels=True)
+        ax.set_xlim(x_lo, x_hi)
         ax.set_ylim(-vd, top)
         _axes_labels(ax)
         bound = f"lower bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "lower bound withheld"
@@ -430,7 +837,7 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
                                   label="major principal stress \u03c3\u2081 (compression): direction"),
                            Line2D([], [], color="black", linewidth=0.9,
                                   label="minor principal stress \u03c3\u2083: direction")],
-                  loc="lower left", framealpha=0.95, fontsize=7.5)
+                  loc="upper right" if profile.slope else "lower left", framealpha=0.95, fontsize=7.5)
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", ticks=list(UTILISATION_LEVELS))
         bar.set_label("yield utilisation (1 = plastic)")
     return fig
@@ -493,7 +900,7 @@ def draw_all(case: Case, data: dict, fields: dict[str, BoundFields]) -> dict[str
                                                 upper_data.get("pressure_kPa"))
     if "lower" in fields:
         figures["stress"] = stress_figure(case, domain, fields["lower"], mechanism,
-                                          lower_data.get("pressure_kPa"))
+                                          lower_data.get("pressure_kPa"), fields.get("upper"))
     return figures
 
 

@@ -210,17 +210,17 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         _caution(),
         _identity(d),
         _bracket(d, case),
-        _safety(d),
+        _safety(d, case),
         _hand(d),
         _pictures(run, images),
-        _inputs(case),
+        _inputs(case, d),
         _certificates(d),
-        _statistics(d),
+        _statistics(d, run),
         _notes(run),
         _caution(final=True),
         f"<footer>bearbound {esc(d.get('software', {}).get('version'))}; case file SHA-256 "
         f'<span class="hash">{esc(d["case"].get("sha256"))}</span>. Pressures and loads are compression '
-        "positive; pressure = collapse load / B.</footer>",
+        "positive; pressure = vertical component of the collapse load / B.</footer>",
         "</body>", "</html>",
     ]
     return "\n".join(parts) + "\n"
@@ -252,25 +252,55 @@ def _bracket(d: dict, case: Case) -> str:
     B = d.get("footing_width_m")
     lo, up = lower.get("pressure_kPa"), upper.get("pressure_kPa")
     out = ["<h2>The bracket</h2>"]
+    f = case.footing
+    inclined = f.load_inclination != 0 or f.eccentricity != 0
     if lo is not None and up is not None:
-        out.append(f'<div class="bracket">Collapse pressure under the footing: <span class="big">'
-                   f"{num(lo)} to {num(up)} kPa</span> (gap {num(d.get('gap_percent'), 2)} %)<br>"
-                   f"Collapse load: {num(lo * B)} to {num(up * B)} kN/m of footing, B = {num(B, 2)} m</div>")
+        text = (f'<div class="bracket">Collapse pressure under the footing: <span class="big">'
+                f"{num(lo)} to {num(up)} kPa</span> (gap {num(d.get('gap_percent'), 2)} %)<br>"
+                f"{'Vertical collapse load' if inclined else 'Collapse load'}: {num(lo * B)} to {num(up * B)} kN/m "
+                f"of footing, B = {num(B, 2)} m")
+        if inclined:
+            ex_lo, ex_up = lower.get("extra") or {}, upper.get("extra") or {}
+            text += (f"<br>The load along its line of action ({num(f.load_inclination, 1, 'degrees')} from "
+                     f"vertical, through the base at e = {num(f.eccentricity, 3, 'm')}): "
+                     f"{num(lower.get('load_kN_per_m'))} to {num(upper.get('load_kN_per_m'))} kN/m; at collapse "
+                     f"H = {num(ex_lo.get('horizontal_kN_per_m'))} to {num(ex_up.get('horizontal_kN_per_m'))} kN/m, "
+                     f"M about the footing's centre = {num(ex_lo.get('moment_kNm_per_m'))} to "
+                     f"{num(ex_up.get('moment_kNm_per_m'))} kNm/m")
+        out.append(text + "</div>")
     else:
         out.append('<div class="bracket">No complete bracket: a bound was not asked for or is withheld '
                    "(see the table).</div>")
     rows = []
     for kind, b in (("lower", lower), ("upper", upper)):
         if not b:
-            rows.append(f"<tr><td>{kind} bound</td><td colspan='4'>not asked for</td></tr>")
+            rows.append(f"<tr><td>{kind} bound</td><td colspan='7'>not asked for</td></tr>")
             continue
         standing = ('<span class="pass">certified</span>' if b.get("pressure_kPa") is not None
-                    else f'<span class="fail">withheld</span>: {esc(b.get("status"))}')
+                    else f'<span class="fail">withheld</span>: '
+                         f'{esc(str(b.get("status")).removeprefix("withheld: "))}')
+        extra = b.get("extra") or {}
         rows.append(f"<tr><td>{kind} bound</td><td class='n'>{num(b.get('pressure_kPa'))}</td>"
-                    f"<td class='n'>{num(b.get('load_kN_per_m'))}</td><td>{standing}</td>"
+                    f"<td class='n'>{num(b.get('load_kN_per_m'))}</td>"
+                    f"<td class='n'>{num(extra.get('vertical_kN_per_m'))}</td>"
+                    f"<td class='n'>{num(extra.get('horizontal_kN_per_m'))}</td>"
+                    f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td><td>{standing}</td>"
                     f"<td class='small'>{esc(b.get('method'))}</td></tr>")
-    out.append("<table><tr><th>bound</th><th>pressure (kPa)</th><th>load (kN/m)</th><th>standing</th>"
-               "<th>method</th></tr>" + "".join(rows) + "</table>")
+    out.append("<table><tr><th>bound</th><th>pressure (kPa)</th><th>load (kN/m)</th><th>V (kN/m)</th>"
+               "<th>H (kN/m)</th><th>M (kNm/m)</th><th>standing</th><th>method</th></tr>"
+               + "".join(rows) + "</table>")
+    out.append('<p class="small">Pressure: the vertical component of the collapse load over B. Load: the '
+               "collapse load along its line of action; V and H its vertical and horizontal components, M its "
+               "moment about the footing's centre (V times the eccentricity), all at collapse.</p>")
+    if case.ground.water_table is not None:
+        u = d.get("pore_pressure_at_base_kPa")
+        text = f"Pore pressure at the footing base: <strong>{num(u, 1, 'kPa')}</strong>"
+        if u and lo is not None and up is not None:
+            text += (f". The pressures above are effective; the total contact pressure adds it: "
+                     f"{num(lo + u)} to {num(up + u)} kPa")
+        elif not u:
+            text += " (the water table is at or below the base)"
+        out.append(f"<p>{text}.</p>")
     out.append('<p class="small">A bound is reported only when its certificate (the residuals of the '
                "solution, recomputed after the solve) passes. The true collapse load of the idealised "
                "problem (rigid-perfectly plastic soil, associated flow, plane strain) lies between the "
@@ -278,17 +308,23 @@ def _bracket(d: dict, case: Case) -> str:
     return "\n".join(out)
 
 
-def _safety(d: dict) -> str:
+def _safety(d: dict, case: Case) -> str:
     fos = d.get("factor_of_safety")
-    if not fos:
+    if not fos and case.footing.design_load is None and case.factors is None:
         return ("<h2>Factor of safety</h2><p>No <code>[footing] design_load</code> and no "
                 "<code>[factors]</code> in the case file: no factor of safety is computed.</p>")
+    if not fos:
+        return "<h2>Factor of safety</h2><p>result.json holds no factor of safety for this run.</p>"
     out = ["<h2>Factor of safety</h2>"]
     design = fos.get("design_load_kN_per_m")
     if design is not None:
         load, strength = fos.get("load", {}), fos.get("strength", {})
-        out.append(f"<p>Design load: <strong>{num(design)} kN/m</strong> "
-                   f"({num(design / d['footing_width_m'])} kPa under the footing).</p>")
+        vertical = design * math.cos(math.radians(case.footing.load_inclination))
+        slant = (f", along the load's line of action ({num(case.footing.load_inclination, 1, 'degrees')} from "
+                 f"vertical); its vertical component is {num(vertical)} kN/m"
+                 if case.footing.load_inclination else "")
+        out.append(f"<p>Design load: <strong>{num(design)} kN/m</strong>{slant} "
+                   f"({num(vertical / d['footing_width_m'])} kPa vertical pressure under the footing).</p>")
         s_lo, s_up = strength.get("lower"), strength.get("upper")
         beyond_lo = strength.get("lower_beyond_range")
         lo_text = (("&ge; " if beyond_lo else "") + num(s_lo, 3)) if s_lo is not None else "&mdash;"
@@ -383,7 +419,8 @@ def _hand(d: dict) -> str:
 
 
 FIGURE_CAPTIONS = {
-    "model": "The model: ground profile, layers with their parameters, footing and mesh.",
+    "model": ("The model: ground profile (with the crest and toe of a slope), layers with their parameters, "
+              "water table, footing with its load, and mesh."),
     "mechanism": "Upper bound: the collapse mechanism (plastic dissipation, velocities, extent).",
     "stress": "Lower bound: the stress field (yield utilisation, principal stress directions in the plastic zone).",
 }
@@ -403,40 +440,65 @@ def _pictures(run: Run, images: dict[str, bytes]) -> str:
     return "\n".join(out)
 
 
-def _inputs(case: Case) -> str:
+def _inputs(case: Case, d: dict) -> str:
     f, g, a = case.footing, case.ground, case.analysis
+    dom = d.get("domain") or {}
     out = ['<h2 class="pagebreak">Inputs (restated from the case file)</h2>']
+    side = "toward the slope (+x)" if g.slope_angle > 0 else "toward +x"
     out.append(_kv("Footing", [
         ("width B", num(f.width, 3, "m")), ("base", esc(f.base)), ("embedment Df", num(f.embedment, 3, "m")),
-        ("design load", num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given"),
-        ("load inclination", num(f.load_inclination, 1, "degrees from vertical")),
-        ("eccentricity", num(f.eccentricity, 3, "m"))]))
-    out.append(_kv("Ground", [
-        ("surcharge on the ground surface", num(g.surcharge, 2, "kPa")),
-        ("vertical stress at the base level beside the footing", num(case.overburden_kPa(), 2, "kPa")),
-        ("water table", num(g.water_table, 2, "m below ground") if g.water_table is not None else "not given"),
-        ("slope angle", num(g.slope_angle, 1, "degrees"))]))
+        ("load inclination", num(f.load_inclination, 1, "degrees from vertical") + f", positive {esc(side)}"),
+        ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
+                                                                               "positive toward +x"),
+        ("design load (along the load's line of action)",
+         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given")]))
+    ground = [("surcharge on the ground surface", num(g.surcharge, 2, "kPa")
+               + (" (on the level ground at footing level only)" if g.slope_angle > 0 else "")),
+              ("vertical stress at the base level beside the footing", num(case.overburden_kPa(), 2, "kPa"))]
+    if g.slope_angle > 0:
+        run = 1 / math.tan(math.radians(g.slope_angle))
+        ground += [("slope angle", num(g.slope_angle, 1, "degrees") + f" (1 vertical : {esc(f'{run:.2f}')} "
+                                                                      "horizontal), falling toward +x"),
+                   ("crest setback from the footing's edge", num(g.crest_setback, 3, "m")),
+                   ("slope height, crest to toe", num(g.slope_height, 3, "m")),
+                   ("crest and toe (x from the footing centre)",
+                    f"{num(dom.get('slope_crest_x_m'), 3, 'm')} and {num(dom.get('slope_toe_x_m'), 3, 'm')}")]
+    else:
+        ground.append(("slope angle", "0 (level ground)"))
+    ground.append(("water table", num(g.water_table, 2, "m") + " below the ground surface beside the footing"
+                   if g.water_table is not None else "not given (below the model)"))
+    if g.water_table is not None:
+        ground.append(("pore pressure at the footing base", num(d.get("pore_pressure_at_base_kPa"), 1, "kPa")))
+    out.append(_kv("Ground", ground))
     rows = []
     for i, (layer, top) in enumerate(zip(case.layers, case.layer_tops()), 1):
         thickness = num(layer.thickness, 3, "m") if layer.thickness is not None else "to the model base"
         if layer.is_tresca:
             strength = (f"su = {num(layer.undrained_strength, 2, 'kPa')} at its top, rising "
                         f"{num(layer.strength_gradient, 2, 'kPa/m')}")
+            dilation = "&mdash;"
         else:
             strength = (f"c&prime; = {num(layer.cohesion, 2, 'kPa')}, "
                         f"&phi;&prime; = {num(layer.friction_angle, 2, 'degrees')}")
+            dilation = (num(layer.dilation_angle, 2, "degrees") + " (Davis reduction)"
+                        if layer.dilation_angle is not None else "= &phi;&prime; (associated flow)")
+        saturated = (num(layer.saturated_unit_weight, 2, "kN/m³") if layer.saturated_unit_weight is not None
+                     else "= unit weight")
         rows.append(f"<tr><td class='n'>{i}</td><td>{esc(layer.name)}</td><td class='n'>{num(top, 3, 'm')}</td>"
-                    f"<td class='n'>{thickness}</td><td>{esc(layer.model)}</td><td>{strength}</td>"
-                    f"<td class='n'>{num(layer.unit_weight, 2, 'kN/m³')}</td></tr>")
+                    f"<td>{thickness}</td><td>{esc(layer.model)}</td><td>{strength}</td>"
+                    f"<td>{dilation}</td><td>{num(layer.unit_weight, 2, 'kN/m³')}; saturated {saturated}</td></tr>")
     out.append("<h3>Layers (top to bottom)</h3><table><tr><th>#</th><th>name</th><th>top below ground</th>"
-               "<th>thickness</th><th>model</th><th>strength</th><th>unit weight</th></tr>"
-               + "".join(rows) + "</table>")
+               "<th>thickness</th><th>model</th><th>strength</th><th>dilation angle &psi;&prime;</th>"
+               "<th>unit weight; saturated (below the water table)</th></tr>" + "".join(rows) + "</table>")
     out.append(_kv("Analysis", [("bounds", esc(a.bounds)), ("target elements per bound", num(a.elements)),
                                 ("back end", esc(a.backend))]))
     if case.factors is not None:
         fa = case.factors
-        out.append(_kv("Partial factors", [(esc(k), num(getattr(fa, k), 2)) for k in
-                                           ("friction", "cohesion", "undrained_strength", "load", "resistance")]))
+        meaning = {"friction": "divides tan &phi;&prime;", "cohesion": "divides c&prime;",
+                   "undrained_strength": "divides su", "load": "multiplies the design load",
+                   "resistance": "divides the bearing resistance"}
+        out.append(_kv("Partial factors (dimensionless)",
+                       [(esc(k), f"{num(getattr(fa, k), 2)} ({meaning[k]})") for k in meaning]))
     return "\n".join(out)
 
 
@@ -457,7 +519,7 @@ def _certificates(d: dict) -> str:
     return "\n".join(out)
 
 
-def _statistics(d: dict) -> str:
+def _statistics(d: dict, run: Run) -> str:
     header = "<tr><th></th><th>lower bound</th><th>upper bound</th></tr>"
     keys = [("elements", "triangles"), ("variables", "variables"), ("equalities", "equality rows"),
             ("cones", "second-order cones (3-D)"), ("iterations", "interior-point iterations")]
@@ -476,10 +538,19 @@ def _statistics(d: dict) -> str:
           ("meshed width", num(dom.get("width_m"), 2, "m")), ("meshed depth", num(dom.get("depth_m"), 2, "m"))]
     if extra:
         B = d.get("footing_width_m") or 1.0
+        from .pictures import moving_extent
+
+        extent = moving_extent(run.fields.get("upper"), bool(dom.get("half_domain_by_symmetry")))
+        if extent is not None:  # measured on the velocity field: right for an asymmetric mechanism too
+            x_lo, x_hi, _ = extent
+            width = (f"{num(x_hi - x_lo, 2, 'm')} ({num((x_hi - x_lo) / B, 2)} B), x from {num(x_lo, 2, 'm')} "
+                     f"to {num(x_hi, 2, 'm')}")
+        else:
+            reach = extra.get("mechanism_half_width_m", 0.0)
+            width = f"reaches {num(reach, 2, 'm')} ({num(reach / B, 2)} B) from the footing's centre"
         kv += [("upper-bound mechanism depth", f"{num(extra.get('mechanism_depth_m'), 2, 'm')} "
                                                f"({num(extra.get('mechanism_depth_over_B'), 2)} B)"),
-               ("upper-bound mechanism width", f"{num(2 * extra.get('mechanism_half_width_m', 0.0), 2, 'm')} "
-                                               f"({num(2 * extra.get('mechanism_half_width_m', 0.0) / B, 2)} B)"),
+               ("upper-bound mechanism width", width),
                ("mechanism clear of the far boundary", "yes" if extra.get("mechanism_clear_of_boundary") else "NO")]
     out.append(_kv(None, kv))
     return "\n".join(out)

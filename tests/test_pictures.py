@@ -148,3 +148,171 @@ def test_convergence_figure_from_rows():
     assert left.get_ylabel() == "collapse pressure (kPa)" and right.get_ylabel() == "wall time (s)"
     assert right.get_yscale() == "log"
     assert len(figure_bytes(fig, "png")) > 10_000
+
+
+# A slope scenario (invented): a footing 1 m from the crest of a 30-degree cutting 2 m high,
+# an inclined and eccentric load, a water table that meets the slope face, a surcharge on the
+# level ground; coarse meshes, so that it solves in about a second.
+SLOPE = {
+    "title": "Test: strip beside a cutting, inclined and eccentric load",
+    "footing": {"width": 1.0, "load_inclination": 10.0, "eccentricity": 0.1, "design_load": 90.0},
+    "ground": {"slope_angle": 30.0, "crest_setback": 1.0, "slope_height": 2.0, "water_table": 1.5,
+               "surcharge": 3.0},
+    "layers": [
+        {"name": "sandy fill", "thickness": 1.0, "model": "mohr-coulomb", "cohesion": 8.0,
+         "friction_angle": 28.0, "dilation_angle": 14.0, "unit_weight": 18.0, "saturated_unit_weight": 19.5},
+        {"name": "stiff clay", "model": "tresca", "undrained_strength": 40.0, "unit_weight": 18.0},
+    ],
+    "analysis": {"elements": 600},
+}
+
+
+@pytest.fixture(scope="module")
+def slope_run():
+    case = parse_case(SLOPE, name="slope")
+    result = analyse(case)
+    fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
+              if v is not None}
+    assert set(fields) == {"lower", "upper"}
+    return case, result.to_dict(), fields
+
+
+def ground_top(domain, x):
+    """The soil's top (m) at x, from result.json's slope keys: level, the face, level beyond the toe
+    (written here again, independently of solver.pictures.Profile)."""
+    crest, toe, height = domain["slope_crest_x_m"], domain["slope_toe_x_m"], domain["slope_height_m"]
+    return np.where(x <= crest, 0.0, np.where(x >= toe, -height, -(x - crest) * height / (toe - crest)))
+
+
+def in_soil(domain, x, y, tol=1e-9):
+    return (y <= ground_top(domain, x) + tol) & (x >= domain["x_min_m"] - tol) & (x <= domain["x_max_m"] + tol)
+
+
+def test_slope_pictures_put_no_arrow_and_no_soil_line_in_the_air(slope_run):
+    from matplotlib.quiver import Quiver
+
+    case, data, fields = slope_run
+    domain = data["domain"]
+    figures = draw_all(case, data, fields)
+    ax = figures["mechanism"].axes[0]
+    arrows = [c for c in ax.collections if isinstance(c, Quiver)]
+    assert len(arrows) == 1
+    q = arrows[0]
+    assert q.pivot == "middle" and q.scale_units == "xy" and q.angles == "xy"
+    assert len(q.X) >= 20  # the mechanism is drawn, not filtered away
+    half = np.column_stack([q.U, q.V]) / (2 * q.scale)  # arrow from centre - half to centre + half
+    centre = np.column_stack([q.X, q.Y])
+    for t in np.linspace(-1.0, 1.0, 21):  # every arrow along its whole length
+        point = centre + t * half
+        assert in_soil(domain, point[:, 0], point[:, 1]).all(), f"an arrow leaves the soil at {t:+.1f} of its half"
+    # the arrows reach the soil right up to the slope face (the fastest soil moves out through it)
+    face = (q.X > domain["slope_crest_x_m"]) & (q.X < domain["slope_toe_x_m"])
+    assert face.any()
+    # interfaces (dashed) and the water table (dash-dot) end where they meet the ground
+    for name, fig in figures.items():
+        for axes in fig.axes:
+            for line in axes.get_lines():
+                if line.get_linestyle() in ("--", "-."):  # interfaces; the water table's dash-dot is '--' here
+                    x, y = (np.asarray(v, dtype=float) for v in line.get_data())
+                    assert in_soil(domain, x, y, tol=1e-6).all(), (name, x, y)
+    # the water table, 1.5 m down, ends on the slope face three quarters of the way to the toe
+    water = [line for line in ax.get_lines()
+             if line.get_color() == solver.pictures.WATER_COLOUR and len(line.get_xdata()) == 2]
+    assert len(water) == 1
+    x, y = (np.asarray(v, dtype=float) for v in water[0].get_data())
+    crest, toe = domain["slope_crest_x_m"], domain["slope_toe_x_m"]
+    assert y.tolist() == [-1.5, -1.5] and abs(x[1] - (crest + 0.75 * (toe - crest))) < 1e-9
+
+
+def air_pixels_are_blank(fig, ax, domain, clearance: float):
+    """Render the figure and check that the air above the slope face, ``clearance`` m above the
+    ground and away from any text or legend, is white. Returns the number of pixels checked."""
+    with rc_context(STYLE):
+        canvas = FigureCanvasAgg(fig)
+        canvas.draw()
+        renderer = canvas.get_renderer()
+    image = np.asarray(canvas.buffer_rgba())[..., :3] / 255.0
+    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    gx, gy = np.meshgrid(np.linspace(x0, x1, 80)[1:-1], np.linspace(y0, y1, 40)[1:-1])
+    gx, gy = gx.ravel(), gy.ravel()
+    air = (gy > ground_top(domain, gx) + clearance) & (gy < -clearance) & (gx > domain["slope_crest_x_m"])
+    pixels = ax.transData.transform(np.column_stack([gx[air], gy[air]]))
+    boxes = [t.get_window_extent(renderer).expanded(1.1, 1.4) for t in fig.findobj(Text)
+             if t.get_visible() and t.get_text().strip()]
+    if ax.get_legend() is not None:
+        boxes.append(ax.get_legend().get_window_extent(renderer))
+    keep = [p for p in pixels if not any(b.contains(*p) for b in boxes)]
+    height = image.shape[0]
+    for px, py in keep:
+        patch = image[int(height - py) - 1:int(height - py) + 2, int(px) - 1:int(px) + 2]
+        assert patch.min() > 0.97, f"something is drawn in the air at pixel {px:.0f}, {py:.0f}"
+    return len(keep)
+
+
+def test_slope_pictures_leave_the_air_blank(slope_run):
+    case, data, fields = slope_run
+    figures = draw_all(case, data, fields)
+    mechanism = figures["mechanism"].axes[0]
+    for artist in list(mechanism.artists):  # the arrows' key sits in the air by design
+        artist.remove()
+    checked = [air_pixels_are_blank(figures["model"], figures["model"].axes[1], data["domain"], 0.15),
+               air_pixels_are_blank(figures["mechanism"], mechanism, data["domain"], 0.15),
+               air_pixels_are_blank(figures["stress"], figures["stress"].axes[0], data["domain"], 0.15)]
+    assert min(checked) >= 30, checked  # enough of the air was looked at
+
+
+def test_slope_pictures_draw_the_profile_the_crest_toe_and_the_inclined_eccentric_load(slope_run):
+    from matplotlib.text import Annotation
+
+    case, data, fields = slope_run
+    domain = data["domain"]
+    crest, toe, height = domain["slope_crest_x_m"], domain["slope_toe_x_m"], domain["slope_height_m"]
+    figures = draw_all(case, data, fields)
+    for name, fig in figures.items():
+        ax = fig.axes[1] if name == "model" else fig.axes[0]
+        # the ground line runs through the crest and the toe
+        vertices = np.vstack([np.column_stack(line.get_data()) for line in ax.get_lines()
+                              if line.get_linestyle() == "-" and line.get_color() == "black"])
+        for corner in ((crest, 0.0), (toe, -height)):
+            assert np.min(np.hypot(*(vertices - corner).T)) < 1e-9, (name, corner)
+        texts = [t.get_text() for t, _ in drawn_texts(fig)]
+        assert "crest" in texts and "toe" in texts, name
+        assert any(t.startswith("30.0\u00b0") and "2 m high" in t for t in texts), name
+        # the load arrow: along 10 degrees from vertical toward +x, its line through the base at e = 0.1 m
+        loads = [a for a in ax.texts if isinstance(a, Annotation) and a.arrow_patch is not None
+                 and a.arrow_patch.get_linewidth() > 1.5]
+        assert len(loads) == 1, name
+        (hx, hy), (tx, ty) = loads[0].xy, loads[0].xyann
+        direction = np.array([hx - tx, hy - ty]) / np.hypot(hx - tx, hy - ty)
+        assert np.allclose(direction, [np.sin(np.radians(10.0)), -np.cos(np.radians(10.0))]), name
+        assert abs(hx + hy * np.tan(np.radians(10.0)) - 0.1) < 1e-9, name  # reaches y = 0 at x = e
+    legend = " ".join(t.get_text() for t in figures["model"].axes[2].get_legend().get_texts())
+    for words in ("10\u00b0 from vertical toward +x", "e = 0.1 m", "30\u00b0", "1 m beyond the footing's edge",
+                  "falling 2 m", "saturated 19.5 kN/m\u00b3", "\u03c8\u2032 = 14\u00b0", "1.5 m below",
+                  "none on the slope"):
+        assert words in legend, words
+
+
+def test_slope_pictures_keep_their_text_clear(slope_run):
+    case, data, fields = slope_run
+    for name, fig in draw_all(case, data, fields).items():
+        boxes = drawn_texts(fig)
+        for text, box in boxes:
+            assert box.x0 >= -1 and box.y0 >= -1 and box.x1 <= fig.bbox.width + 1 and box.y1 <= fig.bbox.height + 1, \
+                f"{name}: {text.get_text()[:40]!r} leaves the page"
+        for (t1, b1), (t2, b2) in itertools.combinations(boxes, 2):
+            assert not b1.overlaps(b2), f"{name}: {t1.get_text()[:30]!r} overlaps {t2.get_text()[:30]!r}"
+
+
+def test_detail_view_follows_an_asymmetric_mechanism():
+    # a mechanism to the right of a level footing (an eccentric load, say): the view is no
+    # longer centred on the footing, and the moving soil fits inside it
+    case = parse_case({"footing": {"width": 2.0, "eccentricity": 0.4}, "layers": [
+        {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]}, name="e")
+    domain = {"half_domain_by_symmetry": False, "width_m": 40.0, "depth_m": 10.0, "x_min_m": -20.0,
+              "x_max_m": 20.0}
+    profile = solver.pictures.Profile.of(case, domain)
+    lo, hi, depth = solver.pictures.detail_view(profile, domain, (-1.0, 6.0, 2.0))
+    assert lo <= -1.0 and hi >= 6.0 and depth >= 2.0
+    assert hi - 6.0 < 2.0 and -1.0 - lo < 2.0  # room around it, not the whole model
+    assert lo > -hi  # not centred

@@ -258,3 +258,55 @@ def test_report_renders_in_a_headless_browser_and_runs_nothing(hostile_run, tmp_
     parser = Attributes()
     parser.feed(dom)
     assert "script" not in parser.tags and not [n for n in parser.names if n.startswith("on")]
+
+
+# A slope case (invented) with every input the report must restate: load inclination and
+# eccentricity, design load, slope angle, setback and height, water table, saturated unit
+# weight, dilation angle and partial factors. Solved once, coarse, without the CLI.
+SLOPE_CASE = {
+    "title": "Test strip beside a cutting",
+    "footing": {"width": 1.0, "load_inclination": 10.0, "eccentricity": 0.1, "design_load": 90.0},
+    "ground": {"slope_angle": 30.0, "crest_setback": 1.0, "slope_height": 2.0, "water_table": 0.5},
+    "layers": [
+        {"name": "sandy fill", "thickness": 1.0, "model": "mohr-coulomb", "cohesion": 8.0,
+         "friction_angle": 28.0, "dilation_angle": 14.0, "unit_weight": 18.0, "saturated_unit_weight": 19.5},
+        {"name": "stiff clay", "model": "tresca", "undrained_strength": 40.0, "unit_weight": 18.0},
+    ],
+    "factors": {"friction": 1.25, "cohesion": 1.3, "undrained_strength": 1.4, "load": 1.35},
+    "analysis": {"elements": 500},
+}
+
+
+def test_report_restates_slope_water_and_load_inputs_and_the_new_results(tmp_path):
+    from solver.report import Run, build_html
+
+    case = parse_case(SLOPE_CASE, name="cutting")
+    data = analyse(case).to_dict()
+    page = build_html(Run(out_dir=tmp_path, data=data, case=case), images={})
+    inputs = page[page.index("Inputs (restated"):page.index("Certificates")]
+    thin = "&#8201;"  # the thin space between a number and its unit
+    for row in (f"load inclination</td><td>10.0{thin}degrees from vertical, positive toward the slope (+x)",
+                f"eccentricity e of the load at the base</td><td>0.100{thin}m",
+                f"design load (along the load's line of action)</td><td>90.0{thin}kN/m",
+                f"slope angle</td><td>30.0{thin}degrees (1 vertical : 1.73 horizontal)",
+                f"crest setback from the footing's edge</td><td>1.000{thin}m",
+                f"slope height, crest to toe</td><td>2.000{thin}m",
+                f"crest and toe (x from the footing centre)</td><td>1.500{thin}m and 4.964{thin}m",
+                f"water table</td><td>0.50{thin}m below the ground surface beside the footing",
+                f"pore pressure at the footing base</td><td>0.0{thin}kPa",
+                f"14.00{thin}degrees (Davis reduction)", f"18.00{thin}kN/m³; saturated 19.50{thin}kN/m³",
+                f"18.00{thin}kN/m³; saturated = unit weight", "<td>tresca</td>",
+                "cohesion</td><td>1.30 (divides c&prime;)", "load</td><td>1.35 (multiplies the design load)"):
+        assert row in inputs, row
+    # the results at collapse: V, H and M from each certified bound, and the pore pressure at the base
+    bracket = page[page.index("The bracket"):page.index("Factor of safety")]
+    for kind in ("lower", "upper"):
+        extra = data[kind]["extra"]
+        assert data[kind]["pressure_kPa"] is not None, data[kind]["status"]
+        assert extra["horizontal_kN_per_m"] > 0 and extra["moment_kNm_per_m"] > 0
+        for key in ("vertical_kN_per_m", "horizontal_kN_per_m", "moment_kNm_per_m"):
+            assert f"<td class='n'>{extra[key]:,.1f}</td>" in bracket, (kind, key)
+    assert "<th>H (kN/m)</th><th>M (kNm/m)</th>" in bracket
+    assert "M about the footing's centre" in bracket
+    assert f"Pore pressure at the footing base: <strong>0.0{thin}kPa</strong> (the water table is at or " \
+           "below the base)" in bracket
