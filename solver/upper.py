@@ -30,7 +30,7 @@ import scipy.sparse as sp
 
 from .conic import ConicProgram, assemble, drop_empty_equalities
 from .ground import material_arrays, node_cohesion, surcharge_on_edges
-from .mesh import FAR_BASE, FAR_SIDE, FOOTING, GROUND, SYMMETRY, Mesh
+from .mesh import FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, SYMMETRY, Mesh
 from .model import Case
 
 # Corner gradients of the 6-node shape functions in terms of the linear ones:
@@ -67,7 +67,7 @@ def velocity_map(case: Case, mesh: Mesh) -> tuple[sp.csr_matrix, np.ndarray, dic
     n = len(mesh.points)
     edges, kind = mesh.boundary_edges, mesh.boundary_kind
     role = np.zeros((n, 2), dtype=int)  # 0 free, 1 fixed at 0, 2 follows the footing
-    role[edges[np.isin(kind, (FAR_SIDE, FAR_BASE))].ravel()] = 1
+    role[edges[np.isin(kind, (FAR_SIDE, FAR_BASE, FIXED))].ravel()] = 1  # fixed: a rigid boundary, at rest
     role[edges[kind == SYMMETRY].ravel(), 0] = 1
     foot = np.unique(edges[kind == FOOTING].ravel())
     role[foot, 1] = 2
