@@ -138,6 +138,25 @@ def save_case_copy(case_path: Path, sha256: str, out_dir: Path) -> Path:
     return target
 
 
+SITE_COPY = "site"  # a drawn site's file is copied as site.geo / site.msh
+
+
+def save_site_copy(geometry, out_dir: Path) -> Path | None:
+    """Copy a drawn site's file into the run folder (site.geo or site.msh), checked
+    against the hash it had when the case was read, so the report can be rebuilt."""
+    import hashlib
+
+    if geometry is None:
+        return None
+    source = Path(geometry.file)
+    data = source.read_bytes()
+    if hashlib.sha256(data).hexdigest() != geometry.sha256:
+        raise RuntimeError(f"{source}: the site file changed during the run; not copied")
+    target = Path(out_dir) / (SITE_COPY + source.suffix.lower())
+    write_bytes_atomic(target, data)
+    return target
+
+
 # -- fields.vtu -------------------------------------------------------------------
 
 def _nan(shape) -> np.ndarray:

@@ -1293,6 +1293,12 @@ def _averaged(case: Case) -> HandEstimate:
 
 # -- the list the program prints ----------------------------------------------------
 
+def _level_stand_in(case: Case) -> Case:
+    """The same case as level ground with no drawing, only to list the methods' names."""
+    import dataclasses
+    return dataclasses.replace(case, geometry=None, layers=case.layers[:1])
+
+
 def hand_methods(case: Case) -> list[HandEstimate]:
     """Every hand method for the case's strip footing, under the case's load and ground.
 
@@ -1315,6 +1321,10 @@ def hand_methods(case: Case) -> list[HandEstimate]:
     The list always holds the same methods in the same order; a method that
     does not apply has ``pressure_kPa = None`` and says why.
     """
+    if getattr(case, "geometry", None) is not None:
+        # A drawn site has no layer thicknesses nor a level profile the formulas could read.
+        why_drawn = "a site drawn in gmsh: the closed-form methods need level ground and layer thicknesses"
+        return [_none(e.method, e.source, why_drawn) for e in hand_methods(_level_stand_in(case))]
     soil, why = _homogeneous(case)
     return [
         _terzaghi_on(case, soil, why, local_shear=False),

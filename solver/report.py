@@ -19,7 +19,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from .case import CaseError, load_case
-from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, save_case_copy,
+from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, save_case_copy, save_site_copy,
                      write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
 from .result import CAUTION
@@ -40,6 +40,24 @@ class Run:
     case: Case
     fields: dict[str, BoundFields] = field(default_factory=dict)
     missing: list[str] = field(default_factory=list)  # files the report had to do without
+
+
+def _load_case_copy(case_path: Path, out_dir: Path):
+    """The copied case, with a drawn site's file taken from the run folder's copy
+    (its own path may be relative to where the case file was)."""
+    import hashlib
+    import tomllib
+
+    from .case import parse_case
+    from .export import SITE_COPY
+
+    raw = case_path.read_bytes()
+    data = tomllib.loads(raw.decode("utf-8-sig"))
+    site = sorted(out_dir.glob(SITE_COPY + ".*"))
+    if isinstance(data.get("geometry"), dict) and site:
+        data["geometry"]["file"] = site[0].name
+    return parse_case(data, name=case_path.stem, source_sha256=hashlib.sha256(raw).hexdigest(),
+                      base_dir=out_dir)
 
 
 def load_run(out_dir: Path) -> Run:
@@ -64,7 +82,7 @@ def load_run(out_dir: Path) -> Run:
     if not case_path.exists():
         raise ReportError(f"{case_path}: missing; the report restates the inputs from this copy of the case file")
     try:
-        case = load_case(case_path)
+        case = _load_case_copy(case_path, out_dir)
     except CaseError as error:
         raise ReportError(f"{case_path}: {error}") from None
     if case.source_sha256 != data["case"].get("sha256"):
@@ -91,6 +109,8 @@ def write_run_files(result, case: Case, case_path: Path, out_dir: Path, *, pictu
 
     out_dir = Path(out_dir)
     written = [save_case_copy(case_path, case.source_sha256, out_dir)]
+    site = save_site_copy(getattr(case, "geometry", None), out_dir)
+    written += [site] if site else []
     vtu = write_fields_vtu(bound_fields(result.lower), bound_fields(result.upper), out_dir)
     written += [vtu] if vtu else []
     data = json.loads((out_dir / "result.json").read_text(encoding="utf-8"))
