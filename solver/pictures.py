@@ -38,7 +38,9 @@ from matplotlib import rc_context
 from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, LogNorm
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch, Polygon, Rectangle
+from matplotlib.collections import PolyCollection
+from matplotlib.patches import Patch, PathPatch, Polygon, Rectangle
+from matplotlib.path import Path as MplPath
 from matplotlib.tri import LinearTriInterpolator, Triangulation
 
 from .export import BoundFields, principal_stresses, write_bytes_atomic
@@ -237,6 +239,160 @@ def split_quadratic(triangles: np.ndarray) -> np.ndarray:
     return np.vstack([t[:, [0, 3, 5]], t[:, [3, 1, 4]], t[:, [5, 4, 2]], t[:, [3, 4, 5]]])
 
 
+# -- a site drawn in gmsh ------------------------------------------------------------
+
+@dataclass
+class DrawnSite:
+    """A site drawn by the user in gmsh, as the pictures draw it: the soil is the union of
+    the mesh's triangles, its outline the edges that only one triangle uses (the mesh's own
+    boundary; found from the triangles, so it works as well on fields read back from
+    fields.vtu, where every lower-bound triangle has its own nodes).
+
+    Coordinates in m, as the solver's (x from the footing centre, y up, 0 at the footing
+    level). Triangles are counter-clockwise, so each outline edge has the soil on its left.
+
+    >>> f = BoundFields("lower", np.array([[0., 0.], [1., 0.], [0., 1.], [1., 0.], [1., 1.], [0., 1.]]),
+    ...                 np.array([[0, 1, 2], [3, 4, 5]]), np.array([0, 1]), {})
+    >>> site = DrawnSite.of(f, half=False)
+    >>> len(site.points), len(site.outline), len(site.interfaces)
+    (4, 4, 1)
+    >>> site.in_soil(np.array([[0.5, 0.5], [1.5, 0.5], [0.5, 0.95]]), clearance=0.1).tolist()
+    [True, False, False]
+    """
+
+    points: np.ndarray  # (n, 2) m, coincident nodes merged
+    triangles: np.ndarray  # (n_el, 3) corner indices, counter-clockwise
+    layer: np.ndarray  # (n_el,) index into Case.layers_below_base()
+    outline: np.ndarray  # (n_b, 2) node pairs, the soil on the left of each
+    interfaces: np.ndarray  # (n_i, 2) node pairs between triangles of different layers
+    triangulation: Triangulation
+
+    @classmethod
+    def of(cls, fields: BoundFields, half: bool) -> DrawnSite:
+        pts = mirror_points(fields.points, half)
+        tri = mirror_triangles(fields.triangles[:, :3], len(fields.points), half)
+        layer = np.concatenate([fields.layer] * (2 if half else 1)).astype(int)
+        points, merged = np.unique(pts, axis=0, return_inverse=True)
+        tri = merged.reshape(-1)[tri]
+        a, b, c = (points[tri[:, k]] for k in range(3))
+        clockwise = (b - a)[:, 0] * (c - a)[:, 1] - (b - a)[:, 1] * (c - a)[:, 0] < 0  # mirrored ones turn the other way
+        tri[clockwise] = tri[clockwise][:, [0, 2, 1]]
+        edges = np.concatenate([tri[:, [0, 1]], tri[:, [1, 2]], tri[:, [2, 0]]])
+        owner = np.tile(np.arange(len(tri)), 3)
+        _, which, count = np.unique(np.sort(edges, axis=1), axis=0, return_inverse=True, return_counts=True)
+        which = which.reshape(-1)
+        outline = edges[count[which] == 1]
+        order = np.argsort(which, kind="stable")  # the two uses of an inner edge side by side
+        pair = which[order[:-1]] == which[order[1:]]
+        first, second = order[:-1][pair], order[1:][pair]
+        interfaces = edges[first[layer[owner[first]] != layer[owner[second]]]]
+        return cls(points, tri, layer, outline, interfaces, Triangulation(points[:, 0], points[:, 1], tri))
+
+    @property
+    def y_top(self) -> float:
+        """The highest point of the soil, m."""
+        return float(self.points[:, 1].max())
+
+    def top_at(self, x: float) -> float:
+        """The soil's highest point (m) on the vertical at x, to 1/1000 of the soil's height
+        (the footing level, 0, where that vertical misses the soil)."""
+        y = np.linspace(self.y_top, float(self.points[:, 1].min()), 1001)
+        inside = self.in_soil(np.column_stack([np.full_like(y, x), y]))
+        return float(y[inside.argmax()]) if inside.any() else 0.0
+
+    def in_soil(self, points: np.ndarray, clearance: float = 0.0) -> np.ndarray:
+        """Whether points (n, 2) lie in a triangle, and so does the point ``clearance`` (m) above."""
+        finder = self.triangulation.get_trifinder()
+        x, y = np.asarray(points, dtype=float).T
+        return (finder(x, y) >= 0) & (finder(x, y + clearance) >= 0)
+
+    def segments_in_soil(self, start: np.ndarray, end: np.ndarray, clearance: float = 0.0) -> np.ndarray:
+        """Whether the segments start-end (n, 2 each) lie in the soil, tested at nine points along
+        each (an arrow is short beside the drawn features, so nine points find any corner it cuts)."""
+        inside = np.ones(len(start), dtype=bool)
+        for t in np.linspace(0.0, 1.0, 9):
+            inside &= self.in_soil(start + t * (end - start), clearance)
+        return inside
+
+    def loops(self) -> list[np.ndarray]:
+        """The outline as closed polylines (m), each with its first point repeated at its end."""
+        following = dict(zip(self.outline[:, 0].tolist(), self.outline[:, 1].tolist()))
+        loops = []
+        while following:
+            start, node = next(iter(following.items()))
+            chain = [start]
+            while node != start and node in following:
+                chain.append(node)
+                node = following.pop(node)
+            following.pop(start, None)
+            loops.append(self.points[chain + [start]])
+        return loops
+
+    def clip_patch(self, ax) -> PathPatch:
+        """A patch (not drawn) of the soil to clip artists to."""
+        loops = self.loops()
+        codes = np.concatenate([[MplPath.MOVETO] + [MplPath.LINETO] * (len(p) - 2) + [MplPath.CLOSEPOLY]
+                                for p in loops])
+        return PathPatch(MplPath(np.vstack(loops), codes), transform=ax.transData)
+
+
+def _drawn_site(case: Case, fields: BoundFields | None, half: bool) -> DrawnSite | None:
+    """The drawn site of a case with a [geometry] file (None for level ground or a slope)."""
+    if case.geometry is None or fields is None:
+        return None
+    return DrawnSite.of(fields, half)
+
+
+def _segments_line(points: np.ndarray, pairs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """x and y (m) of node pairs as one polyline broken by NaN (one Line2D for many edges)."""
+    xy = np.concatenate([points[pairs], np.full((len(pairs), 1, 2), np.nan)], axis=1).reshape(-1, 2)
+    return xy[:, 0], xy[:, 1]
+
+
+def _draw_site_lines(ax, site: DrawnSite) -> None:
+    """The drawn site's layer interfaces (dashed) and its outline (the ground and the model's edges)."""
+    if len(site.interfaces):
+        ax.plot(*_segments_line(site.points, site.interfaces), color="#4d4d4d", linewidth=0.8, linestyle="--",
+                zorder=3)
+    for loop in site.loops():
+        ax.plot(loop[:, 0], loop[:, 1], color="black", linewidth=1.0, zorder=4, solid_joinstyle="miter")
+
+
+def _layer_colour_index(case: Case) -> list[int]:
+    """For each entry of Case.layers_below_base(), its index in Case.layers (fill and hatch)."""
+    position = {id(layer): i for i, layer in enumerate(case.layers)}
+    return [position[id(layer)] for layer, *_ in case.layers_below_base()]
+
+
+def _draw_site(ax, case: Case, site: DrawnSite) -> None:
+    """Every triangle filled in its layer's colour and hatch, then interfaces and outline."""
+    colour = _layer_colour_index(case)
+    for index in np.unique(site.layer):
+        i = colour[index]
+        ax.add_collection(PolyCollection(site.points[site.triangles[site.layer == index]],
+                                         facecolors=LAYER_COLOURS[i % len(LAYER_COLOURS)],
+                                         hatch=LAYER_HATCHES[i % len(LAYER_HATCHES)], edgecolors="#6b6b6b",
+                                         linewidths=0.0, antialiaseds=False, zorder=0, rasterized=True))
+    _draw_site_lines(ax, site)
+
+
+def _site_handles(case: Case) -> list:
+    """Legend entries of a drawn site: its layers by name (their extent is in the drawing) and the outline."""
+    handles = []
+    colour = _layer_colour_index(case)
+    for (layer, *_), i in zip(case.layers_below_base(), colour):
+        handles.append(Patch(facecolor=LAYER_COLOURS[i % len(LAYER_COLOURS)],
+                             hatch=LAYER_HATCHES[i % len(LAYER_HATCHES)], edgecolor="#6b6b6b",
+                             label=_layer_label(layer, 0.0, math.inf, None, False, drawn=True)))
+    handles.append(Line2D([], [], color="black", linewidth=1.0,
+                          label="outline of the soil as drawn (the mesh's boundary); air above it is left blank"))
+    if case.ground.surcharge > 0:
+        handles.append(Patch(facecolor="none", edgecolor="none",
+                             label=f"surcharge {case.ground.surcharge:g} kPa on the ground at the footing's "
+                                   "level (y = 0) beside the footing (not marked)"))
+    return handles
+
+
 def moving_extent(upper: BoundFields | None, half: bool) -> tuple[float, float, float] | None:
     """(x_lo, x_hi, depth) in m of the soil moving faster than MOVING_SPEED (per unit velocity of
     the footing along the load), from the upper bound's nodal velocities; None if nothing moves.
@@ -306,11 +462,12 @@ def _wrap(text: str) -> str:
     return textwrap.fill(text, 105, subsequent_indent="    ")
 
 
-def _layer_label(layer, top: float, bottom: float, water: float | None, slope: bool) -> str:
+def _layer_label(layer, top: float, bottom: float, water: float | None, slope: bool, drawn: bool = False) -> str:
     """One legend line per layer: name, depths below ground (m), model and parameters with units;
-    ``water``: the water table's depth below ground (m), None when there is none."""
+    ``water``: the water table's depth below ground (m), None when there is none. A layer of a
+    drawn site (``drawn``) has no depths: the drawing gives its extent."""
     if layer.is_tresca:
-        strength = f"Tresca, su = {layer.undrained_strength:g} kPa at its top"
+        strength = f"Tresca, su = {layer.undrained_strength:g} kPa at its {'highest point' if drawn else 'top'}"
         if layer.strength_gradient:
             strength += f", rising {layer.strength_gradient:g} kPa/m"
     else:
@@ -322,6 +479,8 @@ def _layer_label(layer, top: float, bottom: float, water: float | None, slope: b
         weight += f", saturated {layer.saturated_unit_weight:g} kN/m\u00b3"
     elif water is not None and bottom > water:
         weight += " above and below the water table"
+    if drawn:
+        return _wrap(f"{plain(layer.name)}: {strength}, {weight}")
     ground = "below the ground beside the footing" if slope else "below ground"
     depths = f"from {top:g} m {ground} down" if math.isinf(bottom) else f"{top:g} to {bottom:g} m {ground}"
     return _wrap(f"{plain(layer.name)} ({depths}): {strength}, {weight}")
@@ -574,10 +733,12 @@ def _load_length(B: float, x_lo: float, x_hi: float) -> float:
     return max(0.25 * B, 0.045 * (x_hi - x_lo))
 
 
-def _top(case: Case, x_lo: float, x_hi: float) -> float:
-    """Top of a detail view (m): room for the footing's stem, the load arrow and a margin."""
+def _top(case: Case, x_lo: float, x_hi: float, site: DrawnSite | None = None) -> float:
+    """Top of a detail view (m): room for the footing's stem, the load arrow and a margin, and
+    for a drawn site's ground above the footing."""
     B = case.footing.width
-    return case.footing.embedment + STEM * B + _load_length(B, x_lo, x_hi) + 0.06 * B
+    top = case.footing.embedment + STEM * B + _load_length(B, x_lo, x_hi) + 0.06 * B
+    return max(top, site.y_top + 0.06 * B) if site is not None else top
 
 
 def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: BoundFields | None,
@@ -590,15 +751,16 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
     half = domain["half_domain_by_symmetry"]
     profile = Profile.of(case, domain)
     mesh_fields = lower if lower is not None else upper
+    site = _drawn_site(case, mesh_fields, half)
     x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
-    tops = (Df + 0.3 * B, _top(case, x_lo, x_hi))
+    tops = (max(Df, site.y_top if site else 0.0) + 0.3 * B, _top(case, x_lo, x_hi, site))
     with rc_context(STYLE):
         kind = "lower" if lower is not None else "upper"
         mesh_label = (f"mesh of the {kind} bound: {mesh_fields.n_elements} triangles"
                       + (" on the half x \u2265 0, mirrored" if half else "")) if mesh_fields else "no mesh"
         footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
         load = Line2D([], [], color="black", linewidth=1.8, marker=">", markersize=4, label=_load_label(case))
-        handles = _ground_handles(case, profile) + [footing, load,
+        handles = (_site_handles(case) if site else _ground_handles(case, profile)) + [footing, load,
                                                     Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6,
                                                            label=mesh_label)]
         whole = _plot_size(profile.x_max - profile.x_min, profile.depth + tops[0])
@@ -612,8 +774,11 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
                  (x_lo, x_hi, vd, tops[1], 0.3))
         for ax, (lo, hi, down, top, lw) in zip(axes, views):
             pad = 0.05 * (hi - lo)
-            _draw_ground(ax, case, profile, lo - pad, hi + pad, -down - pad,
-                         marks_within=(lo, hi) if ax is axes[1] else None)
+            if site is not None:
+                _draw_site(ax, case, site)
+            else:
+                _draw_ground(ax, case, profile, lo - pad, hi + pad, -down - pad,
+                             marks_within=(lo, hi) if ax is axes[1] else None)
             _draw_footing(ax, B, Df, stem=STEM * B)
             _mark_slope(ax, profile, lo, hi, labels=ax is axes[1])
             if mesh_fields is not None:
@@ -663,7 +828,8 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
     profile = Profile.of(case, domain)
     extent = _extent(upper, half, mechanism)
     x_lo, x_hi, vd = detail_view(profile, domain, extent)
-    top = _top(case, x_lo, x_hi)
+    site = _drawn_site(case, upper, half)
+    top = _top(case, x_lo, x_hi, site)
     caption = ("Shading: plastic dissipation per unit area (white: rigid, below 1/1000 of the peak). Arrows: "
                "soil velocity, each centred on its point and drawn only where it lies wholly in the soil, "
                "length in proportion to the speed (key: the footing's velocity along the load = 1). Thick "
@@ -682,37 +848,44 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
         caption += " Dash-dot line: the water table."
     with rc_context(STYLE):
         fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
-        soil = profile.clip_patch(ax, x_lo, x_hi, -vd)
+        soil = site.clip_patch(ax) if site else profile.clip_patch(ax, x_lo, x_hi, -vd)
         tri = corner_triangulation(upper, half)
         density = np.concatenate([upper.arrays["dissipation"]] * (2 if half else 1))
         peak = float(density.max()) if density.size and density.max() > 0 else 1.0
         cmap = DISSIPATION_MAP.with_extremes(under="white")
         shade = ax.tripcolor(tri, facecolors=np.maximum(density, peak * 1e-9), cmap=cmap,
                              norm=LogNorm(vmin=peak * 1e-3, vmax=peak), rasterized=True, zorder=1)
-        _draw_interfaces(ax, case, profile, x_lo, x_hi)
-        _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
-        arrows, unit = _velocity_arrows(ax, upper, half, profile, x_lo, x_hi, vd)
+        if site is None:
+            _draw_interfaces(ax, case, profile, x_lo, x_hi)
+            _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
+        arrows, unit = _velocity_arrows(ax, upper, half, site or profile, x_lo, x_hi, vd,
+                                        site.y_top if site else 0.0)
         if arrows is not None:
             _clip(arrows, soil)
             key = _key_value(unit)
             # the key sits in the air above a slope, clear of the arrows; below level ground otherwise
-            ax.quiverkey(arrows, 0.62, 0.9 if profile.slope else 0.05, key,
+            ax.quiverkey(arrows, 0.62, 0.9 if profile.slope or site else 0.05, key,
                          f"{key:g} \u00d7 the footing's velocity along the load", labelpos="E",
                          coordinates="axes",
                          fontproperties={"size": 7.5})
         _draw_footing(ax, B, Df, stem=STEM * B)
         _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
-        _draw_surface(ax, profile, x_lo, x_hi)
+        if site is not None:
+            _draw_site_lines(ax, site)
+        else:
+            _draw_surface(ax, profile, x_lo, x_hi)
         _mark_slope(ax, profile, x_lo, x_hi, labels=True)
         if extent is not None:
             frame = ax.add_patch(Rectangle((mx_lo, -md), mx_hi - mx_lo, md, fill=False, edgecolor="black",
                                            linestyle="--", linewidth=1.0, zorder=6))
             _clip(frame, soil)
             # dimensions along the left side and the bottom: both lie in the soil (the moving soil
-            # touches the bottom edge and the footing's left edge is left of any crest)
-            ax.annotate("", xy=(mx_lo, -md), xytext=(mx_lo, 0), zorder=7,
+            # touches the bottom edge and the footing's left edge is left of any crest); on a drawn
+            # site the left side starts at the soil's top there
+            dim_top = site.top_at(mx_lo) if site is not None else 0.0
+            ax.annotate("", xy=(mx_lo, -md), xytext=(mx_lo, dim_top), zorder=7,
                         arrowprops={"arrowstyle": "<->", "color": "black", "linewidth": 0.8})
-            ax.text(mx_lo + 0.01 * (x_hi - x_lo), -md / 2, f"depth {md:.2f} m\n= {md / B:.2f} B", ha="left",
+            ax.text(mx_lo + 0.01 * (x_hi - x_lo), (dim_top - md) / 2, f"depth {md:.2f} m\n= {md / B:.2f} B", ha="left",
                     va="center", zorder=8, fontsize=7.5,
                     bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
             ax.annotate("", xy=(mx_lo, -md), xytext=(mx_hi, -md), zorder=7,
@@ -743,17 +916,18 @@ def _key_value(unit: float) -> float:
     return unit
 
 
-def _velocity_arrows(ax, upper: BoundFields, half: bool, profile: Profile, x_lo: float, x_hi: float,
-                     vd: float):
-    """Velocity arrows on a regular grid, centred on their grid points, kept only where the
-    whole arrow lies in the soil. Returns the quiver (None if no arrow) and the fastest speed."""
+def _velocity_arrows(ax, upper: BoundFields, half: bool, ground: Profile | DrawnSite, x_lo: float, x_hi: float,
+                     vd: float, y_top: float = 0.0):
+    """Velocity arrows on a regular grid from y_top (m, the soil's top) down, centred on their grid
+    points, kept only where the whole arrow lies in the soil (``ground``: the profile or the drawn
+    site). Returns the quiver (None if no arrow) and the fastest speed."""
     pts = mirror_points(upper.points, half)
     vel = np.asarray(upper.arrays["velocity"])
     vel = np.vstack([vel, vel * [-1.0, 1.0]]) if half else vel
     sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
     fine = Triangulation(pts[:, 0], pts[:, 1], sub)
     spacing = (x_hi - x_lo) / ARROW_CELLS
-    gx, gy = np.meshgrid(np.arange(x_lo + spacing / 2, x_hi, spacing), np.arange(-spacing / 2, -vd, -spacing))
+    gx, gy = np.meshgrid(np.arange(x_lo + spacing / 2, x_hi, spacing), np.arange(y_top - spacing / 2, -vd, -spacing))
     u = LinearTriInterpolator(fine, vel[:, 0])(gx, gy)
     v = LinearTriInterpolator(fine, vel[:, 1])(gx, gy)
     speed = np.ma.hypot(u, v)
@@ -765,7 +939,7 @@ def _velocity_arrows(ax, upper: BoundFields, half: bool, profile: Profile, x_lo:
     show = known & (speed.filled(0) > 0.02 * fastest)
     centre = np.column_stack([gx[show], gy[show]])
     half_arrow = np.column_stack([u[show].filled(0), v[show].filled(0)]) / (2 * scale)
-    fits = profile.segments_in_soil(centre - half_arrow, centre + half_arrow, ARROW_CLEARANCE * spacing)
+    fits = ground.segments_in_soil(centre - half_arrow, centre + half_arrow, ARROW_CLEARANCE * spacing)
     if not fits.any():
         return None, fastest
     centre, arrow = centre[fits], 2 * half_arrow[fits] * scale
@@ -785,7 +959,8 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
     half = domain["half_domain_by_symmetry"]
     profile = Profile.of(case, domain)
     x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
-    top = _top(case, x_lo, x_hi)
+    site = _drawn_site(case, upper if upper is not None else lower, half)
+    top = _top(case, x_lo, x_hi, site)
     caption = (f"Shading: yield utilisation, the stress deviator over its value on the yield surface at the same "
                f"mean stress (1: on the yield surface). Crosses: principal stress directions (compression "
                f"positive) where every node of a triangle is within {1 - PLASTIC_UTILISATION:.0%} of the yield "
@@ -795,15 +970,16 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
         caption += " Dash-dot line: the water table."
     with rc_context(STYLE):
         fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
-        soil = profile.clip_patch(ax, x_lo, x_hi, -vd)
+        soil = site.clip_patch(ax) if site else profile.clip_patch(ax, x_lo, x_hi, -vd)
         tri = own_node_triangulation(lower, half)
         util = lower.arrays["utilisation"].reshape(-1)
         util = np.clip(np.concatenate([util] * (2 if half else 1)), 0.0, 1.0)
         shade = ax.tricontourf(tri, util, levels=list(UTILISATION_LEVELS), cmap=UTILISATION_MAP, zorder=1,
                                norm=BoundaryNorm(UTILISATION_LEVELS, UTILISATION_MAP.N))
         shade.set_rasterized(True)
-        _draw_interfaces(ax, case, profile, x_lo, x_hi)
-        _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
+        if site is None:
+            _draw_interfaces(ax, case, profile, x_lo, x_hi)
+            _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
         # principal directions at the centroids of plastic triangles, one per grid cell
         stress = lower.arrays["stress_kPa"].mean(axis=1)  # compression positive
         centroid = lower.points[lower.triangles[:, :3]].mean(axis=1)
@@ -826,7 +1002,10 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
             _clip(crosses, soil)  # a cross at the slope face is cut there, never drawn in the air
         _draw_footing(ax, B, Df, stem=STEM * B)
         _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
-        _draw_surface(ax, profile, x_lo, x_hi)
+        if site is not None:
+            _draw_site_lines(ax, site)
+        else:
+            _draw_surface(ax, profile, x_lo, x_hi)
         _mark_slope(ax, profile, x_lo, x_hi, labels=True)
         ax.set_xlim(x_lo, x_hi)
         ax.set_ylim(-vd, top)
@@ -837,7 +1016,7 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
                                   label="major principal stress \u03c3\u2081 (compression): direction"),
                            Line2D([], [], color="black", linewidth=0.9,
                                   label="minor principal stress \u03c3\u2083: direction")],
-                  loc="upper right" if profile.slope else "lower left", framealpha=0.95, fontsize=7.5)
+                  loc="upper right" if profile.slope or site else "lower left", framealpha=0.95, fontsize=7.5)
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", ticks=list(UTILISATION_LEVELS))
         bar.set_label("yield utilisation (1 = plastic)")
     return fig

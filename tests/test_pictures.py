@@ -316,3 +316,64 @@ def test_detail_view_follows_an_asymmetric_mechanism():
     assert lo <= -1.0 and hi >= 6.0 and depth >= 2.0
     assert hi - 6.0 < 2.0 and -1.0 - lo < 2.0  # room around it, not the whole model
     assert lo > -hi  # not centred
+
+
+def berm_top(x):
+    """The ground of meshes/berm.geo in the solver's coordinates (written here from the drawing's
+    numbers, independently of solver.pictures): crest at the footing level y = 0 out to |x| = 4 m,
+    side slopes down to the original ground, y = -1.5 m, at |x| = 9 m."""
+    return np.interp(np.abs(x), [4.0, 9.0], [0.0, -1.5])
+
+
+def test_drawn_site_pictures_draw_the_mesh_outline_and_leave_the_air_blank(tmp_path):
+    from pathlib import Path
+
+    from solver.case import load_case
+    from solver.export import read_fields_vtu, write_fields_vtu
+
+    case = load_case(Path(__file__).resolve().parents[1] / "meshes" / "berm.toml")
+    result = analyse(case, elements=600)
+    # through fields.vtu, as `bearbound report` draws them (lower-bound nodes unshared there)
+    write_fields_vtu(bound_fields(result.lower), bound_fields(result.upper), tmp_path)
+    fields = read_fields_vtu(tmp_path / "fields.vtu")
+    data = result.to_dict()
+    figures = draw_all(case, data, fields)
+    # the outline drawn is the solver's tagged boundary of the lower-bound mesh, edge for edge
+    mesh = result.lower.mesh
+    expected = {tuple(sorted(map(tuple, np.round(mesh.points[e[:2]], 9).tolist()))) for e in mesh.boundary_edges}
+    ax = figures["model"].axes[0]
+    drawn = set()
+    for line in ax.get_lines():
+        if line.get_linestyle() == "-" and line.get_color() == "black":
+            xy = np.round(np.column_stack(line.get_data()), 9)
+            drawn |= {tuple(sorted(map(tuple, xy[i:i + 2].tolist()))) for i in range(len(xy) - 1)}
+    assert drawn == expected
+    # the legend names the layers without level-ground depths
+    legend = " ".join(t.get_text() for t in figures["model"].axes[2].get_legend().get_texts())
+    assert "berm fill: Mohr-Coulomb" in legend and "inf m" not in legend and "below ground" not in legend
+    # the air above the berm's side slopes is white in the model's detail and the field pictures
+    mechanism = figures["mechanism"].axes[0]
+    for artist in list(mechanism.artists):  # the arrows' key sits in the air by design
+        artist.remove()
+    for fig, ax in ((figures["model"], figures["model"].axes[1]), (figures["mechanism"], mechanism),
+                    (figures["stress"], figures["stress"].axes[0])):
+        with rc_context(STYLE):
+            canvas = FigureCanvasAgg(fig)
+            canvas.draw()
+            renderer = canvas.get_renderer()
+        image = np.asarray(canvas.buffer_rgba())[..., :3] / 255.0
+        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        gx, gy = np.meshgrid(np.linspace(x0, x1, 80)[1:-1], np.linspace(y0, y1, 40)[1:-1])
+        gx, gy = gx.ravel(), gy.ravel()
+        air = (gy > berm_top(gx) + 0.15) & (gy < -0.15) & (np.abs(gx) > 4.5)
+        boxes = [t.get_window_extent(renderer).expanded(1.1, 1.4) for t in fig.findobj(Text)
+                 if t.get_visible() and t.get_text().strip()]
+        if ax.get_legend() is not None:
+            boxes.append(ax.get_legend().get_window_extent(renderer))
+        pixels = [p for p in ax.transData.transform(np.column_stack([gx[air], gy[air]]))
+                  if not any(b.contains(*p) for b in boxes)]
+        assert len(pixels) >= 30
+        height = image.shape[0]
+        for px, py in pixels:
+            patch = image[int(height - py) - 1:int(height - py) + 2, int(px) - 1:int(px) + 2]
+            assert patch.min() > 0.97, f"something is drawn in the air at pixel {px:.0f}, {py:.0f}"
