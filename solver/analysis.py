@@ -66,7 +66,11 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                      + "; ".join(f"{l.name}: psi = {l.dilation_angle:g}, c* = {davis_reduction(l)[0] * l.cohesion:.3g} kPa, "
                                  f"phi* = {math.degrees(davis_reduction(l)[1]):.2f} deg" for l in reduced)
                      + "): the accepted approximation, no longer rigorous bounds on the non-associated problem")
-    if upper and upper.extra.get("mechanism_clear_of_boundary") is False:
+    if lower and "infeasible" in lower.status and not _slope_unstable(lower, upper):
+        notes.append("the lower bound found no statically admissible stress field on this mesh; "
+                     "that is a limit of the discretisation, not a proof that the ground fails: "
+                     "try more elements")
+    if upper and upper.pressure_kPa is not None and upper.extra.get("mechanism_clear_of_boundary") is False:
         notes.append("the upper-bound mechanism reaches the far boundary: the upper bound is still "
                      "rigorous but may be loose")
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
@@ -126,11 +130,11 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
 
 
 def _slope_unstable(lower: BoundResult | None, upper: BoundResult | None) -> bool:
-    """The ground cannot carry itself: the lower bound finds no admissible stress
-    field at all, or the upper bound finds a mechanism with zero or negative load."""
-    return bool((lower is not None and lower.status.startswith("infeasible"))
-                or (lower is not None and "infeasible" in lower.status)
-                or (upper is not None and ("unbounded" in upper.status or "zero or negative" in upper.status)))
+    """The ground cannot carry itself: the upper bound finds a mechanism with zero or
+    negative load (or an unbounded one)."""
+    # Only the upper bound can prove it (a mechanism that releases energy); a lower-bound
+    # program with no solution on a given mesh proves nothing about the ground.
+    return bool(upper is not None and ("unbounded" in upper.status or "zero or negative" in upper.status))
 
 
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:

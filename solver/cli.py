@@ -5,7 +5,9 @@ withheld (solver trouble or a failed certificate; the result still says why);
 2 for bad input (one line naming the key, the value and what is allowed,
 nothing written); 130 when interrupted (nothing half-written: a run writes its
 outputs only once every bound is solved, each to a temporary file renamed into
-place, and a Ctrl-C while they are written waits until all are whole).
+place, and a Ctrl-C while they are written waits until all are whole); 3 for
+an internal error (a defect, not bad input: one line naming the error; set
+BEARBOUND_TRACEBACK=1 for the traceback).
 """
 from __future__ import annotations
 
@@ -43,6 +45,14 @@ def main(argv: list[str] | None = None) -> int:
             sys.stdout.flush()
             os._exit(130)
         return 130
+    except Exception as error:  # a defect, never the user's input: say so in one line
+        if os.environ.get("BEARBOUND_TRACEBACK"):
+            raise
+        reason = " ".join(f"{type(error).__name__}: {error}".split())
+        reason = reason if len(reason) <= 300 else reason[:297] + "..."
+        print(f"bearbound: internal error, the run stopped: {reason}; please report it with the "
+              "case file (BEARBOUND_TRACEBACK=1 shows where)", file=sys.stderr)
+        return 3
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -242,7 +252,7 @@ def _hand(args) -> int:
     rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
              "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
             for h in hand_methods(case)]
-    print(f"{case.title}\n  hand methods (vertical central load), kPa")
+    print(f"{case.title}\n  hand methods, kPa (vertical component / B)")
     print("\n".join(_hand_lines(rows)))
     print(f"  Caution: {CAUTION}")
     return 0
