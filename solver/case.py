@@ -410,26 +410,24 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
                                f"<= friction_angle = {layer.friction_angle:g} (degrees)")
 
 
-def load_case(path: str | pathlib.Path) -> Case:
-    """Read a case file (TOML, UTF-8, at most 1 MB) and return the checked :class:`Case`.
-
-    The case name is the file's stem and ``source_sha256`` the SHA-256 of its bytes.
-    Any problem with the file or its keys raises :class:`CaseError` (one line).
-    """
+def read_toml_file(path: str | pathlib.Path, what: str = "case file") -> tuple[dict | None, bytes]:
+    """Read a small TOML file (UTF-8, at most 1 MB): (its tables, or None when it is
+    blank, and its bytes). Every problem with the file is one CaseError line
+    naming the file; ``what`` names the kind of file in those lines."""
     try:
         path = pathlib.Path(path)
         with path.open("rb") as stream:
             raw = stream.read(MAX_FILE_BYTES + 1)  # never read more than the limit
     except FileNotFoundError:
-        raise CaseError(f"{path}: no such case file") from None
+        raise CaseError(f"{path}: no such {what}") from None
     except IsADirectoryError:
-        raise CaseError(f"{path}: is a directory; must be a case file (TOML)") from None
+        raise CaseError(f"{path}: is a directory; must be a {what} (TOML)") from None
     except (OSError, TypeError, ValueError) as exc:  # permissions, bad path type, NUL in the path
         where = str(path) if str(path).isprintable() else _show(str(path))
         reason = " ".join(str(exc).split())
-        raise CaseError(f"{where}: cannot read the case file ({reason})") from None
+        raise CaseError(f"{where}: cannot read the {what} ({reason})") from None
     if len(raw) > MAX_FILE_BYTES:
-        raise CaseError(f"{path}: larger than 1 MB; a case file is short TOML text, "
+        raise CaseError(f"{path}: larger than 1 MB; a {what} is short TOML text, "
                         "is this the right file?")
     if b"\0" in raw:
         raise CaseError(f"{path}: binary data (NUL bytes); must be a TOML text file")
@@ -438,14 +436,26 @@ def load_case(path: str | pathlib.Path) -> Case:
     except UnicodeDecodeError as exc:
         line = raw[:exc.start].count(b"\n") + 1
         raise CaseError(f"{path}: not UTF-8 text (bad byte at line {line}); "
-                        "save the case file as UTF-8") from None
+                        f"save the {what} as UTF-8") from None
     if not text.strip():
-        raise CaseError(f"{path}: the file is empty; a case needs a [footing] table "
-                        "and at least one [[layers]] table")
+        return None, raw
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text), raw
     except tomllib.TOMLDecodeError as exc:
         raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
+
+
+def load_case(path: str | pathlib.Path) -> Case:
+    """Read a case file (TOML, UTF-8, at most 1 MB) and return the checked :class:`Case`.
+
+    The case name is the file's stem and ``source_sha256`` the SHA-256 of its bytes.
+    Any problem with the file or its keys raises :class:`CaseError` (one line).
+    """
+    data, raw = read_toml_file(path)
+    path = pathlib.Path(path)
+    if data is None:
+        raise CaseError(f"{path}: the file is empty; a case needs a [footing] table "
+                        "and at least one [[layers]] table")
     return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest(),
                       base_dir=path.parent)
 

@@ -75,7 +75,7 @@ class Result:
             "footing_width_m": self.footing_width_m,
             "lower": _bound_dict(self.lower),
             "upper": _bound_dict(self.upper),
-            "gap_percent": _clean(self.gap_percent),
+            "gap_percent": json_safe(self.gap_percent),
             "timing": {k: round(v, 4) for k, v in self.timing.items()},
             "domain": self.domain,
             "backend": self.backend,
@@ -89,7 +89,7 @@ class Result:
             data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:
             data["factor_of_safety"] = self.factor_of_safety
-        return _clean(data)
+        return json_safe(data)
 
 
 def _bound_dict(bound: BoundResult | None) -> dict | None:
@@ -100,14 +100,14 @@ def _bound_dict(bound: BoundResult | None) -> dict | None:
     return data
 
 
-def _clean(value):
+def json_safe(value):
     """JSON has no NaN or inf: write them as null."""
     if isinstance(value, float):
         return value if math.isfinite(value) else None
     if isinstance(value, dict):
-        return {k: _clean(v) for k, v in value.items()}
+        return {k: json_safe(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [_clean(v) for v in value]
+        return [json_safe(v) for v in value]
     return value
 
 

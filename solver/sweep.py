@@ -36,17 +36,16 @@ import signal
 import sys
 import threading
 import time
-import tomllib
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
 from . import __version__
-from .case import (LAYER_KEYS, MAX_FILE_BYTES, MODEL_KEYS, TABLES, CaseError, Key, _did_you_mean,
-                   _not_allowed, _show, case_to_dict, load_case, parse_case)
+from .case import (LAYER_KEYS, MODEL_KEYS, TABLES, CaseError, Key, _did_you_mean,
+                   _not_allowed, _show, case_to_dict, load_case, parse_case, read_toml_file)
 from .model import Case
-from .result import CAUTION, write_atomic
+from .result import CAUTION, json_safe, write_atomic
 
 MAX_POINTS = 10_000  # a design chart is tens to hundreds of points; more is a typo in a range
 MAX_CHARTS = 50  # one chart per combination of the keys beyond x and lines
@@ -154,28 +153,10 @@ def load_sweep(path: str | pathlib.Path) -> Sweep:
 
 def _read_toml(path: pathlib.Path) -> dict:
     """The same guards as :func:`solver.case.load_case`, for a sweep file."""
-    try:
-        with path.open("rb") as stream:
-            raw = stream.read(MAX_FILE_BYTES + 1)
-    except FileNotFoundError:
-        raise CaseError(f"{path}: no such sweep file") from None
-    except IsADirectoryError:
-        raise CaseError(f"{path}: is a directory; must be a sweep file (TOML)") from None
-    except (OSError, ValueError) as exc:
-        raise CaseError(f"{_show(str(path))}: cannot read the sweep file ({' '.join(str(exc).split())})") from None
-    if len(raw) > MAX_FILE_BYTES:
-        raise CaseError(f"{path}: larger than 1 MB; a sweep file is short TOML text, is this the right file?")
-    if b"\0" in raw:
-        raise CaseError(f"{path}: binary data (NUL bytes); must be a TOML text file")
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[:exc.start].count(b"\n") + 1
-        raise CaseError(f"{path}: not UTF-8 text (bad byte at line {line}); save the sweep file as UTF-8") from None
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
+    data, _ = read_toml_file(path, "sweep file")
+    if data is None:
+        raise CaseError(f"{path}: the file is empty; a sweep file needs a base case and a [vary] table")
+    return data
 
 
 def parse_sweep(data: dict, *, name: str = "sweep", folder: str | pathlib.Path = ".") -> Sweep:
@@ -569,18 +550,8 @@ def _store(out_dir: pathlib.Path, point: Point, record: dict) -> dict:
     full = {"sha256": point.sha256, "values": point.values, "case": point.case_dict, **record,
             "software": {"name": "bearbound", "version": __version__}, "caution": CAUTION}
     write_atomic(points_folder(out_dir) / f"{point.sha256}.json",
-                 json.dumps(_finite(full), indent=1) + "\n")
+                 json.dumps(json_safe(full), indent=1) + "\n")
     return full
-
-
-def _finite(value):
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {k: _finite(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_finite(v) for v in value]
-    return value
 
 
 def run_sweep(sweep: Sweep, out_dir: str | pathlib.Path, *, scheduler: str | None = None,
