@@ -12,7 +12,7 @@ from .certify import certify_lower, certify_upper, lower_stress_field, upper_vel
 from .conic import solve
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
-from .mesh import BOUNDARY_NAMES, FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
+from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
 from .model import Case, davis_reduction
 from .result import BoundResult, Result
 from .upper import upper_bound_program

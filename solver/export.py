@@ -167,7 +167,7 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
     """The meshio.Mesh written to fields.vtu (see the module docstring)."""
     import meshio
 
-    parts, cells, blocks = [], [], []
+    parts, cells = [], []
     offset = 0
     point_data = {name: [] for name in ("lb_sigma_x_kPa", "lb_sigma_y_kPa", "lb_tau_xy_kPa",
                                         "lb_sigma_1_kPa", "lb_sigma_3_kPa", "lb_utilisation",

@@ -15,13 +15,13 @@ Makrodimopoulos & Martin 2006 for the second-order cone form):
 * Mohr-Coulomb (Tresca when phi = 0) holds at every stress node as a cone
   ||(sigma_x - sigma_y, 2 tau)|| <= 2 c cos(phi) - (sigma_x + sigma_y) sin(phi);
   the stress is linear and c at most linear in depth, so it holds everywhere;
-* beyond the mesh the half-space carries a one-dimensional far field
-  sigma_y = -(q + weight above), tau = 0, sigma_x affine in depth in each layer
-  with free coefficients, held inside the yield cone to infinite depth by a cone
-  at each layer's top and bottom and, for the last layer, on its rate of change
-  (the recession direction). This plays the part of Pastor's (1978) and Sloan's
-  (1988) extension elements: the stress field is admissible on the whole
-  semi-infinite half-space, so the bound is rigorous with self-weight too.
+* beyond the mesh, extension elements (after Pastor 1978 and Sloan 1988):
+  a semi-infinite strip on every far-boundary edge and a quarter plane at
+  each far corner, each with a linear stress field in equilibrium, continuous
+  in traction with its neighbours, and inside the yield cone at its finite
+  points and along every rate (the recession condition), so the stress field
+  is admissible on the whole half-space and the bound is rigorous with
+  self-weight too (see _extension_elements).
 
 Sign convention inside the solver: tension positive, y upward.
 The objective is minus the footing load (kN/m); the load is

@@ -110,7 +110,6 @@ class Mesh:
         Both elements are counter-clockwise, so corner k1 of e1 is corner
         (k2 + 1) % 3 of e2 and corner (k1 + 1) % 3 of e1 is corner k2 of e2.
         """
-        n_el = self.n_elements
         edges = self.triangles[:, [[0, 1], [1, 2], [2, 0]]].reshape(-1, 2)
         key = np.sort(edges, axis=1)
         order = np.lexsort((key[:, 1], key[:, 0]))

@@ -494,7 +494,7 @@ def _ratio(profile: Profile) -> str:
 def _ground_handles(case: Case, profile: Profile) -> list:
     """Legend entries of the ground: layers, soil above the base, surface, surcharge, water table."""
     handles = []
-    B, Df = case.footing.width, case.footing.embedment
+    Df = case.footing.embedment
     below = {id(layer) for layer, *_ in case.layers_below_base()}
     water = case.ground.water_table
     for i, (layer, top) in enumerate(zip(case.layers, case.layer_tops())):

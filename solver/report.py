@@ -18,7 +18,7 @@ import math
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from .case import CaseError, load_case
+from .case import CaseError
 from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, save_case_copy, save_site_copy,
                      write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
