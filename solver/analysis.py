@@ -12,15 +12,17 @@ from .certify import certify_lower, certify_upper, lower_stress_field, upper_vel
 from .conic import solve
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
-from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, plan_domain
+from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .result import BoundResult, Result
 from .upper import upper_bound_program
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
-UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
-                "(Makrodimopoulos & Martin 2007); far boundary fixed")
+UPPER_METHOD = ("6-node triangles, quadratic velocity, flow rule as cones at the corners "
+                "(Makrodimopoulos & Martin 2006, 2007); far boundary fixed")
+UPPER_JUMPS = ("; velocity jumps across every interior edge (after Sloan & Kleeman 1995), flow rule and "
+               "dissipation bounded through the jumps' Bernstein coefficients")
 SLOPE_UNSTABLE = ("the slope is not stable under its own weight: the collapse load is zero or negative "
                   "(no statically admissible stress field carries the ground, or a mechanism releases "
                   "energy); no capacity is reported")
@@ -98,6 +100,8 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
     t0 = time.perf_counter()
     mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
                       size_hint=size_hint)
+    if kind == "upper" and uses_velocity_jumps(case):
+        mesh = open_velocity_jumps(mesh, np.ones(len(mesh.interior_edges()[0]), dtype=bool))
     t1 = time.perf_counter()
     program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
     t2 = time.perf_counter()
@@ -126,7 +130,14 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
         timing={"mesh_s": t1 - t0, "assemble_s": t2 - t1, "solve_s": t3 - t2, "certify_s": t4 - t3},
-        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD, extra=extra, mesh=mesh, fields=fields)
+        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD + (UPPER_JUMPS if mesh.jumps is not None else ""),
+        extra=extra, mesh=mesh, fields=fields)
+
+
+def uses_velocity_jumps(case: Case) -> bool:
+    """Whether the upper bound lets the velocity jump across every interior edge
+    ([analysis] velocity_jumps = "all"; default "none": DEVELOPERS.md, "Velocity jumps")."""
+    return case.analysis.velocity_jumps == "all"
 
 
 def _slope_unstable(lower: BoundResult | None, upper: BoundResult | None) -> bool:

@@ -152,6 +152,7 @@ ANALYSIS_KEYS = {
     "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=None),
     "max_steps": Key(int, ge=1, le=20, default=6),
     "time_limit_s": Key(float, "s", gt=0, le=86400, default=600.0),
+    "velocity_jumps": Key(str, choices=("none", "all"), default="none"),
 }
 # Strength keys of each soil model; a layer holds the keys of its own model only.
 MODEL_KEYS = {

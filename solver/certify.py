@@ -28,7 +28,8 @@ from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .lower import SX, SY, TXY, traction_coefficients
 from .mesh import FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, SYMMETRY, Mesh
 from .model import Case
-from .upper import corner_shape_gradients, footing_motion, velocities
+from .upper import (BERNSTEIN_FROM_NODES, corner_shape_gradients, footing_motion, jump_dissipation_weights,
+                    jump_geometry, velocities)
 
 STRESS_TOLERANCE = 1e-6
 FLOW_TOLERANCE = 1e-6
@@ -127,6 +128,9 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     else:
         flow = float(np.max(np.maximum(np.sin(phi) * shear - (ex + ey), np.where(phi == 0, np.abs(ex + ey), 0)) * L))
     dissipation = float(np.sum(field["dissipation_density"] * area))
+    jump_flow, jump_dissipation = jump_residuals(case, mesh, vel)
+    flow = max(flow, jump_flow)
+    dissipation += jump_dissipation
     gamma = mat["gamma"][mesh.layer]
     gravity = float(np.sum(gamma * area / 3.0 * v[:, 3:].sum(axis=1)))
     ground = mesh.boundary_kind == GROUND
@@ -173,7 +177,11 @@ def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.nd
     """The upper bound's velocity field (per unit footing velocity): ``velocity``
     (n_nodes, 2); ``strain_rate`` (n_el, 3 corners, 3) as (ex, ey, gxy) in 1/m;
     ``dissipation_density`` (n_el,) mean plastic dissipation rate per unit volume,
-    kN/m^3 per unit footing velocity (kPa/s per m/s), integrated exactly from the corners."""
+    kN/m^3 per unit footing velocity (kPa/s per m/s), integrated exactly from the corners;
+    with velocity jumps, ``jump_slip`` (n_jump,): the mean tangential jump along each
+    (per unit footing velocity, the mean of its Bernstein coefficients' magnitudes),
+    ``jump_dissipation`` (n_jump,) kN/m per unit footing velocity and ``jump_ends``
+    (n_jump, 2, 2) m."""
     vel = velocities(program, x)
     mat = material_arrays(case)
     tri = mesh.triangles
@@ -192,7 +200,36 @@ def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.nd
     c = node_cohesion(mat, mesh.layer[:, None], depth)
     weight = (c + c.sum(axis=1, keepdims=True)) / 12.0  # integral of c N_i over the element / area
     density = np.sum(np.cos(phi) * weight * rho, axis=1)
-    return {"velocity": vel, "strain_rate": np.stack([ex, ey, gxy], axis=2), "dissipation_density": density}
+    out = {"velocity": vel, "strain_rate": np.stack([ex, ey, gxy], axis=2), "dissipation_density": density}
+    if mesh.jumps is not None and len(mesh.jumps):
+        geometry = jump_geometry(mesh)
+        coeff = np.einsum("in,jnd->jid", BERNSTEIN_FROM_NODES, vel[geometry["side2"]] - vel[geometry["side1"]])
+        out["jump_slip"] = np.abs(np.einsum("jid,jd->ji", coeff, geometry["tangent"])).mean(axis=1)
+        out["jump_dissipation"] = jump_residuals(case, mesh, vel, per_jump=True)[1]
+        out["jump_ends"] = mesh.points[geometry["side1"][:, :2]]
+    return out
+
+
+def jump_residuals(case: Case, mesh: Mesh, vel: np.ndarray, per_jump: bool = False):
+    """Velocity jumps, recomputed from the nodal velocities: the largest breach of
+    the Mohr-Coulomb condition n.b_i >= tan(phi) |t.b_i| over the Bernstein
+    coefficients b_i of every jump (for phi = 0: |n.b_i|), in velocity units,
+    and the dissipation bound sum_i integral(c B_i) * (n.b_i cot(phi), or |t.b_i|
+    below sin(phi) = 1e-3), kN/m per unit footing velocity (``per_jump``: an array, one
+    value per jump)."""
+    if mesh.jumps is None or len(mesh.jumps) == 0:
+        return 0.0, (np.zeros(0) if per_jump else 0.0)
+    geometry = jump_geometry(mesh)
+    jump = vel[geometry["side2"]] - vel[geometry["side1"]]  # (n_jump, 3 nodes, 2)
+    coeff = np.einsum("in,jnd->jid", BERNSTEIN_FROM_NODES, jump)  # (n_jump, 3, 2)
+    normal = np.einsum("jid,jd->ji", coeff, geometry["normal"])
+    shear = np.abs(np.einsum("jid,jd->ji", coeff, geometry["tangent"]))
+    phi = material_arrays(case)["phi"][mesh.layer[geometry["element"]]][:, None]
+    breach = np.where(phi > 0, np.tan(phi) * shear - normal, np.abs(normal))
+    frictional = np.sin(phi) > 1e-3
+    rate = np.where(frictional, normal / np.where(frictional, np.tan(phi), 1.0), shear)
+    dissipation = np.sum(jump_dissipation_weights(case, mesh, geometry) * rate, axis=1)
+    return float(max(np.max(breach), 0.0)), (dissipation if per_jump else float(np.sum(dissipation)))
 
 
 def kinematic_residual(case: Case, mesh: Mesh, vel: np.ndarray, motion: dict) -> float:
@@ -213,12 +250,15 @@ def kinematic_residual(case: Case, mesh: Mesh, vel: np.ndarray, motion: dict) ->
 
 
 def program_residuals(program: ConicProgram, x: np.ndarray) -> tuple[float, float]:
-    """Largest equality residual and largest cone violation of s = b - A x."""
+    """Largest equality residual and largest cone violation (nonnegative rows and
+    second-order cones) of s = b - A x."""
     s = program.b - program.A @ x
-    equality = float(np.max(np.abs(s[:program.n_zero]), initial=0.0))
-    cones = s[program.n_zero:].reshape(-1, 3)
+    nz, nn = program.n_zero, program.n_nonneg
+    equality = float(np.max(np.abs(s[:nz]), initial=0.0))
+    negative = float(np.max(-s[nz:nz + nn], initial=0.0))
+    cones = s[nz + nn:].reshape(-1, 3)
     violation = float(np.max(np.hypot(cones[:, 1], cones[:, 2]) - cones[:, 0], initial=0.0))
-    return equality, max(violation, 0.0)
+    return equality, max(violation, negative, 0.0)
 
 
 def _reason(status: str, residuals: dict, limits: dict) -> str:

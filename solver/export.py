@@ -38,7 +38,9 @@ class BoundFields:
     ``layer`` (n_el,) index into ``Case.layers_below_base()``. Lower bound:
     ``stress_kPa`` (n_el, 3 nodes, 3) as (sigma_x, sigma_y, tau_xy) compression
     positive, ``utilisation`` (n_el, 3). Upper bound: ``velocity`` (n, 2) per unit
-    footing velocity, ``dissipation`` (n_el,) kN/m^3 per unit footing velocity.
+    footing velocity, ``dissipation`` (n_el,) kN/m^3 per unit footing velocity; with
+    velocity jumps also ``jump_ends`` (n_jump, 2, 2) m and ``jump_dissipation`` (n_jump,)
+    kN/m per unit footing velocity (not kept in fields.vtu).
     """
 
     kind: str
@@ -61,9 +63,12 @@ def bound_fields(bound) -> BoundFields | None:
         return BoundFields("lower", mesh.points, mesh.triangles, mesh.layer,
                            {"stress_kPa": -np.asarray(bound.fields["stress"]),
                             "utilisation": np.asarray(bound.fields["utilisation"])})
-    return BoundFields("upper", mesh.points, mesh.triangles, mesh.layer,
-                       {"velocity": np.asarray(bound.fields["velocity"]),
-                        "dissipation": np.asarray(bound.fields["dissipation_density"])})
+    arrays = {"velocity": np.asarray(bound.fields["velocity"]),
+              "dissipation": np.asarray(bound.fields["dissipation_density"])}
+    if "jump_dissipation" in bound.fields:
+        arrays["jump_ends"] = np.asarray(bound.fields["jump_ends"])
+        arrays["jump_dissipation"] = np.asarray(bound.fields["jump_dissipation"])
+    return BoundFields("upper", mesh.points, mesh.triangles, mesh.layer, arrays)
 
 
 def principal_stresses(stress: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -71,6 +71,10 @@ class Mesh:
     boundary_kind: np.ndarray  # (n_b,) codes FOOTING..FAR_BASE
     domain: Domain
     footing_width: float  # m
+    # Upper bound: interior edges across which the velocity may jump, as
+    # (element 1, local edge 1, element 2, local edge 2); their nodes are split,
+    # each side has its own (see open_velocity_jumps). None: a continuous mesh.
+    jumps: np.ndarray | None = None
 
     @property
     def order(self) -> int:
@@ -134,6 +138,49 @@ class Mesh:
         p = self.corner_coordinates()
         return 0.5 * ((p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1])
                       - (p[:, 2, 0] - p[:, 0, 0]) * (p[:, 1, 1] - p[:, 0, 1]))
+
+
+def open_velocity_jumps(mesh: Mesh, opened: np.ndarray) -> Mesh:
+    """The same second-order mesh with its nodes split along chosen interior edges.
+
+    ``opened`` is a boolean mask over ``mesh.interior_edges()``. Element-local
+    node slots stay joined across every other interior edge; each group of
+    joined slots becomes one node (a connected-components pass, so a corner
+    node where several opened edges meet gets one copy per sector between
+    them). Boundary edges keep their (element, local edge) pairs; the opened
+    edges are returned in ``jumps``.
+
+    >>> import numpy as np
+    >>> square = Mesh(np.array([[0., 0.], [1., 0.], [1., 1.], [0., 1.], [.5, 0.], [1., .5], [.5, .5],
+    ...                         [.5, 1.], [0., .5]]), np.array([[0, 1, 2, 4, 5, 6], [0, 2, 3, 6, 7, 8]]),
+    ...               np.zeros(2, int), np.zeros(0, int), np.zeros(0, int), np.zeros(0, int), None, 1.0)
+    >>> split = open_velocity_jumps(square, np.array([True]))
+    >>> len(split.points), split.jumps.tolist()
+    (12, [[0, 2, 1, 0]])
+    """
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    if mesh.order != 2:
+        raise ValueError("velocity jumps need a second-order (6-node) mesh")
+    e1, k1, e2, k2 = mesh.interior_edges()
+    keep = ~np.asarray(opened, dtype=bool)
+    slot = lambda e, j: 6 * e + j
+    a, b = e1[keep], e2[keep]
+    ka, kb = k1[keep], k2[keep]
+    # corner k1 of e1 is corner (k2 + 1) % 3 of e2, and the other way round; midsides match
+    left = np.concatenate([slot(a, ka), slot(a, (ka + 1) % 3), slot(a, 3 + ka)])
+    right = np.concatenate([slot(b, (kb + 1) % 3), slot(b, kb), slot(b, 3 + kb)])
+    n_slots = 6 * mesh.n_elements
+    graph = coo_matrix((np.ones(len(left)), (left, right)), shape=(n_slots, n_slots))
+    _, label = connected_components(graph, directed=False)
+    points = np.zeros((label.max() + 1, 2))
+    points[label] = mesh.points[mesh.triangles.ravel()]
+    jumps = np.column_stack([e1[~keep], k1[~keep], e2[~keep], k2[~keep]])
+    return Mesh(points=points, triangles=label.reshape(-1, 6), layer=mesh.layer,
+                boundary_element=mesh.boundary_element, boundary_local=mesh.boundary_local,
+                boundary_kind=mesh.boundary_kind, domain=mesh.domain, footing_width=mesh.footing_width,
+                jumps=jumps)
 
 
 @dataclass(frozen=True)

@@ -123,6 +123,9 @@ class Analysis:
     target_gap: float | None = None  # adaptive refinement until (upper - lower)/lower <= this (fraction)
     max_steps: int = 6  # adaptive refinement: at most this many solve steps
     time_limit_s: float = 600.0  # adaptive refinement: no new step that would end after this
+    # upper bound: velocity jumps across "all" interior edges, or "none" (measured: at equal solve
+    # time the continuous field on a finer mesh was as tight or tighter; DEVELOPERS.md)
+    velocity_jumps: str = "none"
 
 
 @dataclass(frozen=True)

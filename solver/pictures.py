@@ -38,10 +38,10 @@ from matplotlib import rc_context
 from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, LogNorm
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
-from matplotlib.collections import PolyCollection
+from matplotlib.collections import LineCollection, PolyCollection
 from matplotlib.patches import Patch, PathPatch, Polygon, Rectangle
 from matplotlib.path import Path as MplPath
-from matplotlib.tri import LinearTriInterpolator, Triangulation
+from matplotlib.tri import Triangulation
 
 from .export import BoundFields, principal_stresses, write_bytes_atomic
 from .model import Case
@@ -231,6 +231,37 @@ def corner_triangulation(fields: BoundFields, half: bool) -> Triangulation:
     pts = mirror_points(fields.points, half)
     tri = mirror_triangles(fields.triangles[:, :3], len(fields.points), half)
     return Triangulation(pts[:, 0], pts[:, 1], tri)
+
+
+def interpolate_per_triangle(points: np.ndarray, triangles: np.ndarray, values: np.ndarray,
+                             gx: np.ndarray, gy: np.ndarray) -> tuple[np.ma.MaskedArray, np.ma.MaskedArray]:
+    """Linear interpolation of nodal (n, 2) values at grid points, each from the nodes of
+    the triangle it falls in. Nodes may repeat a position (an upper bound with velocity
+    jumps gives each side of an edge its own nodes): the triangle search runs on the
+    merged positions, the values come from the triangle's own nodes. Masked outside.
+
+    >>> import numpy as np
+    >>> p = np.array([[0., 0.], [1., 0.], [0., 1.], [1., 0.], [1., 1.], [0., 1.]])
+    >>> u, v = interpolate_per_triangle(p, np.array([[0, 1, 2], [3, 4, 5]]),
+    ...                                 np.array([[0., 0.], [0., 0.], [0., 0.], [1., 2.], [1., 2.], [1., 2.]]),
+    ...                                 np.array([0.2, 0.8]), np.array([0.2, 0.8]))
+    >>> u.tolist(), v.tolist()
+    ([0.0, 1.0], [0.0, 2.0])
+    """
+    unique, index = np.unique(np.round(points, 12), axis=0, return_inverse=True)
+    merged = Triangulation(unique[:, 0], unique[:, 1], index.ravel()[triangles])
+    found = merged.get_trifinder()(gx, gy)
+    inside = found >= 0
+    corners = points[triangles[np.where(inside, found, 0)]]  # (..., 3, 2)
+    a, b, c = corners[..., 0, :], corners[..., 1, :], corners[..., 2, :]
+    det = (b[..., 0] - a[..., 0]) * (c[..., 1] - a[..., 1]) - (c[..., 0] - a[..., 0]) * (b[..., 1] - a[..., 1])
+    det = np.where(inside, det, 1.0)
+    l1 = ((gx - a[..., 0]) * (c[..., 1] - a[..., 1]) - (c[..., 0] - a[..., 0]) * (gy - a[..., 1])) / det
+    l2 = ((b[..., 0] - a[..., 0]) * (gy - a[..., 1]) - (gx - a[..., 0]) * (b[..., 1] - a[..., 1])) / det
+    weights = np.stack([1.0 - l1 - l2, l1, l2], axis=-1)
+    nodal = values[triangles[np.where(inside, found, 0)]]  # (..., 3, 2)
+    out = np.einsum("...k,...kd->...d", weights, nodal)
+    return (np.ma.masked_array(out[..., 0], mask=~inside), np.ma.masked_array(out[..., 1], mask=~inside))
 
 
 def split_quadratic(triangles: np.ndarray) -> np.ndarray:
@@ -809,6 +840,29 @@ def _extent(upper: BoundFields | None, half: bool, mechanism: dict | None) -> tu
     return extent
 
 
+def _draw_jumps(ax, upper: BoundFields, half: bool, peak: float, cmap, soil) -> None:
+    """The upper bound's velocity jumps as lines shaded like the triangles: a jump's
+    dissipation per unit length spread over a width equal to its length (about the size
+    of the triangles beside it), kN/m^3 per unit footing velocity, so a slip line and a
+    shear band of the same dissipation look alike; jumps below 1/1000 of the peak are
+    not drawn."""
+    if "jump_dissipation" not in upper.arrays or not len(upper.arrays["jump_dissipation"]):
+        return
+    ends = np.asarray(upper.arrays["jump_ends"])
+    length = np.hypot(*(ends[:, 1] - ends[:, 0]).T)
+    density = np.asarray(upper.arrays["jump_dissipation"]) / np.maximum(length, 1e-12) ** 2
+    if half:
+        ends = np.concatenate([ends, ends * [-1.0, 1.0]])
+        density = np.concatenate([density, density])
+    shown = density >= peak * 1e-3
+    if not shown.any():
+        return
+    lines = LineCollection(ends[shown], array=np.minimum(density[shown], peak), cmap=cmap,
+                           norm=LogNorm(vmin=peak * 1e-3, vmax=peak), linewidths=1.1, zorder=2)
+    ax.add_collection(lines)
+    _clip(lines, soil)
+
+
 def _motion_text(motion: dict | None) -> str:
     if motion is None:
         return ""
@@ -855,6 +909,7 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
         cmap = DISSIPATION_MAP.with_extremes(under="white")
         shade = ax.tripcolor(tri, facecolors=np.maximum(density, peak * 1e-9), cmap=cmap,
                              norm=LogNorm(vmin=peak * 1e-3, vmax=peak), rasterized=True, zorder=1)
+        _draw_jumps(ax, upper, half, peak, cmap, soil)
         if site is None:
             _draw_interfaces(ax, case, profile, x_lo, x_hi)
             _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
@@ -925,11 +980,9 @@ def _velocity_arrows(ax, upper: BoundFields, half: bool, ground: Profile | Drawn
     vel = np.asarray(upper.arrays["velocity"])
     vel = np.vstack([vel, vel * [-1.0, 1.0]]) if half else vel
     sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
-    fine = Triangulation(pts[:, 0], pts[:, 1], sub)
     spacing = (x_hi - x_lo) / ARROW_CELLS
     gx, gy = np.meshgrid(np.arange(x_lo + spacing / 2, x_hi, spacing), np.arange(y_top - spacing / 2, -vd, -spacing))
-    u = LinearTriInterpolator(fine, vel[:, 0])(gx, gy)
-    v = LinearTriInterpolator(fine, vel[:, 1])(gx, gy)
+    u, v = interpolate_per_triangle(pts, sub, vel, gx, gy)
     speed = np.ma.hypot(u, v)
     known = ~np.ma.getmaskarray(speed)
     fastest = float(speed[known].max()) if known.any() else 0.0

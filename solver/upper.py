@@ -94,15 +94,24 @@ def velocity_map(case: Case, mesh: Mesh) -> tuple[sp.csr_matrix, np.ndarray, dic
 
 def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     """Assemble the upper-bound program (vectorised; one COO assembly, then the
-    velocity map w = T z + f applied as one sparse product)."""
+    velocity map w = T z + f applied as one sparse product).
+
+    Variables: z (free velocities and the footing's motion), rho~ at the 3
+    corners of every element, then t at the 3 Bernstein points of every
+    velocity jump (:func:`jump_rows`). Rows: the load's unit work rate, the
+    corner flow-rule equalities, the jumps' equalities, the jumps' inequalities
+    (nonnegative rows), the corner cones.
+    """
     if mesh.order != 2:
         raise ValueError("the upper bound needs a second-order (6-node) mesh")
     n_el, n_nodes = mesh.n_elements, len(mesh.points)
+    n_jump = 0 if mesh.jumps is None else len(mesh.jumps)
     mat = material_arrays(case)
     factor = 2.0 if mesh.domain.half else 1.0  # the half domain carries half the load
     T, f, motion = velocity_map(case, mesh)
     n_z = T.shape[1]
     rho = 3 * np.arange(n_el)[:, None] + np.arange(3)  # scaled rho at each corner (own block)
+    t_jump = 3 * n_el + 3 * np.arange(n_jump)[:, None] + np.arange(3)  # after the rho block
 
     area = mesh.areas()
     L = np.sqrt(2.0 * area)  # rows are scaled by the element size so entries are O(1)
@@ -111,12 +120,13 @@ def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     tri = mesh.triangles
     col_u, col_v = 2 * tri, 2 * tri + 1  # full velocity components of each element's 6 nodes
 
-    # Rows over the full velocity vector w (Bw) and over rho (R), in s = b - A x form.
+    # Rows over the full velocity vector w (Bw) and over rho and t (R), in s = b - A x form.
+    n_eq = 3 * n_el + 3 * n_jump
     w_rows, w_cols, w_vals, r_rows, r_cols, r_vals = [], [], [], [], [], []
     for m in range(3):  # the three corners of every element at once
         gx, gy = grad[:, m, :, 0], grad[:, m, :, 1]
         r_eq = (3 * np.arange(n_el) + m)[:, None]  # L (ex + ey) - sin(phi) rho~ = 0
-        cone = (3 * n_el + 9 * np.arange(n_el) + 3 * m)[:, None]
+        cone = (n_eq + 6 * n_jump + 9 * np.arange(n_el) + 3 * m)[:, None]
         for r, wu, wv in ((r_eq, gx, gy), (cone + 1, -gx, gy), (cone + 2, -gy, -gx)):
             w_rows += [np.broadcast_to(r, wu.shape), np.broadcast_to(r, wv.shape)]
             w_cols += [col_u, col_v]
@@ -124,22 +134,27 @@ def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
         r_rows += [r_eq[:, 0], cone[:, 0]]
         r_cols += [rho[:, m], rho[:, m]]
         r_vals += [-np.sin(phi), -np.ones(n_el)]  # s0 = rho~
-    n_rows = 3 * n_el + 9 * n_el  # flow-rule equalities, then cones
+    jump_weight = np.zeros((0, 3))
+    if n_jump:
+        rows, jump_weight = jump_rows(case, mesh, t_jump, first_equality=3 * n_el, first_inequality=n_eq)
+        for part, more in zip((w_rows, w_cols, w_vals, r_rows, r_cols, r_vals), rows):
+            part += more
+    n_rows = n_eq + 6 * n_jump + 9 * n_el
+    n_aux = 3 * n_el + 3 * n_jump
     Bw = assemble(w_rows, w_cols, w_vals, n_rows, 2 * n_nodes)
-    R = assemble(r_rows, r_cols, r_vals, n_rows, 3 * n_el)
+    R = assemble(r_rows, r_cols, r_vals, n_rows, n_aux)
     b = -(Bw @ f)
 
     # The load's work rate on the footing's motion is 1: sin(d) u_f - cos(d) v_f = 1.
     delta = np.radians(case.footing.load_inclination)
-    norm_row = sp.csr_matrix((1, n_z + 3 * n_el))
     entries = {motion["u"]: np.sin(delta), motion["v"]: -np.cos(delta)}
     idx = [k for k, v in entries.items() if k >= 0 and v != 0.0]
     norm_row = sp.csr_matrix((np.array([entries[k] for k in idx]), (np.zeros(len(idx), int), idx)),
-                             shape=(1, n_z + 3 * n_el))
+                             shape=(1, n_z + n_aux))
     A = sp.vstack([norm_row, sp.hstack([Bw @ T, R])]).tocsc()
     A.eliminate_zeros()
     b = np.concatenate([[1.0], b])
-    n_zero = 1 + 3 * n_el
+    n_zero = 1 + n_eq
     A, b, n_zero = drop_empty_equalities(A, b, n_zero, scale=1.0)
 
     # Objective: dissipation + work against gravity and surcharge, c.x + constant.
@@ -155,11 +170,85 @@ def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     q_edge = surcharge_on_edges(case, mesh, ground)
     np.add.at(c_w, (2 * g_edges + 1).ravel(),
               (factor * (q_edge * g_len)[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])).ravel())
-    objective = np.concatenate([T.T @ c_w, factor * (np.cos(phi)[:, None] * weight / L[:, None]).ravel()])
-    return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_soc=3 * n_el,
+    objective = np.concatenate([T.T @ c_w, factor * (np.cos(phi)[:, None] * weight / L[:, None]).ravel(),
+                                factor * jump_weight.ravel()])
+    return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_nonneg=6 * n_jump, n_soc=3 * n_el,
                         objective_constant=float(c_w @ f), kind="upper",
-                        layout={"T": T, "f": f, "motion": motion, "rho": n_z + rho,
+                        layout={"T": T, "f": f, "motion": motion, "rho": n_z + rho, "jump_t": n_z + t_jump,
                                 "symmetry_factor": factor})
+
+
+# Bernstein coefficients (b0, b1, b2) of a quadratic along an edge from its values at
+# the first corner, the second corner and the midside: b1 = 2 q_mid - (q_a + q_b) / 2.
+BERNSTEIN_FROM_NODES = np.array([[1.0, 0.0, 0.0], [-0.5, -0.5, 2.0], [0.0, 1.0, 0.0]])
+
+
+def jump_geometry(mesh: Mesh) -> dict:
+    """Each velocity jump's nodes on both sides, in the order (first corner,
+    second corner, midside) along the edge of element 1; its unit tangent
+    (along element 1's edge), unit normal (out of element 1) and length (m)."""
+    e1, k1, e2, k2 = mesh.jumps.T
+    tri = mesh.triangles
+    side1 = np.column_stack([tri[e1, k1], tri[e1, (k1 + 1) % 3], tri[e1, 3 + k1]])
+    side2 = np.column_stack([tri[e2, (k2 + 1) % 3], tri[e2, k2], tri[e2, 3 + k2]])
+    normal, length = mesh.edge_normals(e1, k1)
+    tangent = np.column_stack([-normal[:, 1], normal[:, 0]])
+    return {"side1": side1, "side2": side2, "normal": normal, "tangent": tangent, "length": length,
+            "element": e1}
+
+
+def jump_dissipation_weights(case: Case, mesh: Mesh, geometry: dict) -> np.ndarray:
+    """(n_jump, 3) kN/m per unit t: the integral of c times each Bernstein basis
+    polynomial along the edge, c linear between the corners (element 1's layer).
+
+    With c = c_a (1 - s) + c_b s and B0 = (1 - s)^2, B1 = 2 s (1 - s), B2 = s^2:
+    the integrals are L (c_a/4 + c_b/12), L (c_a + c_b)/6, L (c_a/12 + c_b/4).
+    """
+    mat = material_arrays(case)
+    depth = -mesh.points[geometry["side1"][:, :2], 1]
+    layer = mesh.layer[geometry["element"]]
+    c = node_cohesion(mat, layer[:, None], depth)
+    ca, cb = c[:, 0], c[:, 1]
+    return geometry["length"][:, None] * np.column_stack([ca / 4 + cb / 12, (ca + cb) / 6, ca / 12 + cb / 4])
+
+
+def jump_rows(case: Case, mesh: Mesh, t_index: np.ndarray, first_equality: int, first_inequality: int):
+    """Rows of the velocity jumps (after Sloan & Kleeman 1995 for linear elements;
+    here quadratic jumps bounded through their Bernstein coefficients).
+
+    The jump [w] = w(element 2) - w(element 1) is quadratic along the edge; write
+    it as b0 B0 + b1 B1 + b2 B2 with the nonnegative Bernstein basis (sum 1). For
+    every coefficient: n.b_i = tan(phi) t_i and t_i >= |t.b_i| (two nonnegative
+    rows, t_i - t.b_i >= 0 and t_i + t.b_i >= 0). The jump at any point is a convex combination of the
+    b_i, so the Mohr-Coulomb condition [w_n] >= tan(phi) |[w_t]| holds along
+    the whole edge. Its dissipation, c cot(phi) [w_n] (c |[w_t]| for Tresca),
+    is then at most the sum of t_i times the integral of c B_i (exact for
+    phi > 0; for phi = 0 an upper estimate of c |[w_t]|): the bound stays rigorous.
+    Returns the triplet lists (w rows, w cols, w vals, aux rows, aux cols, aux
+    vals) and the dissipation weights.
+    """
+    geometry = jump_geometry(mesh)
+    n_jump = len(geometry["length"])
+    phi = material_arrays(case)["phi"][mesh.layer[geometry["element"]]]
+    nodes = np.concatenate([geometry["side2"], geometry["side1"]], axis=1)  # (n_jump, 6)
+    # b_i over the 6 nodes: +B on side 2, -B on side 1
+    coeff = np.concatenate([BERNSTEIN_FROM_NODES, -BERNSTEIN_FROM_NODES], axis=1)  # (3, 6)
+    out = [[] for _ in range(6)]
+    w_rows, w_cols, w_vals, r_rows, r_cols, r_vals = out
+    jump = np.arange(n_jump)
+    for i in range(3):
+        eq = first_equality + 3 * jump + i
+        below = first_inequality + 6 * jump + 2 * i  # s = t_i - t.b_i, then s = t_i + t.b_i
+        for row, direction, sign in ((eq, geometry["normal"], 1.0), (below, geometry["tangent"], 1.0),
+                                     (below + 1, geometry["tangent"], -1.0)):
+            for d in range(2):  # u and v components
+                w_rows.append(np.repeat(row, 6))
+                w_cols.append((2 * nodes + d).ravel())
+                w_vals.append((sign * direction[:, d, None] * coeff[i][None, :]).ravel())
+        r_rows += [eq, below, below + 1]
+        r_cols += [t_index[:, i]] * 3
+        r_vals += [-np.tan(phi), -np.ones(n_jump), -np.ones(n_jump)]  # n.b_i - tan(phi) t_i = 0
+    return out, jump_dissipation_weights(case, mesh, geometry)
 
 
 def velocities(program: ConicProgram, x: np.ndarray) -> np.ndarray:

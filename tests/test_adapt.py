@@ -35,3 +35,16 @@ def test_adaptive_stops_at_the_target_gap():
     assert len(result.adapt_history) == 1
     assert result.adapt_history[0]["stopped"] == "target gap reached"
     assert result.gap_percent <= 20.0
+
+
+def test_the_upper_bound_is_refined_first_then_the_lower_then_the_one_that_moved_more():
+    from types import SimpleNamespace
+    from solver.adapt import _next_to_refine
+    kinds = ["lower", "upper"]
+    moved = lambda lo, up: {"lower": SimpleNamespace(extra={"change_from_previous_step_kPa": lo}),
+                            "upper": SimpleNamespace(extra={"change_from_previous_step_kPa": up})}
+    assert _next_to_refine(kinds, moved(None, None), set()) == ["upper"]
+    assert _next_to_refine(kinds, moved(None, -0.3), {"upper"}) == ["lower"]
+    assert _next_to_refine(kinds, moved(0.01, -0.3), {"upper", "lower"}) == ["upper"]
+    assert _next_to_refine(kinds, moved(0.5, -0.3), {"upper", "lower"}) == ["lower"]
+    assert _next_to_refine(["lower"], moved(None, None), set()) == ["lower"]

@@ -209,3 +209,50 @@ def test_upper_certificate_fails_on_a_corrupted_velocity() -> None:
     certificate = certify_upper(case, mesh, program, _with_x(solution, x))
     assert not certificate["passed"]
     assert certificate["reason"].startswith("certificate failed")
+
+
+@pytest.fixture(scope="module")
+def jump_pipeline():
+    """Weightless Tresca soil on one 6-node mesh: the upper bound without and with
+    velocity jumps across every interior edge (the same triangles)."""
+    from solver.mesh import open_velocity_jumps
+    case = tresca_case()
+    mesh = build_mesh(case, order=2, elements=600)
+    split = open_velocity_jumps(mesh, np.ones(len(mesh.interior_edges()[0]), dtype=bool))
+    runs = {}
+    for name, m in (("continuous", mesh), ("jumps", split)):
+        program = upper_bound_program(case, m)
+        solution = solve(program, "clarabel")
+        runs[name] = (m, program, solution, certify_upper(case, m, program, solution))
+    return case, runs
+
+
+def test_velocity_jumps_keep_the_upper_bound_above_prandtl_and_below_the_continuous_one(jump_pipeline) -> None:
+    # A continuous field is a jump field with zero jumps, so on the same triangles the
+    # jump bound can only be lower; it must stay above the exact value (Prandtl 1920).
+    case, runs = jump_pipeline
+    continuous, jumps = runs["continuous"][3], runs["jumps"][3]
+    assert continuous["passed"] and jumps["passed"]
+    load = lambda c: c["load_kN_per_m"] / (WIDTH_M * SU_KPA)
+    assert load(jumps) <= load(continuous) * (1 + 1e-6)
+    assert load(jumps) >= PRANDTL * (1 - ROUND_OFF)
+    mesh = runs["jumps"][0]
+    assert len(mesh.points) == 6 * mesh.n_elements  # every triangle has its own nodes
+    assert jumps["recomputed_kN_per_m"] == pytest.approx(jumps["objective_kN_per_m"], rel=1e-4)
+
+
+def test_upper_certificate_fails_on_an_opening_jump_in_tresca_soil(jump_pipeline) -> None:
+    # Tresca soil cannot open: move one node of one jump along the edge's normal.
+    case, runs = jump_pipeline
+    mesh, program, solution, _ = runs["jumps"]
+    from solver.upper import jump_geometry
+    geometry = jump_geometry(mesh)
+    node = geometry["side2"][len(geometry["side2"]) // 2, 2]  # a midside node inside the domain
+    T = program.layout["T"].tocsc()
+    column = T[2 * node: 2 * node + 2].nonzero()[1]  # its free velocity components in z
+    assert len(column) == 2
+    x = solution.x.copy()
+    x[column] += 0.01 * geometry["normal"][len(geometry["side2"]) // 2]
+    certificate = certify_upper(case, mesh, program, _with_x(solution, x))
+    assert not certificate["passed"]
+    assert certificate["flow_rule"] > 1e-3

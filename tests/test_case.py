@@ -92,6 +92,7 @@ EXPECTED_KEY = {
     "elements_too_few.toml": "analysis.elements",
     "elements_huge_int.toml": "analysis.elements",
     "bounds_unknown.toml": "analysis.bounds",
+    "velocity_jumps_unknown.toml": "analysis.velocity_jumps",
     "backend_unknown.toml": "analysis.backend",
     "analysis_typo.toml": "anaylsis",
     "width_array.toml": "footing.width",
