@@ -4,27 +4,33 @@ until the bracket is tight enough, the step limit or the time limit.
 Indicators (after Lyamin, Sloan, Krabbenhoft & Hjiaj 2005 and Munoz, Bonet,
 Huerta & Peraire 2009, who refine where the plastic flow and the bound gap
 concentrate; the two bounds here live on different meshes, so each bound's
-own field drives its own mesh):
+own field drives its own mesh). Each bound's solution marks its plastic zone:
 
-* upper bound: the plastic shear strain rate of each triangle, mean corner
-  rho = ||(ex - ey, gxy)||. It is the plastic flow the continuous velocity
-  field has to resolve, and it is nonzero in cohesionless soil too, where the
-  dissipation density itself vanishes;
-* lower bound: the yield utilisation; triangles at yield (>= 0.98 at every
-  node) form the plastic zone, whose stress field the linear triangles resolve.
+* upper bound: triangles across which the velocity changes by at least
+  PLASTIC_VELOCITY of the footing's (rho h, rho = ||(ex - ey, gxy)||, the
+  plastic shear strain rate; nonzero in cohesionless soil too, where the
+  dissipation itself vanishes), or beside a velocity jump that slips that much;
+* lower bound: triangles at yield (utilisation >= PLASTIC at a node).
 
-New sizes equidistribute the indicator (h ~ density^(-1/2), each change
-limited to a factor STEP_LIMIT); build_mesh scales them to the next element
-target where they are finer than its graded field (kept at the size that alone
-gives half the target, so the footing edges never lose their refinement).
+The next mesh keeps build_mesh's grading toward the footing edges inside the
+plastic zone and is RIGID_COARSENING times coarser outside it; build_mesh
+scales the whole to the next element target, so the elements leave the rigid
+soil for the plastic zone.
 
-Measured (Prandtl, 2k -> 3.6k triangles): the adapted upper bound came level
-with the graded mesh of the same size (+0.70 % against +0.63 % at 4k), not
-better: the graded mesh is already close to the best for this case. The step
-is kept for cases where the graded mesh is placed poorly (slopes, deep
-layers), and every step is reported. Which bound is refined at a step: both at the first;
-afterwards the one whose last refinement moved it more (its error estimated by
-that change), since the gap is the sum of the two errors.
+Measured (4k -> 8k triangles, against the graded mesh of the same size):
+Prandtl upper +0.30 % (graded +0.41 %), lower -0.024 % (-0.022 %); N_gamma
+(phi 30) upper +2.15 % (+2.72 %), lower -0.49 % (-0.87 %). An earlier
+indicator that equidistributed rho itself (h ~ rho^-1/2) did worse than the
+graded mesh (N_gamma upper +4.2 % at 8k): near the footing edge rho ~ 1/r asks
+for h ~ r^1/2, coarser than the grading h ~ r that the singularity needs.
+
+Which bound is refined, and by how much: both are solved at the first step;
+then the upper bound is refined (on the benchmark cases it is the weaker side),
+then whichever has the larger estimated error (its last change scaled by an
+assumed convergence rate, or the gap less the other's error), since the gap is
+the sum of the two. Each refined bound grows by as much as the time left
+allows (at most GROWTH_MAX), predicted from its last solve; no step starts
+that would end after the time limit.
 
 Every bound at every step is solved and certified as usual, so every value is
 rigorous; the bracket reported is the best certified lower and upper bound
@@ -38,48 +44,49 @@ import time
 import numpy as np
 
 from .analysis import run_bound
-from .mesh import SizeHint
+from .mesh import SizeHint, fan_reach, graded_size
 from .model import Case
 
 GROWTH_MAX = 4.0  # element target growth of a refined bound per step, at most ...
 GROWTH_MIN = 1.3  # ... and at least (a smaller step is not worth its solve)
-TIME_EXPONENT = 2.0  # wall time of a bound ~ elements^this (measured 1.8-1.9 at 4k-20k; kept on the safe side)
-STEP_LIMIT = 4.0  # a size changes by at most this factor per step
+TIME_EXPONENT = 2.2  # wall time of a bound ~ elements^this (measured 1.5-2.1 at 4k-20k; the safe side)
+CONVERGENCE_RATE = 0.6  # error of either bound ~ elements^-this (measured on Prandtl and N_gamma, 2k-16k)
 PLASTIC = 0.98  # lower bound: utilisation at which a triangle counts as plastic
+PLASTIC_VELOCITY = 1e-3  # upper bound: velocity change across a triangle (of the footing's) that counts as plastic
+RIGID_COARSENING = 6.0  # size in the rigid zone / graded size (measured 2, 3, 6: 6 best)
 
 
 def upper_size_hint(bound) -> SizeHint:
-    """Sizes for the next upper-bound mesh from the plastic strain rate."""
+    """Sizes for the next upper-bound mesh: the graded size where the soil deforms
+    (the velocity changes by PLASTIC_VELOCITY of the footing's across a triangle,
+    rho h, or a velocity jump beside it slips that much), RIGID_COARSENING times
+    it where the soil is rigid."""
     mesh, fields = bound.mesh, bound.fields
     strain = fields["strain_rate"]  # (n_el, 3, 3): ex, ey, gxy at the corners
     rho = np.hypot(strain[..., 0] - strain[..., 1], strain[..., 2]).mean(axis=1)
-    if "jump_slip" in fields:  # a jump of slip s beside a triangle of size h: a shear rate ~ s / h there
-        h = np.sqrt(2.0 * mesh.areas())
-        e1, e2 = mesh.jumps[:, 0], mesh.jumps[:, 2]
-        np.add.at(rho, e1, fields["jump_slip"] / h[e1])
-        np.add.at(rho, e2, fields["jump_slip"] / h[e2])
-    return _equidistribute(mesh.points, mesh.triangles[:, :3], mesh.areas(), rho)
+    change = rho * np.sqrt(2.0 * mesh.areas())
+    if "jump_slip" in fields:
+        np.maximum.at(change, mesh.jumps[:, 0], fields["jump_slip"])
+        np.maximum.at(change, mesh.jumps[:, 2], fields["jump_slip"])
+    return _plastic_zone_hint(mesh, change >= PLASTIC_VELOCITY)
 
 
 def lower_size_hint(bound) -> SizeHint:
-    """Sizes for the next lower-bound mesh from the yield utilisation."""
-    mesh, fields = bound.mesh, bound.fields
-    utilisation = np.clip(fields["utilisation"].min(axis=1), 0.0, 1.0)
-    density = np.where(utilisation >= PLASTIC, 1.0, utilisation ** 20)  # plastic zone first, then near it
-    return _equidistribute(mesh.points, mesh.triangles[:, :3], mesh.areas(), density)
+    """Sizes for the next lower-bound mesh: the graded size (fan included) where a
+    triangle is at yield (utilisation >= PLASTIC at a node), RIGID_COARSENING times
+    it elsewhere."""
+    return _plastic_zone_hint(bound.mesh, bound.fields["utilisation"].max(axis=1) >= PLASTIC)
 
 
-def _equidistribute(points, triangles, area, density) -> SizeHint:
-    """h_new ~ density^(-1/2) (equal indicator per triangle), within STEP_LIMIT of h_old."""
-    h_old = np.sqrt(2.0 * area)
-    floor = 1e-3 * density.max() if density.max() > 0 else 1.0
-    wanted = (np.maximum(density, floor)) ** -0.5
-    wanted *= np.median(h_old / wanted)  # only the shape matters: build_mesh rescales
-    h_new = np.clip(wanted, h_old / STEP_LIMIT, h_old * STEP_LIMIT)
-    # element sizes to nodes: the smallest size of the triangles at each node
-    node_size = np.full(len(points), np.inf)
-    np.minimum.at(node_size, triangles.ravel(), np.repeat(h_new, 3))
-    return SizeHint(points=points, triangles=triangles, size=node_size)
+def _plastic_zone_hint(mesh, plastic: np.ndarray) -> SizeHint:
+    """The graded size of build_mesh at the previous mesh's corner nodes, times
+    RIGID_COARSENING at nodes with no plastic triangle around them."""
+    corners = mesh.triangles[:, :3]
+    factor = np.full(len(mesh.points), RIGID_COARSENING)
+    np.minimum.at(factor, corners.ravel(), np.repeat(np.where(plastic, 1.0, RIGID_COARSENING), 3))
+    fan = mesh.order == 1 and fan_reach(mesh.domain, mesh.footing_width) > 0
+    size = graded_size(mesh.points, mesh.domain, mesh.footing_width, fan) * factor
+    return SizeHint(points=mesh.points, triangles=corners, size=size)
 
 
 def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, settings,
@@ -117,6 +124,7 @@ def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, s
             bound.extra["change_from_previous_step_kPa"] = (
                 None if previous is None or previous.pressure_kPa is None or bound.pressure_kPa is None
                 else bound.pressure_kPa - previous.pressure_kPa)
+            bound.extra["elements_previous_step"] = None if previous is None else previous.elements
         lo = current["lower"].pressure_kPa if "lower" in current else None
         up = current["upper"].pressure_kPa if "upper" in current else None
         best_lo = best["lower"][1].pressure_kPa if "lower" in best else None
@@ -135,22 +143,24 @@ def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, s
             break
         if len(kinds) < 2 and step > 0 and all(current[k].pressure_kPa is None for k in kinds):
             break
-        refine = _next_to_refine(kinds, current, refined_before)
-        refined_before.update(refine)
-        # Grow each refined bound as far as the time left allows (time ~ elements^TIME_EXPONENT
-        # from its last solve), at most GROWTH_MAX; no step that would end after the limit.
-        left = limit - (time.perf_counter() - start)
-        spent = {k: sum(current[k].timing.values()) for k in refine}
-        share = left / max(sum(spent.values()), 1e-9)
-        growth = min(GROWTH_MAX, share ** (1.0 / TIME_EXPONENT))
-        if growth < GROWTH_MIN:
+        # Grow the refined bound as far as the time left allows (time ~ elements^TIME_EXPONENT
+        # from its last solve), at most GROWTH_MAX; no step that would end after the limit. If
+        # the bound with the larger error cannot grow enough in the time left, the other may.
+        left = max(limit - (time.perf_counter() - start), 0.0)
+        growth = {k: min(GROWTH_MAX, (left / max(sum(current[k].timing.values()), 1e-9)) ** (1.0 / TIME_EXPONENT))
+                  for k in kinds}
+        order = _next_to_refine(kinds, current, refined_before, best_up - best_lo if gap is not None else None)
+        order += [k for k in kinds if k not in order]
+        refine = [k for k in order if growth[k] >= GROWTH_MIN][:1]
+        if not refine:
             history[-1]["stopped"] = "time limit"
             break
+        refined_before.update(refine)
         for kind in refine:
             if current[kind].pressure_kPa is None:
                 continue
             hint[kind] = (lower_size_hint if kind == "lower" else upper_size_hint)(current[kind])
-            count[kind] = int(min(count[kind] * growth, 400_000))
+            count[kind] = int(min(count[kind] * growth[kind], 400_000))
     else:
         history[-1]["stopped"] = "step limit"
     if bar is not None:
@@ -161,22 +171,36 @@ def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, s
     return chosen["lower"], chosen["upper"], history, timing
 
 
-def _next_to_refine(kinds: list[str], current: dict, refined_before: set) -> list[str]:
-    """The bound(s) to refine next: the one whose last refinement moved it more
-    (its error estimated by that change; the gap is the sum of both errors).
-    Before both have moved, the upper bound goes first, then the lower: measured
-    on the four benchmark cases at equal element counts, the upper bound's error
-    was 3 to 15 times the lower bound's (the lower bound's fan at each footing
+def estimated_error(bound) -> float | None:
+    """kPa: a bound's remaining error estimated from its last refinement, if it had one.
+
+    With error ~ elements^-CONVERGENCE_RATE, a change dP from n0 to n1 elements
+    leaves dP / ((n1/n0)^rate - 1) to go."""
+    change, n0 = bound.extra.get("change_from_previous_step_kPa"), bound.extra.get("elements_previous_step")
+    if change is None or not n0 or bound.elements <= n0:
+        return None
+    return abs(change) / ((bound.elements / n0) ** CONVERGENCE_RATE - 1.0)
+
+
+def _next_to_refine(kinds: list[str], current: dict, refined_before: set, gap_kPa: float | None) -> list[str]:
+    """The bound to refine next: the one with the larger estimated error
+    (:func:`estimated_error`; the gap is the sum of both errors, so a bound with no
+    estimate yet gets the gap less the other's). Before any estimate the upper bound
+    goes first: measured on the benchmark cases at equal element counts, its error
+    was 3 to 15 times the lower bound's (the lower bound has a fan at each footing
     edge; benchmarks/cases.py, DEVELOPERS.md)."""
     if len(kinds) < 2:
         return list(kinds)
-    for kind in ("upper", "lower"):
-        if kind not in refined_before:
-            return [kind]
-    changes = {k: current[k].extra.get("change_from_previous_step_kPa") for k in kinds}
-    if any(v is None for v in changes.values()):
-        return [k for k in kinds if changes[k] is None]
-    return [max(kinds, key=lambda k: abs(changes[k]))]
+    if "upper" not in refined_before:
+        return ["upper"]
+    error = {k: estimated_error(current[k]) for k in kinds}
+    if gap_kPa is not None:
+        for k, other in (("lower", "upper"), ("upper", "lower")):
+            if error[k] is None and error[other] is not None:
+                error[k] = max(gap_kPa - error[other], 0.0)
+    if any(v is None for v in error.values()):
+        return [k for k in kinds if error[k] is None]
+    return [max(kinds, key=lambda k: error[k])]
 
 
 def _row_text(row: dict) -> str:

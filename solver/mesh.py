@@ -186,8 +186,10 @@ def open_velocity_jumps(mesh: Mesh, opened: np.ndarray) -> Mesh:
 @dataclass(frozen=True)
 class SizeHint:
     """A wanted element size (m) at the corner nodes of a previous mesh of the same
-    domain, from adaptive refinement (:mod:`solver.adapt`). build_mesh scales it
-    as a whole to meet its element target, so only its shape matters."""
+    domain, from adaptive refinement (:mod:`solver.adapt`), grading toward the
+    footing edges included (:func:`graded_size` times a factor). build_mesh
+    meshes to it alone, scaled as a whole to meet its element target, so only
+    its shape matters."""
 
     points: np.ndarray  # (n, 2) m
     triangles: np.ndarray  # (m, 3) corner nodes
@@ -201,7 +203,21 @@ class SizeHint:
         return float(2.3 * np.sum(area / self.size[self.triangles].mean(axis=1) ** 2))
 
 
-HINT_SHARE = 0.5  # with a size hint, the graded field alone would give this share of the target
+def graded_size(points: np.ndarray, domain: Domain, B: float, fan: bool) -> np.ndarray:
+    """(n,) m: the graded element size at points for scale 1, as build_mesh grades a mesh
+    (with or without a fan): h = edge B + grading r, capped at a tenth of the domain depth,
+    r the distance to the nearest footing edge (half the distance to a slope's crest).
+
+    >>> d = Domain(True, 0.0, 10.0, 5.0, (), 3.0, 2.0)
+    >>> graded_size(np.array([[0.5, 0.0], [0.5, -1.0], [9.0, -5.0]]), d, 1.0, fan=False).round(4).tolist()
+    [0.002, 0.152, 0.5]
+    """
+    x, y = points[:, 0], points[:, 1]
+    centres = [B / 2] if domain.half else [B / 2, -B / 2]
+    r = np.min([np.hypot(x - c, y) for c in centres], axis=0)
+    if domain.slope:
+        r = np.minimum(r, 2.0 * np.hypot(x - domain.crest_x, y))
+    return _size(r, B, domain, *((FAN_EDGE_SIZE, FAN_GRADING) if fan else ()))
 
 
 def is_symmetric(case: Case) -> bool:
@@ -450,9 +466,8 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
         Build the fans (default ``order == 1``); none is built where there is
         no room (:func:`fan_reach`).
     size_hint : SizeHint, optional
-        Adaptive refinement: the element size follows the hint (scaled to the
-        target count) where it is finer than the graded field that alone would
-        give HINT_SHARE of the target.
+        Adaptive refinement: the element size follows the hint alone (scaled
+        to the target count); the hint carries the grading itself.
 
     A drawn site ([geometry] file) is meshed by solver.sitefile instead
     (``domain``, ``fan`` and ``size_hint`` do not apply to it).
@@ -464,31 +479,25 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     target = elements or case.analysis.elements
     B = case.footing.width
     fan = ((order == 1) if fan is None else fan) and fan_reach(domain, B) > 0
-    scale = math.sqrt(_estimate_count(domain, B, fan) / target)
-    # With a hint, the graded field stays at the size that alone would give a
-    # HINT_SHARE of the target (the edges keep their refinement); only the hint
-    # is scaled to meet the target.
-    graded_scale = scale / math.sqrt(HINT_SHARE) if size_hint else None
-    if size_hint:
-        scale = math.sqrt(size_hint.estimate_count() / target)
+    scale = math.sqrt((size_hint.estimate_count() if size_hint else _estimate_count(domain, B, fan)) / target)
     layout = None
     with _GMSH_LOCK:
         gmsh = _start_gmsh()
         try:
             tried = {}  # scale -> relative miss of the element count
             for attempt in range(6):
-                layout = _fan_layout(domain, B, graded_scale or scale) if fan else None
+                layout = _fan_layout(domain, B, scale) if fan else None
                 rim = _draw(gmsh, domain, B, layout)
-                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint, graded_scale)
+                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
                 count += layout.n_elements if layout else 0
                 tried[scale] = abs(count / target - 1.0)
                 if tried[scale] < 0.05:
                     break
                 if attempt == 5:  # not converged (small targets): keep the closest
                     scale = min(tried, key=tried.get)
-                    layout = _fan_layout(domain, B, graded_scale or scale) if fan else None
+                    layout = _fan_layout(domain, B, scale) if fan else None
                     rim = _draw(gmsh, domain, B, layout)
-                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint, graded_scale)
+                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
                     break
                 scale *= math.sqrt(count / target)
             gmsh_order = 1 if fan else order
@@ -648,8 +657,7 @@ def _embed_crest_points(gmsh, domain: Domain, B: float) -> None:
 
 
 def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
-               layout: FanLayout | None = None, size_hint: SizeHint | None = None,
-               graded_scale: float | None = None) -> int:
+               layout: FanLayout | None = None, size_hint: SizeHint | None = None) -> int:
     mesh = gmsh.model.mesh
     mesh.clear()
     for tag in mesh.field.list():
@@ -661,8 +669,7 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     distance = f"Min({distance})" if "," in distance else distance
     edge, grading = (FAN_EDGE_SIZE, FAN_GRADING) if layout else (PLAIN_EDGE_SIZE, PLAIN_GRADING)
     mesh.field.add("MathEval", 1)
-    graded_scale = graded_scale or scale
-    mesh.field.setString(1, "F", f"{graded_scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
+    mesh.field.setString(1, "F", f"{scale}*Min({edge * B}+{grading}*{distance}, {0.1 * domain.depth})")
     if size_hint is None:
         mesh.field.setAsBackgroundMesh(1)
     else:
@@ -674,9 +681,7 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
         gmsh.view.addListData(view, "ST", len(values), data.ravel().tolist())
         mesh.field.add("PostView", 2)
         mesh.field.setNumber(2, "ViewTag", view)
-        mesh.field.add("Min", 3)
-        mesh.field.setNumbers(3, "FieldsList", [1, 2])
-        mesh.field.setAsBackgroundMesh(3)
+        mesh.field.setAsBackgroundMesh(2)
     gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
     gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
     gmsh.option.setNumber("Mesh.MeshSizeFromCurvature", 0)

@@ -37,14 +37,60 @@ def test_adaptive_stops_at_the_target_gap():
     assert result.gap_percent <= 20.0
 
 
-def test_the_upper_bound_is_refined_first_then_the_lower_then_the_one_that_moved_more():
+def test_the_upper_bound_is_refined_first_then_the_one_with_the_larger_estimated_error():
     from types import SimpleNamespace
-    from solver.adapt import _next_to_refine
+    from solver.adapt import CONVERGENCE_RATE, _next_to_refine, estimated_error
     kinds = ["lower", "upper"]
-    moved = lambda lo, up: {"lower": SimpleNamespace(extra={"change_from_previous_step_kPa": lo}),
-                            "upper": SimpleNamespace(extra={"change_from_previous_step_kPa": up})}
-    assert _next_to_refine(kinds, moved(None, None), set()) == ["upper"]
-    assert _next_to_refine(kinds, moved(None, -0.3), {"upper"}) == ["lower"]
-    assert _next_to_refine(kinds, moved(0.01, -0.3), {"upper", "lower"}) == ["upper"]
-    assert _next_to_refine(kinds, moved(0.5, -0.3), {"upper", "lower"}) == ["lower"]
-    assert _next_to_refine(["lower"], moved(None, None), set()) == ["lower"]
+
+    def bound(change, n0, n1):
+        return SimpleNamespace(elements=n1, extra={"change_from_previous_step_kPa": change,
+                                                   "elements_previous_step": n0})
+    # a change of 1 kPa from 1000 to 4000 elements leaves 1 / (4^rate - 1) kPa to go
+    assert estimated_error(bound(-1.0, 1000, 4000)) == 1.0 / (4.0 ** CONVERGENCE_RATE - 1.0)
+    assert estimated_error(bound(None, None, 1000)) is None
+    fresh = {"lower": bound(None, None, 1000), "upper": bound(None, None, 1000)}
+    assert _next_to_refine(kinds, fresh, set(), gap_kPa=1.0) == ["upper"]
+    # upper refined, moved by 0.3 kPa (about 0.2 kPa left); gap 1 kPa: the lower has about 0.8 left
+    moved = {"lower": bound(None, None, 1000), "upper": bound(-0.3, 1000, 4000)}
+    assert _next_to_refine(kinds, moved, {"upper"}, gap_kPa=1.0) == ["lower"]
+    # gap 0.25 kPa: the lower has about 0.05 left, the upper goes again
+    assert _next_to_refine(kinds, moved, {"upper"}, gap_kPa=0.25) == ["upper"]
+    both = {"lower": bound(0.5, 1000, 4000), "upper": bound(-0.3, 1000, 4000)}
+    assert _next_to_refine(kinds, both, {"upper", "lower"}, gap_kPa=1.0) == ["lower"]
+    assert _next_to_refine(["lower"], fresh, set(), gap_kPa=None) == ["lower"]
+
+
+def test_adaptive_stops_when_the_time_limit_leaves_no_room_for_a_step():
+    case = prandtl(target_gap=1e-4, max_steps=4)
+    import dataclasses
+    case = dataclasses.replace(case, analysis=dataclasses.replace(case.analysis, time_limit_s=0.01))
+    result = analyse(case)  # the first step alone takes longer than the limit
+    assert len(result.adapt_history) == 1
+    assert result.adapt_history[0]["stopped"] == "time limit"
+    assert result.lower.certificate["passed"] and result.upper.certificate["passed"]
+
+
+def test_the_next_mesh_keeps_the_grading_in_the_plastic_zone_and_coarsens_the_rigid_soil():
+    from types import SimpleNamespace
+
+    import numpy as np
+
+    from solver.adapt import RIGID_COARSENING, upper_size_hint
+    from solver.mesh import build_mesh, graded_size
+    case = prandtl(target_gap=0.01, max_steps=2)
+    mesh = build_mesh(case, order=2, elements=800)
+    centre = mesh.points[mesh.triangles[:, :3]].mean(axis=1)
+    plastic = np.hypot(centre[:, 0] - 0.5, centre[:, 1]) < 0.5  # pretend the soil shears within 0.5 B of the edge
+    strain = np.zeros((mesh.n_elements, 3, 3))
+    strain[plastic, :, 2] = 1.0 / np.sqrt(2.0 * mesh.areas()[plastic, None])  # shear rate 1/h: a change of 1 across
+    hint = upper_size_hint(SimpleNamespace(mesh=mesh, fields={"strain_rate": strain}))
+    ratio = hint.size / graded_size(mesh.points, mesh.domain, 1.0, fan=False)
+    in_zone = np.unique(mesh.triangles[plastic, :3])
+    assert np.allclose(ratio[in_zone], 1.0)
+    far = np.hypot(mesh.points[:, 0] - 0.5, mesh.points[:, 1]) > 1.0
+    assert np.allclose(ratio[far], RIGID_COARSENING)
+    adapted = build_mesh(case, order=2, elements=800, size_hint=hint)
+    assert abs(adapted.n_elements / 800 - 1.0) < 0.1
+    inside = lambda m: (np.hypot(m.points[m.triangles[:, :3]].mean(axis=1)[:, 0] - 0.5,
+                                 m.points[m.triangles[:, :3]].mean(axis=1)[:, 1]) < 0.5).sum()
+    assert inside(adapted) > 1.3 * inside(mesh)  # the elements moved to the plastic zone

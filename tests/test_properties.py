@@ -36,6 +36,10 @@ ELEMENTS = 400  # triangles per bound: cheap, and every property below holds on 
 # Relative slack for comparing two certified bounds: the solver's tolerances and the
 # certificates' (1e-6 of the stress scale) allow round-off of about this size, nothing more.
 ROUND_OFF = 1e-6
+# Comparing the optima of two programs solved apart: each solve stops within the solver's
+# relative duality gap of its own optimum (solver.conic.default_settings), so both may be
+# short of it by that much (the bounds stay rigorous; only their order can blur by this).
+OPTIMUM_SLACK = 1e-4 + ROUND_OFF
 SOLVING = settings(max_examples=8, deadline=None, derandomize=True,
                    suppress_health_check=[HealthCheck.too_slow])
 
@@ -258,8 +262,8 @@ def test_more_strength_never_lowers_either_bound(data: dict, tan_phi_factor: flo
     weak_lower, weak_upper, weak_meshes = bounds_on(weak, domain)
     strong_lower, strong_upper, strong_meshes = bounds_on(strong, domain)
     assert_same_meshes(weak_meshes, strong_meshes)
-    assert strong_lower >= weak_lower * (1 - ROUND_OFF), (weak_lower, strong_lower)
-    assert strong_upper >= weak_upper * (1 - ROUND_OFF), (weak_upper, strong_upper)
+    assert strong_lower >= weak_lower * (1 - 2 * OPTIMUM_SLACK), (weak_lower, strong_lower)
+    assert strong_upper >= weak_upper * (1 - 2 * OPTIMUM_SLACK), (weak_upper, strong_upper)
 
 
 @SOLVING
@@ -284,4 +288,12 @@ def test_heavier_surcharge_never_lowers_the_bracket(data: dict, added_kPa: float
     assert_same_meshes(light_meshes, heavy_meshes)
     for light_p, heavy_p in ((light_lower, heavy_lower), (light_upper, heavy_upper)):
         # never lower: in fact higher by at least the added surcharge
-        assert heavy_p - light_p >= added_kPa - ROUND_OFF * heavy_p, (light_p, heavy_p, added_kPa)
+        assert heavy_p - light_p >= added_kPa - OPTIMUM_SLACK * (heavy_p + light_p), (light_p, heavy_p, added_kPa)
+
+
+def test_the_optimum_slack_matches_the_solver_gap_tolerance() -> None:
+    from solver.conic import ConicProgram, default_settings
+    import scipy.sparse as sp
+    for kind in ("lower", "upper"):
+        program = ConicProgram(c=np.zeros(1), A=sp.csc_matrix((0, 1)), b=np.zeros(0), n_zero=0, n_soc=0, kind=kind)
+        assert OPTIMUM_SLACK >= default_settings(program)["tol_gap_rel"]
