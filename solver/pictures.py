@@ -889,6 +889,9 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
                "length in proportion to the speed (key: the footing's velocity along the load = 1). Thick "
                "arrow: the load along its line of action.")
     caption += _motion_text(footing_motion(case, upper, half))
+    if len(upper.arrays.get("jump_dissipation", ())):
+        caption += (" Shaded lines: velocity jumps across triangle edges, their dissipation per unit length "
+                    "spread over a width equal to their length.")
     if extent is not None:
         mx_lo, mx_hi, md = extent
         caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.1%} of the footing, "
