@@ -19,10 +19,10 @@ from .upper import upper_bound_program
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
-UPPER_METHOD = ("6-node triangles, quadratic velocity, flow rule as cones at the corners "
+UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
                 "(Makrodimopoulos & Martin 2006, 2007); far boundary fixed")
-UPPER_JUMPS = ("; velocity jumps across every interior edge (after Sloan & Kleeman 1995), flow rule and "
-               "dissipation bounded through the jumps' Bernstein coefficients")
+UPPER_JUMPS = ("; except that the velocity may jump across every interior edge (after Sloan & Kleeman 1995), "
+               "flow rule and dissipation of each jump bounded through its Bernstein coefficients")
 SLOPE_UNSTABLE = ("the slope is not stable under its own weight: the collapse load is zero or negative "
                   "(no statically admissible stress field carries the ground, or a mechanism releases "
                   "energy); no capacity is reported")
@@ -136,7 +136,7 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
 
 def uses_velocity_jumps(case: Case) -> bool:
     """Whether the upper bound lets the velocity jump across every interior edge
-    ([analysis] velocity_jumps = "all"; default "none": DEVELOPERS.md, "Velocity jumps")."""
+    ([analysis] velocity_jumps = "all"; default "none": DEVELOPERS.md, "Upper-bound details worth knowing")."""
     return case.analysis.velocity_jumps == "all"
 
 
