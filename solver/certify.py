@@ -128,9 +128,9 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     else:
         flow = float(np.max(np.maximum(np.sin(phi) * shear - (ex + ey), np.where(phi == 0, np.abs(ex + ey), 0)) * L))
     dissipation = float(np.sum(field["dissipation_density"] * area))
-    jump_flow, jump_dissipation = jump_residuals(case, mesh, vel)
-    flow = max(flow, jump_flow)
-    dissipation += jump_dissipation
+    if "jump_dissipation" in field:  # velocity jumps, recomputed with the field
+        flow = max(flow, field["jump_flow_breach"])
+        dissipation += float(np.sum(field["jump_dissipation"]))
     gamma = mat["gamma"][mesh.layer]
     gravity = float(np.sum(gamma * area / 3.0 * v[:, 3:].sum(axis=1)))
     ground = mesh.boundary_kind == GROUND
@@ -178,10 +178,7 @@ def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.nd
     (n_nodes, 2); ``strain_rate`` (n_el, 3 corners, 3) as (ex, ey, gxy) in 1/m;
     ``dissipation_density`` (n_el,) mean plastic dissipation rate per unit volume,
     kN/m^3 per unit footing velocity (kPa/s per m/s), integrated exactly from the corners;
-    with velocity jumps, ``jump_slip`` (n_jump,): the mean tangential jump along each
-    (per unit footing velocity, the mean of its Bernstein coefficients' magnitudes),
-    ``jump_dissipation`` (n_jump,) kN/m per unit footing velocity and ``jump_ends``
-    (n_jump, 2, 2) m."""
+    with velocity jumps, the :func:`jump_field` arrays too."""
     vel = velocities(program, x)
     mat = material_arrays(case)
     tri = mesh.triangles
@@ -202,23 +199,17 @@ def upper_velocity_field(case: Case, mesh: Mesh, program: ConicProgram, x: np.nd
     density = np.sum(np.cos(phi) * weight * rho, axis=1)
     out = {"velocity": vel, "strain_rate": np.stack([ex, ey, gxy], axis=2), "dissipation_density": density}
     if mesh.jumps is not None and len(mesh.jumps):
-        geometry = jump_geometry(mesh)
-        coeff = np.einsum("in,jnd->jid", BERNSTEIN_FROM_NODES, vel[geometry["side2"]] - vel[geometry["side1"]])
-        out["jump_slip"] = np.abs(np.einsum("jid,jd->ji", coeff, geometry["tangent"])).mean(axis=1)
-        out["jump_dissipation"] = jump_residuals(case, mesh, vel, per_jump=True)[1]
-        out["jump_ends"] = mesh.points[geometry["side1"][:, :2]]
+        out.update(jump_field(case, mesh, vel))
     return out
 
 
-def jump_residuals(case: Case, mesh: Mesh, vel: np.ndarray, per_jump: bool = False):
-    """Velocity jumps, recomputed from the nodal velocities: the largest breach of
-    the Mohr-Coulomb condition n.b_i >= tan(phi) |t.b_i| over the Bernstein
-    coefficients b_i of every jump (for phi = 0: |n.b_i|), in velocity units,
-    and the dissipation bound sum_i integral(c B_i) * (n.b_i cot(phi), or |t.b_i|
-    below sin(phi) = 1e-3), kN/m per unit footing velocity (``per_jump``: an array, one
-    value per jump)."""
-    if mesh.jumps is None or len(mesh.jumps) == 0:
-        return 0.0, (np.zeros(0) if per_jump else 0.0)
+def jump_field(case: Case, mesh: Mesh, vel: np.ndarray) -> dict:
+    """The velocity jumps, recomputed from the nodal velocities through the Bernstein
+    coefficients b_i of each: ``jump_slip`` (n_jump,) the mean |t.b_i|;
+    ``jump_flow_breach`` the largest breach of n.b_i >= tan(phi) |t.b_i| (for phi = 0:
+    |n.b_i|), in velocity units; ``jump_dissipation`` (n_jump,) kN/m per unit footing
+    velocity, sum_i integral(c B_i) * (n.b_i cot(phi), or |t.b_i| below sin(phi) = 1e-3);
+    ``jump_ends`` (n_jump, 2, 2) m."""
     geometry = jump_geometry(mesh)
     jump = vel[geometry["side2"]] - vel[geometry["side1"]]  # (n_jump, 3 nodes, 2)
     coeff = np.einsum("in,jnd->jid", BERNSTEIN_FROM_NODES, jump)  # (n_jump, 3, 2)
@@ -228,8 +219,9 @@ def jump_residuals(case: Case, mesh: Mesh, vel: np.ndarray, per_jump: bool = Fal
     breach = np.where(phi > 0, np.tan(phi) * shear - normal, np.abs(normal))
     frictional = np.sin(phi) > 1e-3
     rate = np.where(frictional, normal / np.where(frictional, np.tan(phi), 1.0), shear)
-    dissipation = np.sum(jump_dissipation_weights(case, mesh, geometry) * rate, axis=1)
-    return float(max(np.max(breach), 0.0)), (dissipation if per_jump else float(np.sum(dissipation)))
+    return {"jump_slip": shear.mean(axis=1), "jump_flow_breach": float(max(np.max(breach), 0.0)),
+            "jump_dissipation": np.sum(jump_dissipation_weights(case, mesh, geometry) * rate, axis=1),
+            "jump_ends": mesh.points[geometry["side1"][:, :2]]}
 
 
 def kinematic_residual(case: Case, mesh: Mesh, vel: np.ndarray, motion: dict) -> float:
