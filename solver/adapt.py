@@ -51,7 +51,7 @@ GROWTH_MAX = 4.0  # element target growth of a refined bound per step, at most .
 GROWTH_MIN = 1.3  # ... and at least (a smaller step is not worth its solve)
 TIME_EXPONENT = 2.2  # wall time of a bound ~ elements^this (measured 1.5-2.1 at 4k-20k; the safe side)
 TIME_MARGIN = 0.85  # plan a step into this share of the time left (the prediction is rough: a Prandtl
-#                    run with a 60 s limit ended at 61.9 s planning into all of it)
+#                    run with a 60 s limit, on a shared machine, ended at 61.9 s planning into all of it)
 CONVERGENCE_RATE = 0.6  # error of either bound ~ elements^-this (measured on Prandtl and N_gamma, 2k-16k)
 PLASTIC = 0.98  # lower bound: utilisation at which a triangle counts as plastic
 PLASTIC_VELOCITY = 1e-3  # upper bound: velocity change across a triangle (of the footing's) that counts as plastic
