@@ -101,7 +101,7 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
     mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
                       size_hint=size_hint)
     if kind == "upper" and uses_velocity_jumps(case):
-        mesh = open_velocity_jumps(mesh, np.ones(len(mesh.interior_edges()[0]), dtype=bool))
+        mesh = open_velocity_jumps(mesh)
     t1 = time.perf_counter()
     program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
     t2 = time.perf_counter()

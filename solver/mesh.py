@@ -140,10 +140,11 @@ class Mesh:
                       - (p[:, 2, 0] - p[:, 0, 0]) * (p[:, 1, 1] - p[:, 0, 1]))
 
 
-def open_velocity_jumps(mesh: Mesh, opened: np.ndarray) -> Mesh:
+def open_velocity_jumps(mesh: Mesh, opened: np.ndarray | None = None) -> Mesh:
     """The same second-order mesh with its nodes split along chosen interior edges.
 
-    ``opened`` is a boolean mask over ``mesh.interior_edges()``. Element-local
+    ``opened`` is a boolean mask over ``mesh.interior_edges()`` (None: every
+    interior edge). Element-local
     node slots stay joined across every other interior edge; each group of
     joined slots becomes one node (a connected-components pass, so a corner
     node where several opened edges meet gets one copy per sector between
@@ -164,7 +165,7 @@ def open_velocity_jumps(mesh: Mesh, opened: np.ndarray) -> Mesh:
     if mesh.order != 2:
         raise ValueError("velocity jumps need a second-order (6-node) mesh")
     e1, k1, e2, k2 = mesh.interior_edges()
-    keep = ~np.asarray(opened, dtype=bool)
+    keep = np.zeros(len(e1), dtype=bool) if opened is None else ~np.asarray(opened, dtype=bool)
     slot = lambda e, j: 6 * e + j
     a, b = e1[keep], e2[keep]
     ka, kb = k1[keep], k2[keep]

@@ -218,7 +218,7 @@ def jump_pipeline():
     from solver.mesh import open_velocity_jumps
     case = tresca_case()
     mesh = build_mesh(case, order=2, elements=600)
-    split = open_velocity_jumps(mesh, np.ones(len(mesh.interior_edges()[0]), dtype=bool))
+    split = open_velocity_jumps(mesh)
     runs = {}
     for name, m in (("continuous", mesh), ("jumps", split)):
         program = upper_bound_program(case, m)
