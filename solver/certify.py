@@ -33,7 +33,14 @@ from .upper import (BERNSTEIN_FROM_NODES, corner_shape_gradients, footing_motion
 
 STRESS_TOLERANCE = 1e-6
 FLOW_TOLERANCE = 1e-6
-LOAD_TOLERANCE = 1e-4
+# The solver's objective exceeds the dissipation recomputed from its velocities by
+# the slack left in the cones (t > ||.||), spread evenly over all of them: the
+# complementarity the interior-point method stops at (relative duality gap 1e-4,
+# conic.default_settings). Measured 1.2e-4 to 4.8e-4 at 2k-8k triangles on
+# Tresca soil whose strength rises from zero at the surface. Both values are
+# upper bounds of the same field and the larger is reported, so this tolerance
+# screens for a solution the solver got wrong; it costs no rigour.
+LOAD_TOLERANCE = 1e-3
 USABLE = ("optimal", "almost optimal")
 
 

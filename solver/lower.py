@@ -188,10 +188,10 @@ def lower_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
 
     # 6. Yield at every stress node.
     depth = -mesh.points[mesh.triangles, 1]
-    _cones(cone, stress.reshape(-1, 3), node_cohesion(mat, np.repeat(mesh.layer, 3), depth.ravel()),
+    _yield(eq, cone, stress.reshape(-1, 3), node_cohesion(mat, np.repeat(mesh.layer, 3), depth.ravel()),
            np.repeat(mat["phi"][mesh.layer], 3))
     for triple, c, phi in strips["cones"]:
-        _cones(cone, triple, c, phi)
+        _yield(eq, cone, triple, c, phi)
     # 7. No tension under the footing: a footing cannot pull on the soil, so the
     #    contact normal stress is compressive, sigma_y <= 0, at every contact node
     #    (written as the cone (-sigma_y, 0, 0)). The upper bound's bonded footing
@@ -237,6 +237,25 @@ def _add_prescribed(eq: _Rows, prescribed: list) -> None:
     _, first = np.unique(key, axis=0, return_index=True)
     r = eq.block(len(first), values[first])
     eq.add(r[:, None], triples[first], coeffs[first])
+
+
+def _yield(eq: _Rows, cone: _Rows, stress: np.ndarray, c, phi) -> None:
+    """Yield on stress triples (n, 3): the cone of :func:`_cones`, except where
+    c = 0 and phi = 0 (a Tresca recession condition with no strength gain along
+    the rate, or a node where the undrained strength is zero). There the cone
+    ||(sx - sy, 2 txy)|| <= 0 has no interior, only its apex, which breaks the
+    interior-point method's assumption of a strictly feasible point, so it is
+    written as the equalities sx = sy, txy = 0 it means. (Measured on Prandtl's
+    case, whose far strips have such rates: 33 -> 30 iterations at 10k triangles,
+    37 -> 38 at 20k, the same bound; the gain is robustness, not speed.)"""
+    c = np.broadcast_to(np.asarray(c, float), (len(stress),))
+    phi = np.broadcast_to(np.asarray(phi, float), (len(stress),))
+    apex = (c == 0.0) & (phi == 0.0)
+    _cones(cone, stress[~apex], c[~apex], phi[~apex])
+    r = eq.block(int(apex.sum()))
+    eq.add(r, stress[apex, SX], 1.0)
+    eq.add(r, stress[apex, SY], -1.0)
+    eq.add(eq.block(int(apex.sum())), stress[apex, TXY], 1.0)
 
 
 def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q) -> dict:

@@ -256,3 +256,30 @@ def test_upper_certificate_fails_on_an_opening_jump_in_tresca_soil(jump_pipeline
     certificate = certify_upper(case, mesh, program, _with_x(solution, x))
     assert not certificate["passed"]
     assert certificate["flow_rule"] > 1e-3
+
+
+def strength_from_zero_case(elements: int = 4000) -> Case:
+    """Tresca clay whose undrained strength rises from zero at the surface (4 kPa/m),
+    with self-weight: the yield cones at surface nodes have no interior (su = 0)."""
+    return parse_case({"footing": {"width": WIDTH_M, "base": "rough"}, "analysis": {"elements": elements},
+                       "layers": [{"name": "clay", "model": "tresca", "unit_weight": 17.0,
+                                   "undrained_strength": 0.0, "strength_gradient": 4.0}]})
+
+
+def test_strength_rising_from_zero_gives_both_bounds() -> None:
+    """Both bounds certified and bracketing; the upper bound used to be withheld here
+    because its objective and recomputed dissipation differ by the cone slack."""
+    lower, upper = certified(analyse(strength_from_zero_case()))
+    assert 0.0 < lower <= upper * (1 + ROUND_OFF)
+
+
+def test_no_yield_cone_without_interior() -> None:
+    """Every second-order cone of the lower bound has a strictly feasible point: its
+    first entry b0 - A0 x is not identically zero (a cone ||.|| <= 0 is written as
+    the equalities it means instead)."""
+    case = strength_from_zero_case(400)
+    program = lower_bound_program(case, build_mesh(case, order=1, elements=400))
+    first = program.n_zero + program.n_nonneg + 3 * np.arange(program.n_soc)
+    row_nnz = np.diff(program.A.tocsr().indptr)[first]
+    assert np.all((row_nnz > 0) | (program.b[first] != 0.0))
+
