@@ -8,11 +8,15 @@ Cases (references for the error columns, where there is one):
   slope    Tresca su = 40 kPa, gamma = 18, 26.6 deg slope 4 m high, setback 1 m (no closed form)
 
 Columns: triangles (lower/upper), lower, upper, gap %, wall s, solve share of
-wall, peak MB of the process (each row in a fresh process), and per case the
-exponent k of wall ~ elements^k fitted over the uniform rows.
+wall (the wall time during which a solve ran), peak MB of the process (each row
+in a fresh process), and per case the exponent k of wall ~ elements^k fitted
+over the uniform rows. The two bounds solve at once on two cores when the
+machine has them (analysis.run_bounds); --serial solves them one after the
+other, as before.
 
     python benchmarks/cases.py                     # sizes 2500 5000 10000
     python benchmarks/cases.py --sizes 5000 20000 80000
+    python benchmarks/cases.py --cases prandtl --serial
 """
 from __future__ import annotations
 
@@ -48,20 +52,21 @@ def make_case(name: str, elements: int, target_gap: float | None):
     raise ValueError(name)
 
 
-def one(name: str, elements: int, adaptive: bool) -> dict:
+def one(name: str, elements: int, adaptive: bool, serial: bool = False) -> dict:
     from solver.analysis import analyse
     case, reference = make_case(name, elements, 0.0025 if adaptive else None)
-    r = analyse(case)
+    r = analyse(case, parallel=False if serial else None)
     t = r.timing
     return {"elements": [r.lower.elements, r.upper.elements], "lower": r.lower.pressure_kPa,
             "upper": r.upper.pressure_kPa, "gap": r.gap_percent, "wall": t["total_s"],
-            "solve_share": t["solve_s"] / t["total_s"], "reference": reference,
+            "solve_share": t["solve_wall_s"] / t["total_s"], "reference": reference,
             "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0,
             "steps": len(r.adapt_history or [])}
 
 
-def child(name: str, elements: int, adaptive: bool) -> dict:
-    args = [sys.executable, __file__, "--one", name, str(elements)] + (["--adaptive"] if adaptive else [])
+def child(name: str, elements: int, adaptive: bool, serial: bool) -> dict:
+    args = [sys.executable, __file__, "--one", name, str(elements)] + (["--adaptive"] if adaptive else []) \
+        + (["--serial"] if serial else [])
     out = subprocess.run(args, capture_output=True, text=True, check=True)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
@@ -72,17 +77,18 @@ def main() -> None:
     parser.add_argument("--cases", nargs="*", default=["prandtl", "ngamma", "clays", "slope"])
     parser.add_argument("--one", nargs=2)
     parser.add_argument("--adaptive", action="store_true")
+    parser.add_argument("--serial", action="store_true", help="one bound after the other, one core")
     args = parser.parse_args()
     if args.one:
-        print(json.dumps(one(args.one[0], int(args.one[1]), args.adaptive)))
+        print(json.dumps(one(args.one[0], int(args.one[1]), args.adaptive, args.serial)))
         return
     fmt = lambda v, s: "-" if v is None else format(v, s)
     print(f"{'case':8s} {'run':>9s} {'triangles':>13s} {'lower':>9s} {'upper':>9s} {'gap %':>6s} "
           f"{'wall s':>7s} {'solve':>6s} {'peak MB':>7s}  reference")
     for name in args.cases:
         walls, counts = [], []
-        rows = [(f"{n}", child(name, n, False)) for n in args.sizes]
-        rows.append((f"adapt{args.sizes[0]}", child(name, args.sizes[0], True)))
+        rows = [(f"{n}", child(name, n, False, args.serial)) for n in args.sizes]
+        rows.append((f"adapt{args.sizes[0]}", child(name, args.sizes[0], True, args.serial)))
         for label, r in rows:
             if not label.startswith("adapt"):
                 walls.append(r["wall"]), counts.append(sum(r["elements"]) / 2)

@@ -43,7 +43,7 @@ import time
 
 import numpy as np
 
-from .analysis import run_bound
+from .analysis import run_bounds
 from .mesh import SizeHint, fan_reach, graded_size
 from .model import Case
 
@@ -92,8 +92,12 @@ def _plastic_zone_hint(mesh, plastic: np.ndarray) -> SizeHint:
 
 
 def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, settings,
-                 progress: bool = False):
+                 progress: bool = False, parallel: bool = False):
     """Solve, refine and solve again until the target gap, max_steps or time_limit_s.
+
+    ``parallel``: the bounds of a step solve at once (analysis.run_bounds), and a step
+    that refines one bound refines the other too, as far as it can without outlasting
+    the first (the second core would idle otherwise).
 
     Returns (best lower BoundResult, best upper BoundResult, history rows, timing).
     """
@@ -106,14 +110,17 @@ def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, s
     current: dict = {}
     best: dict = {}
     history: list[dict] = []
-    timing = {"mesh_s": 0.0, "assemble_s": 0.0, "solve_s": 0.0, "certify_s": 0.0}
+    timing = {"mesh_s": 0.0, "assemble_s": 0.0, "solve_s": 0.0, "certify_s": 0.0, "solve_wall_s": 0.0}
     refine = list(kinds)
     refined_before: set = set()
     bar = _progress(case.analysis.max_steps) if progress else None
     for step in range(case.analysis.max_steps):
+        done, solve_wall = run_bounds(case, [(k, count[k], hint[k]) for k in refine], backend, domain,
+                                      settings, parallel)
+        timing["solve_wall_s"] += solve_wall
         for kind in refine:
-            bound = run_bound(case, kind, count[kind], backend, domain, settings, size_hint=hint[kind])
-            for key in timing:
+            bound = done[kind]
+            for key in bound.timing:
                 timing[key] += bound.timing[key]
             previous = current.get(kind)
             current[kind] = bound
@@ -157,6 +164,15 @@ def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, s
         if not refine:
             history[-1]["stopped"] = "time limit"
             break
+        if parallel:  # the other bound on the other core, predicted to end no later
+            first = refine[0]
+            window = sum(current[first].timing.values()) * growth[first] ** TIME_EXPONENT
+            for k in kinds:
+                if k != first and current[k].pressure_kPa is not None:
+                    growth[k] = min(GROWTH_MAX, (window / max(sum(current[k].timing.values()), 1e-9))
+                                    ** (1.0 / TIME_EXPONENT))
+                    if growth[k] >= GROWTH_MIN:
+                        refine.append(k)
         refined_before.update(refine)
         for kind in refine:
             if current[kind].pressure_kPa is None:

@@ -4,6 +4,8 @@ lower bound, second order for the upper)."""
 from __future__ import annotations
 
 import math
+import os
+import threading
 import time
 
 import numpy as np
@@ -31,8 +33,12 @@ CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velo
 
 def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
             backend: str | None = None, solver_settings: dict | None = None,
-            progress: bool = False) -> Result:
-    """Run the bounds the case asks for and return the certified Result."""
+            progress: bool = False, parallel: bool | None = None) -> Result:
+    """Run the bounds the case asks for and return the certified Result.
+
+    ``parallel``: solve the two bounds at once, one per core (:func:`run_bounds`);
+    default: when this process may use two cores or more."""
+    parallel = two_cores_free() if parallel is None else parallel
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
     elements = elements or case.analysis.elements
@@ -41,16 +47,17 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     lower = upper = None
     history = None
     if case.analysis.target_gap is not None:
-        from .adapt import refine_until  # adaptive refinement wraps run_bound
+        from .adapt import refine_until  # adaptive refinement wraps run_bounds
         lower, upper, history, timing = refine_until(case, bounds, elements, backend, domain, solver_settings,
-                                                     progress=progress)
+                                                     progress=progress, parallel=parallel)
     else:
-        if bounds in ("lower", "both"):
-            lower = run_bound(case, "lower", elements, backend, domain, solver_settings)
-        if bounds in ("upper", "both"):
-            upper = run_bound(case, "upper", elements, backend, domain, solver_settings)
+        kinds = [k for k in ("lower", "upper") if bounds in (k, "both")]
+        done, solve_wall = run_bounds(case, [(k, elements, None) for k in kinds], backend, domain,
+                                      solver_settings, parallel)
+        lower, upper = done.get("lower"), done.get("upper")
         timing = {key: sum(b.timing[key] for b in (lower, upper) if b) for key in
                   ("mesh_s", "assemble_s", "solve_s", "certify_s")}
+        timing["solve_wall_s"] = solve_wall
     timing["total_s"] = time.perf_counter() - start
     notes = []
     if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
@@ -94,21 +101,87 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     return result
 
 
+def two_cores_free() -> bool:
+    """Whether this process may run on two cores or more (its CPU affinity)."""
+    try:
+        return len(os.sched_getaffinity(0)) >= 2
+    except AttributeError:  # no affinity call on this platform
+        return (os.cpu_count() or 1) >= 2
+
+
+class _Solve(threading.Thread):
+    """One conic solve, on a thread of its own or on the caller's (:meth:`run`).
+    Clarabel releases the GIL while it works, so two of these use two cores."""
+
+    def __init__(self, program, backend: str, settings) -> None:
+        super().__init__(name="bearbound-bound", daemon=True)  # daemon: a Ctrl-C need not wait for it
+        self.program, self.backend, self.settings = program, backend, settings
+        self.solution = self.error = None
+        self.started_at = self.ended_at = 0.0
+
+    def run(self) -> None:
+        self.started_at = time.perf_counter()
+        try:
+            self.solution = solve(self.program, self.backend, settings=self.settings)
+        except BaseException as error:  # raised again on the caller's thread by result()
+            self.error = error
+        self.ended_at = time.perf_counter()
+
+    def result(self):
+        if self.is_alive() or self.ident is not None:
+            self.join()
+        if self.error is not None:
+            raise self.error
+        return self.solution
+
+
+def run_bounds(case: Case, requests: list, backend: str, domain, settings, parallel: bool
+               ) -> tuple[dict[str, BoundResult], float]:
+    """Run bounds given as (kind, elements, size_hint); returns them by kind and the
+    wall time (s) during which at least one of them was solving.
+
+    With ``parallel`` each solve starts on a thread of its own as soon as its program is
+    assembled, and the next bound is meshed meanwhile (gmsh stays on the calling thread:
+    its state is global), so the two bounds' solves share two cores. The results are the
+    same as one after the other (tests/test_bounds.py): each solve is deterministic and
+    shares nothing with the other."""
+    jobs = []
+    for kind, elements, size_hint in requests:
+        t0 = time.perf_counter()
+        mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
+                          size_hint=size_hint)
+        if kind == "upper" and uses_velocity_jumps(case):
+            mesh = open_velocity_jumps(mesh)
+        t1 = time.perf_counter()
+        program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
+        t2 = time.perf_counter()
+        job = _Solve(program, backend, settings)
+        job.start() if parallel and len(requests) > 1 else job.run()
+        jobs.append((kind, mesh, program, job, {"mesh_s": t1 - t0, "assemble_s": t2 - t1}))
+    done = {}
+    for kind, mesh, program, job, timing in jobs:
+        solution = job.result()
+        timing["solve_s"] = job.ended_at - job.started_at
+        done[kind] = _certified_bound(case, kind, mesh, program, solution, timing)
+    spans = sorted((job.started_at, job.ended_at) for _, _, _, job, _ in jobs)
+    wall, reach = 0.0, -math.inf
+    for begin, end in spans:  # length of the union of the solve intervals
+        wall += max(0.0, end - max(begin, reach))
+        reach = max(reach, end)
+    return done, wall
+
+
 def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings,
               size_hint=None) -> BoundResult:
     """Mesh, assemble, solve and certify one bound ("lower" or "upper")."""
-    t0 = time.perf_counter()
-    mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
-                      size_hint=size_hint)
-    if kind == "upper" and uses_velocity_jumps(case):
-        mesh = open_velocity_jumps(mesh)
-    t1 = time.perf_counter()
-    program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
-    t2 = time.perf_counter()
-    solution = solve(program, backend, settings=settings)
+    return run_bounds(case, [(kind, elements, size_hint)], backend, domain, settings, parallel=False)[0][kind]
+
+
+def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict) -> BoundResult:
+    """Certify a solved bound and package it (fields, load components, timings)."""
     t3 = time.perf_counter()
     certificate = (certify_lower if kind == "lower" else certify_upper)(case, mesh, program, solution)
-    t4 = time.perf_counter()
+    timing["certify_s"] = time.perf_counter() - t3
     load = certificate.get("load_kN_per_m") if certificate["passed"] else None
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
     if load is not None and load <= 0.0:
@@ -129,7 +202,7 @@ def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settin
         load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
-        timing={"mesh_s": t1 - t0, "assemble_s": t2 - t1, "solve_s": t3 - t2, "certify_s": t4 - t3},
+        timing=timing,
         method=LOWER_METHOD if kind == "lower" else UPPER_METHOD + (UPPER_JUMPS if mesh.jumps is not None else ""),
         extra=extra, mesh=mesh, fields=fields)
 

@@ -461,7 +461,7 @@ def solve_point(case_dict: dict, name: str = "point") -> dict:
         case = parse_case(case_dict, name=name)
         from .analysis import analyse  # late: checking a sweep file needs no gmsh or solver
 
-        result = analyse(case)
+        result = analyse(case, parallel=False)  # the sweep's workers are its parallelism: one core each
     except CaseError as error:  # a case the engine refuses (a key it does not solve yet)
         record["reason"] = str(error)
     except Exception as error:  # solver or mesh trouble: recorded, the sweep goes on

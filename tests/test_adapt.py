@@ -94,3 +94,15 @@ def test_the_next_mesh_keeps_the_grading_in_the_plastic_zone_and_coarsens_the_ri
     inside = lambda m: (np.hypot(m.points[m.triangles[:, :3]].mean(axis=1)[:, 0] - 0.5,
                                  m.points[m.triangles[:, :3]].mean(axis=1)[:, 1]) < 0.5).sum()
     assert inside(adapted) > 1.3 * inside(mesh)  # the elements moved to the plastic zone
+
+
+def test_on_two_cores_a_step_refines_the_other_bound_too():
+    """With the bounds solved at once, the step that refines the weaker bound refines the
+    other too (it would leave a core idle otherwise); one after the other, only one."""
+    together = analyse(prandtl(target_gap=1e-4, max_steps=2), parallel=True).adapt_history
+    in_turn = analyse(prandtl(target_gap=1e-4, max_steps=2), parallel=False).adapt_history
+    assert together[0]["refined"] == in_turn[0]["refined"] == ["lower", "upper"]
+    assert together[1]["refined"] == ["upper", "lower"]
+    assert together[1]["elements_lower"] > together[0]["elements_lower"]
+    assert in_turn[1]["refined"] == ["upper"]
+    assert in_turn[1]["elements_lower"] == in_turn[0]["elements_lower"]

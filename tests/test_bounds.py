@@ -283,3 +283,13 @@ def test_no_yield_cone_without_interior() -> None:
     row_nnz = np.diff(program.A.tocsr().indptr)[first]
     assert np.all((row_nnz > 0) | (program.b[first] != 0.0))
 
+
+def test_bounds_solved_at_once_equal_bounds_solved_in_turn(prandtl_rough: Result) -> None:
+    """The two solves on two threads (analysis.run_bounds) give exactly what one after the
+    other gives: same bounds, same iterations (nothing shared, each solve deterministic)."""
+    serial = analyse(tresca_case(), elements=1000, parallel=False)
+    together = analyse(tresca_case(), elements=1000, parallel=True)
+    for kind in ("lower", "upper"):
+        a, b = getattr(serial, kind), getattr(together, kind)
+        assert (a.pressure_kPa, a.iterations) == (b.pressure_kPa, b.iterations)
+    assert together.timing["solve_wall_s"] <= together.timing["total_s"]

@@ -111,7 +111,7 @@ def test_a_bad_combination_is_kept_as_a_failed_point():
 
 
 def test_solve_point_records_solver_trouble(monkeypatch):
-    def broken(case):
+    def broken(case, **options):
         raise RuntimeError("factorisation failed\non two lines")
 
     monkeypatch.setattr("solver.analysis.analyse", broken)
