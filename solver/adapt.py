@@ -32,6 +32,10 @@ the sum of the two. Each refined bound grows by as much as the time left
 allows (at most GROWTH_MAX), predicted from its last solve; no step starts
 that would end after the time limit.
 
+On two cores (analysis.run_bounds) a step that refines one bound refines the
+other as well, by as much as its predicted solve fits in the first one's: the
+other core would idle otherwise.
+
 Every bound at every step is solved and certified as usual, so every value is
 rigorous; the bracket reported is the best certified lower and upper bound
 of all steps, each with the step it came from, and adapt_history lists every

@@ -128,7 +128,8 @@ def _run(args) -> int:
 
             result.factor_of_safety = factor_of_safety(
                 case, result, elements=args.elements, backend=args.backend,
-                progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True))
+                progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True),
+                parallel=False if args.serial else None)
         return result
 
     result = _solve_interruptibly(solve_case, out_dir)

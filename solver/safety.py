@@ -26,6 +26,7 @@ never used: the search with that bound stops there and says so.
 from __future__ import annotations
 
 import math
+import threading
 import time
 from dataclasses import replace
 from typing import Any, Callable
@@ -220,7 +221,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
 
 def factor_of_safety(case: Case, result, *, elements: int | None = None, backend: str | None = None,
                      tolerance: float = STRENGTH_TOLERANCE,
-                     progress: Callable[[str], None] | None = None, solve: Solver | None = None) -> dict | None:
+                     progress: Callable[[str], None] | None = None, solve: Solver | None = None,
+                     parallel: bool | None = None) -> dict | None:
     """Load factor, strength-reduction factor and partial-factor check for a finished Result.
 
     Parameters
@@ -237,6 +239,10 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     solve : callable, optional
         ``solve(case, kind) -> BoundResult``; default: :func:`solver.analysis.analyse`
         with that bound alone.
+    parallel : bool, optional
+        Search with the two bounds at once, one thread each (their solves share the
+        cores; meshing takes turns); default: when two cores are free. The values
+        are the same either way: the two searches share nothing.
 
     Returns
     -------
@@ -263,11 +269,18 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
                     "method": "each bound separately: estimates aimed at the root (the load factor, then "
                               "secants in log F and log load), then bisection on F to the tolerance; "
                               "the values are F actually solved and certified", "evaluations": {}, "notes": []}
-        for kind, bound, load in (("lower", result.lower, lo1), ("upper", result.upper, up1)):
-            if bound is None:
+        asked = [(k, load) for k, bound, load in (("lower", result.lower, lo1), ("upper", result.upper, up1))
+                 if bound is not None]
+        if parallel is None:
+            from .analysis import two_cores_free
+            parallel = two_cores_free()
+        found_by_kind = _run_each(lambda k, load: search_strength(k, case, design_load, load, solve, tolerance,
+                                                                  progress), asked, parallel and len(asked) > 1)
+        for kind in ("lower", "upper"):
+            if kind not in found_by_kind:
                 strength["notes"].append(f"the {kind} bound was not asked for")
                 continue
-            found = search_strength(kind, case, design_load, load, solve, tolerance, progress)
+            found = found_by_kind[kind]
             strength[kind] = found["value"]
             strength["solves"] += found["solves"]
             strength["evaluations"][kind] = found["evaluations"]
@@ -278,6 +291,29 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     if case.factors is not None:
         out["partial_factors"] = partial_factor_check(case, result, design_load, solve)
     out["wall_s"] = time.perf_counter() - start
+    return out
+
+
+def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
+    """``{kind: work(kind, load)}`` for each (kind, load) asked, on threads of their own
+    when ``parallel`` (daemons: a Ctrl-C need not wait); an error is raised again here."""
+    if not parallel:
+        return {kind: work(kind, load) for kind, load in asked}
+    out: dict = {}
+
+    def run(kind: str, load) -> None:
+        try:
+            out[kind] = work(kind, load)
+        except BaseException as error:  # raised again on the caller's thread below
+            out[kind] = error
+    threads = [threading.Thread(target=run, args=item, name=f"bearbound-{item[0]}", daemon=True) for item in asked]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    for kind, _ in asked:
+        if isinstance(out[kind], BaseException):
+            raise out[kind]
     return out
 
 

@@ -163,3 +163,16 @@ def test_partial_factors_check_covered_not_covered_and_undecided():
 def test_no_design_load_and_no_factors_gives_none():
     case = replace(clay_case(), footing=replace(clay_case().footing, design_load=None))
     assert factor_of_safety(case, SimpleNamespace(lower=None, upper=None)) is None
+
+
+def test_the_two_strength_searches_at_once_equal_them_in_turn():
+    """The lower- and upper-bound searches on two threads (meshing takes turns under the
+    gmsh lock) give exactly the serial values, solve by solve."""
+    case = clay_case()
+    result = analyse(case)
+    serial = factor_of_safety(case, result, parallel=False)["strength"]
+    together = factor_of_safety(case, result, parallel=True)["strength"]
+    for kind in ("lower", "upper"):
+        assert together[kind] == serial[kind]
+        assert together["evaluations"][kind] == serial["evaluations"][kind]
+    assert together["solves"] == serial["solves"]
