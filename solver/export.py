@@ -5,9 +5,12 @@ reported again without solving (:mod:`solver.report`).
 fields.vtu holds both bounds over one concatenated point array, as two cell
 blocks: linear triangles of the lower bound (each triangle with its own three
 points, so the stress may jump across every edge as the stress field does) and
-6-node triangles of the upper bound. The cell array ``bound`` is 0 on the
-lower-bound block and 1 on the upper-bound block (ParaView: Threshold on it);
-an array that belongs to one bound is NaN on the other's points and cells.
+6-node triangles of the upper bound, and, when the upper bound lets the
+velocity jump across edges, a third block of lines, one per jump (its two
+ends), carrying ``ub_jump_dissipation_kN_per_m``. The cell array ``bound`` is 0
+on the lower-bound block, 1 on the upper-bound block and 2 on the jump lines
+(ParaView: Threshold on it); an array that belongs to one block is NaN on the
+others' points and cells.
 Stresses are written compression positive, as the trade reads them.
 
 Every file is written to a temporary file in the same folder and renamed.
@@ -23,7 +26,7 @@ from pathlib import Path
 
 import numpy as np
 
-LOWER_BLOCK, UPPER_BLOCK = 0, 1
+LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
 PICTURE_NAMES = ("model", "mechanism", "stress")
 OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
@@ -40,7 +43,7 @@ class BoundFields:
     positive, ``utilisation`` (n_el, 3). Upper bound: ``velocity`` (n, 2) per unit
     footing velocity, ``dissipation`` (n_el,) kN/m^3 per unit footing velocity; with
     velocity jumps also ``jump_ends`` (n_jump, 2, 2) m and ``jump_dissipation`` (n_jump,)
-    kN/m per unit footing velocity (not kept in fields.vtu).
+    kN/m per unit footing velocity (each jump's whole dissipation).
     """
 
     kind: str
@@ -177,7 +180,8 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
     point_data = {name: [] for name in ("lb_sigma_x_kPa", "lb_sigma_y_kPa", "lb_tau_xy_kPa",
                                         "lb_sigma_1_kPa", "lb_sigma_3_kPa", "lb_utilisation",
                                         "ub_velocity", "ub_speed")}
-    cell_data = {name: [] for name in ("bound", "layer", "lb_utilisation_max", "ub_dissipation_kN_per_m3")}
+    cell_data = {name: [] for name in ("bound", "layer", "lb_utilisation_max", "ub_dissipation_kN_per_m3",
+                                       "ub_jump_dissipation_kN_per_m")}
     if lower is not None:
         n = lower.n_elements
         pts = lower.points[lower.triangles].reshape(-1, 2)  # each triangle its own points
@@ -195,6 +199,7 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
         cell_data["layer"].append(np.asarray(lower.layer))
         cell_data["lb_utilisation_max"].append(lower.arrays["utilisation"].max(axis=1))
         cell_data["ub_dissipation_kN_per_m3"].append(_nan(n))
+        cell_data["ub_jump_dissipation_kN_per_m"].append(_nan(n))
         offset += len(pts)
     if upper is not None:
         n, m = upper.n_elements, len(upper.points)
@@ -210,6 +215,20 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
         cell_data["layer"].append(np.asarray(upper.layer))
         cell_data["lb_utilisation_max"].append(_nan(n))
         cell_data["ub_dissipation_kN_per_m3"].append(np.asarray(upper.arrays["dissipation"]))
+        cell_data["ub_jump_dissipation_kN_per_m"].append(_nan(n))
+        offset += m
+        if "jump_ends" in upper.arrays:  # one line per velocity jump, two points of its own
+            ends = np.asarray(upper.arrays["jump_ends"]).reshape(-1, 2)
+            j = len(ends) // 2
+            parts.append(ends)
+            cells.append(("line", np.arange(2 * j).reshape(j, 2) + offset))
+            for name in point_data:
+                point_data[name].append(_nan((2 * j, 3) if name == "ub_velocity" else 2 * j))
+            cell_data["bound"].append(np.full(j, JUMP_BLOCK))
+            cell_data["layer"].append(np.full(j, -1))
+            cell_data["lb_utilisation_max"].append(_nan(j))
+            cell_data["ub_dissipation_kN_per_m3"].append(_nan(j))
+            cell_data["ub_jump_dissipation_kN_per_m"].append(np.asarray(upper.arrays["jump_dissipation"]))
     if not parts:
         return None
     points = np.vstack(parts)
@@ -244,7 +263,11 @@ def read_fields_vtu(path: Path) -> dict[str, BoundFields]:
 
     mesh = meshio.read(path)
     out = {}
+    jumps = None
     for index, block in enumerate(mesh.cells):
+        if block.type == "line" and "ub_jump_dissipation_kN_per_m" in mesh.cell_data:
+            jumps = (mesh.points[block.data][..., :2], np.asarray(mesh.cell_data["ub_jump_dissipation_kN_per_m"][index]))
+            continue
         kind = "lower" if block.type == "triangle" else "upper" if block.type == "triangle6" else None
         if kind is None:
             continue  # nothing else is written; a cell set from elsewhere is not ours
@@ -263,6 +286,8 @@ def read_fields_vtu(path: Path) -> dict[str, BoundFields]:
             arrays = {"velocity": mesh.point_data["ub_velocity"][rows, :2],
                       "dissipation": np.asarray(mesh.cell_data["ub_dissipation_kN_per_m3"][index])}
         out[kind] = BoundFields(kind, points, triangles, layer, arrays)
+    if jumps is not None and "upper" in out:
+        out["upper"].arrays["jump_ends"], out["upper"].arrays["jump_dissipation"] = jumps
     return out
 
 

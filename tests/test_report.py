@@ -310,3 +310,22 @@ def test_report_restates_slope_water_and_load_inputs_and_the_new_results(tmp_pat
     assert "M about the footing's centre" in bracket
     assert f"Pore pressure at the footing base: <strong>0.0{thin}kPa</strong> (the water table is at or " \
            "below the base)" in bracket
+
+
+def test_fields_vtu_keeps_the_velocity_jumps(tmp_path):
+    """With velocity jumps the lines and their dissipation go into fields.vtu and come
+    back (so `bearbound report` redraws the same mechanism picture)."""
+    import meshio
+
+    case = parse_case({"footing": {"width": 2.0}, "layers": [
+        {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}],
+        "analysis": {"elements": 400, "velocity_jumps": "all", "bounds": "upper"}})
+    live = bound_fields(analyse(case).upper)
+    assert len(live.arrays["jump_dissipation"]) > 0
+    path = write_fields_vtu(None, live, tmp_path)
+    mesh = meshio.read(path)
+    assert [block.type for block in mesh.cells] == ["triangle6", "line"]
+    assert [np.unique(a).tolist() for a in mesh.cell_data["bound"]] == [[1], [2]]
+    back = read_fields_vtu(path)["upper"]
+    for name in ("jump_ends", "jump_dissipation", "velocity", "dissipation"):
+        assert np.array_equal(back.arrays[name], live.arrays[name]), name
