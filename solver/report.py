@@ -555,7 +555,7 @@ def _statistics(d: dict, run: Run) -> str:
     extra = upper.get("extra") or {}
     timing = d.get("timing") or {}
     kv = [("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
-          ("of it spent solving (the two bounds at once when there are two cores)",
+          ("time with a solve running (the two bounds solve at once on two cores)",
            num(timing.get("solve_wall_s"), 2, "s")),
           ("half domain by symmetry", "yes" if dom.get("half_domain_by_symmetry") else "no"),
           ("meshed width", num(dom.get("width_m"), 2, "m")), ("meshed depth", num(dom.get("depth_m"), 2, "m"))]
