@@ -128,7 +128,7 @@ class _Solve(threading.Thread):
         self.ended_at = time.perf_counter()
 
     def result(self):
-        if self.is_alive() or self.ident is not None:
+        if self.ident is not None:  # started on a thread of its own
             self.join()
         if self.error is not None:
             raise self.error
@@ -169,12 +169,6 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
         wall += max(0.0, end - max(begin, reach))
         reach = max(reach, end)
     return done, wall
-
-
-def run_bound(case: Case, kind: str, elements: int, backend: str, domain, settings,
-              size_hint=None) -> BoundResult:
-    """Mesh, assemble, solve and certify one bound ("lower" or "upper")."""
-    return run_bounds(case, [(kind, elements, size_hint)], backend, domain, settings, parallel=False)[0][kind]
 
 
 def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict) -> BoundResult:

@@ -243,10 +243,25 @@ def files_under(folder: Path) -> list[Path]:
     return sorted(p for p in folder.rglob("*") if p.is_file())
 
 
+def _take_ctrl_c() -> None:
+    """In the child before exec: take SIGINT as a terminal would deliver it, even when
+    this test runs under a shell that ignores it (a background job: `make test &`)."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
+@pytest.fixture
+def ctrl_c_delivered():
+    """Python's own Ctrl-C handler in this process for the test (see _take_ctrl_c)."""
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
+    yield
+    signal.signal(signal.SIGINT, previous)
+
+
 def test_ctrl_c_while_solving_stops_at_once_and_writes_nothing(tmp_path: Path) -> None:
     case_file(tmp_path, "slow.toml", SLOW)
     run = subprocess.Popen([sys.executable, "-m", "solver.cli", "run", "slow.toml"], cwd=tmp_path,
-                           stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                           stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                           preexec_fn=_take_ctrl_c)
     time.sleep(2.5)  # past start-up, inside meshing or the first solve
     assert run.poll() is None, "the run ended before it could be interrupted"
     run.send_signal(signal.SIGINT)
@@ -262,7 +277,8 @@ def test_ctrl_c_while_solving_stops_at_once_and_writes_nothing(tmp_path: Path) -
 
 
 def test_ctrl_c_while_writing_finishes_every_output_first(
-        monkeypatch: pytest.MonkeyPatch, tmp_path: Path, capsys: pytest.CaptureFixture) -> None:
+        monkeypatch: pytest.MonkeyPatch, tmp_path: Path, capsys: pytest.CaptureFixture,
+        ctrl_c_delivered) -> None:
     # A Ctrl-C between two output files would leave this run's result.json beside an
     # earlier run's report: the outputs are finished first, then the run reports the interrupt.
     write_run_files = solver.report.write_run_files
