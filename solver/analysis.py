@@ -109,20 +109,22 @@ def two_cores_free() -> bool:
         return (os.cpu_count() or 1) >= 2
 
 
-class _Solve(threading.Thread):
-    """One conic solve, on a thread of its own or on the caller's (:meth:`run`).
-    Clarabel releases the GIL while it works, so two of these use two cores."""
+class Job(threading.Thread):
+    """One call, on a thread of its own (``start``) or on the caller's (``run``);
+    ``result()`` waits for it and raises its error, if any, on the caller's thread.
+    A daemon, so that a Ctrl-C never waits for it. Clarabel releases the GIL while it
+    solves, so two solves on two of these use two cores."""
 
-    def __init__(self, program, backend: str, settings) -> None:
-        super().__init__(name="bearbound-bound", daemon=True)  # daemon: a Ctrl-C need not wait for it
-        self.program, self.backend, self.settings = program, backend, settings
-        self.solution = self.error = None
+    def __init__(self, call, *args, **kwargs) -> None:
+        super().__init__(name="bearbound-job", daemon=True)
+        self.call, self.call_args, self.call_kwargs = call, args, kwargs
+        self.value = self.error = None
         self.started_at = self.ended_at = 0.0
 
     def run(self) -> None:
         self.started_at = time.perf_counter()
         try:
-            self.solution = solve(self.program, self.backend, settings=self.settings)
+            self.value = self.call(*self.call_args, **self.call_kwargs)
         except BaseException as error:  # raised again on the caller's thread by result()
             self.error = error
         self.ended_at = time.perf_counter()
@@ -132,7 +134,7 @@ class _Solve(threading.Thread):
             self.join()
         if self.error is not None:
             raise self.error
-        return self.solution
+        return self.value
 
 
 def run_bounds(case: Case, requests: list, backend: str, domain, settings, parallel: bool
@@ -155,7 +157,7 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
         t1 = time.perf_counter()
         program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
         t2 = time.perf_counter()
-        job = _Solve(program, backend, settings)
+        job = Job(solve, program, backend, settings=settings)
         job.start() if parallel and len(requests) > 1 else job.run()
         jobs.append((kind, mesh, program, job, {"mesh_s": t1 - t0, "assemble_s": t2 - t1}))
     done = {}

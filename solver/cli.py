@@ -157,24 +157,16 @@ def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
     a fine mesh). Clarabel and gmsh release the GIL while they work, so the main
     thread, waiting here, takes the Ctrl-C at once.
     """
-    outcome: dict[str, Any] = {}
+    from .analysis import Job
 
-    def target() -> None:
-        try:
-            outcome["value"] = work()
-        except BaseException as error:  # handed to the main thread below
-            outcome["error"] = error
-
-    thread = threading.Thread(target=target, name="bearbound-solve", daemon=True)
-    thread.start()
+    job = Job(work)
+    job.start()
     try:
-        while thread.is_alive():
-            thread.join(0.1)
+        while job.is_alive():
+            job.join(0.1)
     except KeyboardInterrupt:
         raise _SolveAbandoned(f"interrupted while solving; nothing was written to {out_dir}") from None
-    if "error" in outcome:
-        raise outcome["error"]
-    return outcome["value"]
+    return job.result()
 
 
 @contextlib.contextmanager

@@ -26,7 +26,6 @@ never used: the search with that bound stops there and says so.
 from __future__ import annotations
 
 import math
-import threading
 import time
 from dataclasses import replace
 from typing import Any, Callable
@@ -295,26 +294,14 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
 
 
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
-    """``{kind: work(kind, load)}`` for each (kind, load) asked, on threads of their own
-    when ``parallel`` (daemons: a Ctrl-C need not wait); an error is raised again here."""
-    if not parallel:
-        return {kind: work(kind, load) for kind, load in asked}
-    out: dict = {}
+    """``{kind: work(kind, load)}`` for each (kind, load) asked, each on a thread of its
+    own when ``parallel`` (analysis.Job)."""
+    from .analysis import Job
 
-    def run(kind: str, load) -> None:
-        try:
-            out[kind] = work(kind, load)
-        except BaseException as error:  # raised again on the caller's thread below
-            out[kind] = error
-    threads = [threading.Thread(target=run, args=item, name=f"bearbound-{item[0]}", daemon=True) for item in asked]
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join()
-    for kind, _ in asked:
-        if isinstance(out[kind], BaseException):
-            raise out[kind]
-    return out
+    jobs = {kind: Job(work, kind, load) for kind, load in asked}
+    for job in jobs.values():
+        job.start() if parallel else job.run()
+    return {kind: job.result() for kind, job in jobs.items()}
 
 
 def partial_factor_check(case: Case, result, design_load: float | None, solve: Solver) -> dict:
