@@ -338,33 +338,46 @@ def _safety(d: dict, case: Case) -> str:
     out = ["<h2>Factor of safety</h2>"]
     design = fos.get("design_load_kN_per_m")
     if design is not None:
-        load, strength = fos.get("load", {}), fos.get("strength", {})
+        # result.json of an earlier version named them "load" and "strength"
+        load = fos.get("on_load", fos.get("load")) or {}
+        strength = fos.get("on_strength", fos.get("strength")) or {}
         vertical = design * math.cos(math.radians(case.footing.load_inclination))
         slant = (f", along the load's line of action ({num(case.footing.load_inclination, 1, 'degrees')} from "
                  f"vertical); its vertical component is {num(vertical)} kN/m"
                  if case.footing.load_inclination else "")
         out.append(f"<p>Design load: <strong>{num(design)} kN/m</strong>{slant} "
                    f"({num(vertical / d['footing_width_m'])} kPa vertical pressure under the footing).</p>")
-        s_lo, s_up = strength.get("lower"), strength.get("upper")
-        beyond_lo = strength.get("lower_beyond_range")
-        lo_text = (("&ge; " if beyond_lo else "") + num(s_lo, 3)) if s_lo is not None else "&mdash;"
-        up_text = num(s_up, 3) if s_up is not None else "&mdash;"
-        out.append("<table><tr><th>factor</th><th>lower</th><th>upper</th><th>meaning</th></tr>"
-                   f"<tr><td>load factor</td><td class='n'>{num(load.get('lower'), 3)}</td>"
+        search = strength.get("search") or {}
+
+        def value(kind: str) -> str:
+            found = strength.get(kind)
+            if found is None:
+                return "not found" if search.get(kind) == "not found" else "&mdash;"
+            beyond = strength.get(f"{kind}_beyond_range")
+            mark = " (search incomplete)" if search.get(kind) == "incomplete" else ""
+            return ((beyond and esc(beyond).replace("&gt;=", "&ge; ").replace("&lt;=", "&le; ")) or "") + \
+                num(found, 3) + mark
+
+        out.append("<table><tr><th>factor of safety</th><th>lower</th><th>upper</th><th>meaning</th></tr>"
+                   f"<tr><td>on load</td><td class='n'>{num(load.get('lower'), 3)}</td>"
                    f"<td class='n'>{num(load.get('upper'), 3)}</td><td>collapse load / design load, "
                    "from the bracket</td></tr>"
-                   f"<tr><td>strength-reduction factor</td><td class='n'>{lo_text}</td>"
-                   f"<td class='n'>{up_text}</td><td>the factor by which c&prime; (or su) and "
+                   f"<tr><td>on strength (strength-reduction factor)</td><td class='n'>{value('lower')}</td>"
+                   f"<td class='n'>{value('upper')}</td><td>the factor by which c&prime; (or su) and "
                    "tan&nbsp;&phi;&prime; of every layer must be divided for the design load to cause "
                    f"collapse; searched to a relative tolerance of {esc(_percent(strength.get('tolerance')))} "
                    f"({num(strength.get('solves', 0))} extra solves)</td></tr></table>")
-        out.append('<p class="small">The strength factor\'s lower value is an F at which the certified lower '
-                   "bound still carries the design load (so the true F is at least that); its upper value is an "
-                   "F at which the certified upper bound falls to the design load or below (so the true F is at "
-                   "most that). Both are F values actually solved; a bound withheld at some F is never used.</p>")
+        out.append('<p class="small">The factor of safety on strength: its lower value is an F at which the '
+                   "certified lower bound still carries the design load (so the true F is at least that); its "
+                   "upper value is an F at which the certified upper bound falls to the design load or below (so "
+                   "the true F is at most that). Both are F values actually solved; a bound withheld at some F "
+                   "is never used, and a value the search did not prove is given as &ldquo;not found&rdquo; "
+                   "with the reason.</p>")
         notes = strength.get("notes") or []
         if notes:
             out.append("<ul>" + "".join(f"<li>{esc(n)}</li>" for n in notes) + "</ul>")
+        for check in fos.get("checks") or []:
+            out.append(f'<p class="verdict">{esc(check.get("verdict"))}</p>')
         evaluations = strength.get("evaluations") or {}
         if evaluations:
             rows = "".join(f"<tr><td>{esc(kind)}</td><td class='n'>{num(e.get('F'), 4)}</td>"
@@ -381,9 +394,9 @@ def _safety(d: dict, case: Case) -> str:
             ("on tan &phi;&prime; (friction)", num(f.get("friction"), 2)),
             ("on c&prime; (cohesion)", num(f.get("cohesion"), 2)),
             ("on su (undrained_strength)", num(f.get("undrained_strength"), 2)),
-            ("on the action (load)", num(f.get("load"), 2)),
+            ("partial factor on the action (load)", num(f.get("load"), 2)),
             ("on the resistance (resistance)", num(f.get("resistance"), 2)),
-            ("design action E<sub>d</sub> = load factor &times; design load", num(partial.get("action_kN_per_m"), 1, "kN/m")),
+            ("design action E<sub>d</sub> = partial factor on the action &times; design load", num(partial.get("action_kN_per_m"), 1, "kN/m")),
             ("collapse load with design strengths", f"{num(col.get('lower'))} to {num(col.get('upper'))} kN/m"),
             ("design resistance R<sub>d</sub> = that / resistance factor",
              f"{num(res.get('lower'))} to {num(res.get('upper'))} kN/m"),
@@ -471,7 +484,11 @@ def _inputs(case: Case, d: dict) -> str:
         ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
                                                                                "positive toward +x"),
         ("design load (along the load's line of action)",
-         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given")]))
+         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given"),
+        ("required factor of safety on load", num(f.required_factor_of_safety_on_load, 2)
+         if f.required_factor_of_safety_on_load is not None else "not given"),
+        ("required factor of safety on strength", num(f.required_factor_of_safety_on_strength, 2)
+         if f.required_factor_of_safety_on_strength is not None else "not given")]))
     ground = [("surcharge on the ground surface", num(g.surcharge, 2, "kPa")
                + (" (on the level ground at footing level only)" if g.slope_angle > 0 else "")),
               ("vertical stress at the base level beside the footing", num(case.overburden_kPa(), 2, "kPa"))]
@@ -515,7 +532,7 @@ def _inputs(case: Case, d: dict) -> str:
     if case.factors is not None:
         fa = case.factors
         meaning = {"friction": "divides tan &phi;&prime;", "cohesion": "divides c&prime;",
-                   "undrained_strength": "divides su", "load": "multiplies the design load",
+                   "undrained_strength": "divides su", "load": "the partial factor on the action: multiplies the design load",
                    "resistance": "divides the bearing resistance"}
         out.append(_kv("Partial factors (dimensionless)",
                        [(esc(k), f"{num(getattr(fa, k), 2)} ({meaning[k]})") for k in meaning]))

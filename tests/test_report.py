@@ -23,6 +23,8 @@ title = "=HYPERLINK(\\"http://example.invalid\\") <script>document.title='PWNED'
 width = 1.5
 embedment = 0.5
 design_load = 180.0
+required_factor_of_safety_on_load = 2.0
+required_factor_of_safety_on_strength = 1.3
 [ground]
 surcharge = 2.0
 [[layers]]
@@ -98,17 +100,19 @@ def test_run_writes_every_output_and_never_touches_the_case_file(hostile_run):
     assert (folder / "rail.toml").read_bytes() == before
     assert (out / "case.toml").read_bytes() == before  # a byte-for-byte copy
     assert not [p for p in out.iterdir() if p.name.startswith(".")]  # no temporary file left behind
-    assert "factor of safety" in done.stdout and "strength factor" in done.stdout
+    assert "factor of safety" in done.stdout and "on strength" in done.stdout and "VERDICT" in done.stdout
+    assert "load factor" not in done.stdout  # one word for one thing: the partial factor is "on the action"
 
 
 def test_factor_of_safety_in_result_json(hostile_run):
     _, out, _, _ = hostile_run
     fos = json.loads((out / "result.json").read_text())["factor_of_safety"]
     data = json.loads((out / "result.json").read_text())
-    assert fos["load"]["lower"] == pytest.approx(data["lower"]["load_kN_per_m"] / 180.0)
-    assert fos["load"]["upper"] == pytest.approx(data["upper"]["load_kN_per_m"] / 180.0)
-    strength = fos["strength"]
-    assert 1.0 < strength["lower"] <= strength["upper"] < fos["load"]["upper"]
+    assert fos["on_load"]["lower"] == pytest.approx(data["lower"]["load_kN_per_m"] / 180.0)
+    assert fos["on_load"]["upper"] == pytest.approx(data["upper"]["load_kN_per_m"] / 180.0)
+    strength = fos["on_strength"]
+    assert 1.0 < strength["lower"] <= strength["upper"] < fos["on_load"]["upper"]
+    assert fos["checks"][0]["check"] == "design load carried" and fos["checks"][0]["outcome"] == "met"
     assert isinstance(strength["solves"], int) and strength["solves"] >= 2
     partial = fos["partial_factors"]
     assert partial["action_kN_per_m"] == pytest.approx(180.0 * 1.35)
@@ -151,8 +155,15 @@ def test_summary_csv_is_one_row_and_never_a_formula(hostile_run):
     assert len(rows) == 1
     row = rows[0]
     data = json.loads((out / "result.json").read_text())
-    assert float(row["lower_kPa"]) == data["lower"]["pressure_kPa"]
-    assert float(row["strength_factor_upper"]) == data["factor_of_safety"]["strength"]["upper"]
+    assert float(row["lower_pressure_kPa"]) == data["lower"]["pressure_kPa"]
+    assert float(row["factor_of_safety_on_strength_upper"]) == data["factor_of_safety"]["on_strength"]["upper"]
+    # each column holds what its name says: the resultant along the load's line, and its vertical part
+    assert float(row["lower_resultant_load_kN_per_m"]) == data["lower"]["load_kN_per_m"]
+    assert float(row["lower_vertical_load_kN_per_m"]) == pytest.approx(data["lower"]["extra"]["vertical_kN_per_m"])
+    assert row["design_load_carried"] == "met"
+    assert float(row["required_factor_of_safety_on_load"]) == 2.0
+    assert row["required_factor_of_safety_on_load_met"] in ("met", "not met", "undecided")
+    assert row["required_factor_of_safety_on_strength_met"] in ("met", "not met", "undecided")
     assert row["title"].startswith("'=")  # quoted so that a spreadsheet shows it as text
 
 
@@ -296,7 +307,7 @@ def test_report_restates_slope_water_and_load_inputs_and_the_new_results(tmp_pat
                 f"pore pressure at the footing base</td><td>0.0{thin}kPa",
                 f"14.00{thin}degrees (Davis reduction)", f"18.00{thin}kN/m³; saturated 19.50{thin}kN/m³",
                 f"18.00{thin}kN/m³; saturated = unit weight", "<td>tresca</td>",
-                "cohesion</td><td>1.30 (divides c&prime;)", "load</td><td>1.35 (multiplies the design load)"):
+                "cohesion</td><td>1.30 (divides c&prime;)", "load</td><td>1.35 (the partial factor on the action: multiplies the design load)"):
         assert row in inputs, row
     # the results at collapse: V, H and M from each certified bound, and the pore pressure at the base
     bracket = page[page.index("The bracket"):page.index("Factor of safety")]
