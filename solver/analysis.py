@@ -16,6 +16,7 @@ from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
 from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
+from .plausible import input_warnings
 from .result import BoundResult, Result
 from .upper import upper_bound_program
 
@@ -91,7 +92,7 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                             "slope_crest_x_m": domain.crest_x, "slope_toe_x_m": domain.toe_x,
                             "slope_height_m": domain.slope_height},
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
-                    backend=backend, notes=notes)
+                    backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None

@@ -192,7 +192,8 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
 def format_summary(result, path: Path | None = None) -> str:
     """The bracket, each bound's standing, and the hand methods beside it."""
     B = result.footing_width_m
-    lines = [f"{result.title}", "  collapse pressure under the footing, kPa (compression positive)"]
+    lines = [f"{result.title}"] + [f"  WARNING: {w}" for w in getattr(result, "input_warnings", [])]
+    lines.append("  collapse pressure under the footing, kPa (compression positive)")
     for bound in (result.lower, result.upper):
         if bound is None:
             continue
@@ -249,7 +250,10 @@ def _hand(args) -> int:
     rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
              "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
             for h in hand_methods(case)]
-    print(f"{case.title}\n  hand methods, kPa (vertical component / B)")
+    from .plausible import input_warnings
+
+    print("\n".join([case.title] + [f"  WARNING: {w}" for w in input_warnings(case)]))
+    print("  hand methods, kPa (vertical component / B)")
     print("\n".join(_hand_lines(rows)))
     print(f"  Caution: {CAUTION}")
     return 0

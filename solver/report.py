@@ -228,6 +228,7 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         '<p class="sub">Strip footing: collapse load bracketed by finite-element limit analysis '
         "(rigorous lower and upper bounds)</p>",
         _caution(),
+        _warnings(d),
         _identity(d),
         _bracket(d, case),
         _safety(d, case),
@@ -251,6 +252,16 @@ def _caution(final: bool = False) -> str:
              " The inputs (strengths, unit weights, layer thicknesses) govern the answer more than the method "
              "does; the bounds bracket the collapse load of the idealised problem, not of the ground.")
     return f'<div class="caution"><strong>Caution.</strong> {esc(CAUTION)}{esc(extra)}</div>'
+
+
+def _warnings(d: dict) -> str:
+    """The plausibility warnings (solver.plausible): values allowed but unusual, near the top."""
+    warnings = d.get("input_warnings") or []
+    if not warnings:
+        return ""
+    return ('<div class="caution"><strong>Check these inputs.</strong> They are allowed, and the run used them '
+            "as given, but they are unusual for soils and footings:<ul>"
+            + "".join(f"<li>{esc(w)}</li>" for w in warnings) + "</ul></div>")
 
 
 def _identity(d: dict) -> str:

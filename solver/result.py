@@ -53,6 +53,7 @@ class Result:
     pore_pressure_at_base_kPa: float = 0.0  # pressures are effective; total adds this
     adapt_history: list[dict] | None = None  # adaptive refinement: one row per step
     notes: list[str] = field(default_factory=list)
+    input_warnings: list[str] = field(default_factory=list)  # values allowed but unusual (solver.plausible)
     hand_methods: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
     # case gives a design load or partial factors; written to result.json only then
@@ -81,6 +82,7 @@ class Result:
             "backend": self.backend,
             "pore_pressure_at_base_kPa": self.pore_pressure_at_base_kPa,
             "notes": self.notes,
+            "input_warnings": self.input_warnings,
             "caution": CAUTION,
         }
         if self.hand_methods:

@@ -202,6 +202,11 @@ def test_flags_skip_pictures_and_report_and_reruns_give_the_same_numbers(tmp_pat
     for side in ("lower", "upper"):
         assert a[side]["pressure_kPa"] == b[side]["pressure_kPa"]
     assert "factor_of_safety" not in a  # no design load, no factors
+    # a weightless soil is allowed (verification uses it) but unusual: warned, never blocking
+    assert any("layers[1].unit_weight = 0" in w for w in a["input_warnings"])
+    assert "WARNING: layers[1].unit_weight = 0" in first.stdout
+    page = (tmp_path / "b" / "report.html").read_text(encoding="utf-8")
+    assert "Check these inputs" in page and "layers[1].unit_weight = 0" in page
     assert (tmp_path / "a" / "fields.vtu").read_bytes() == (tmp_path / "b" / "fields.vtu").read_bytes()
 
 
