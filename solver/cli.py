@@ -223,10 +223,16 @@ def format_summary(result, path: Path | None = None) -> str:
     if result.hand_methods:
         lines.append("  hand methods, kPa (vertical component / B)")
         lines += _hand_lines(result.hand_methods)
+    if getattr(result, "hand_methods_as_given", None):
+        lines.append(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
+        lines += _hand_lines([r for r in result.hand_methods_as_given if r["pressure_kPa"] is not None])
     if path is not None:
         lines.append(f"  written: {path}")
     lines.append(f"  Caution: {CAUTION}")
     return "\n".join(lines)
+
+
+AS_GIVEN = "information only, not compared with the bracket (the bounds use the Davis-reduced strength)"
 
 
 def _hand_lines(rows: list[dict]) -> list[str]:
@@ -245,16 +251,20 @@ def _hand_lines(rows: list[dict]) -> list[str]:
 
 def _hand(args) -> int:
     case = load_case(args.case)
-    from .hand import hand_methods
-
-    rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
-             "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
-            for h in hand_methods(case)]
+    from .hand import hand_methods, uses_davis
     from .plausible import input_warnings
+
+    def rows(strength):
+        return [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
+                 "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
+                for h in hand_methods(case, strength) if strength == "as analysed" or h.pressure_kPa is not None]
 
     print("\n".join([case.title] + [f"  WARNING: {w}" for w in input_warnings(case)]))
     print("  hand methods, kPa (vertical component / B)")
-    print("\n".join(_hand_lines(rows)))
+    print("\n".join(_hand_lines(rows("as analysed"))))
+    if uses_davis(case):
+        print(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
+        print("\n".join(_hand_lines(rows("as given"))))
     print(f"  Caution: {CAUTION}")
     return 0
 

@@ -420,7 +420,8 @@ def _safety(d: dict, case: Case) -> str:
 
 def _hand(d: dict) -> str:
     """Methods that give a number in a table (unconservative ones flagged), the others grouped by
-    why they do not apply, and the sources as a numbered list."""
+    why they do not apply, and the sources as a numbered list. With a dilation angle, a second
+    table gives the methods on c', phi' as given, for information only (never flagged)."""
     rows = d.get("hand_methods") or []
     if not rows:
         return ""
@@ -433,30 +434,47 @@ def _hand(d: dict) -> str:
             sources.append(source)
         return f" <span class='small'>[{sources.index(source) + 1}]</span>"
 
-    body, not_applicable = [], {}
-    for r in rows:
-        if r.get("pressure_kPa") is None:
-            not_applicable.setdefault(str(r.get("note")), []).append(esc(r.get("method")) + ref(r.get("source")))
-            continue
-        where = str(r.get("where", ""))
-        flagged = "ABOVE THE UPPER BOUND" in where
-        tail = f'<span class="flagmark">&#9650; {esc(where)}</span>' if flagged else esc(where)
-        factors = ", ".join(f"{esc(k)} {esc(f'{v + 0.0:.3g}')}" for k, v in (r.get("factors") or {}).items()
-                            if isinstance(v, (int, float)) and not isinstance(v, bool))
-        note = f"<div class='small'>{esc(r.get('note'))}</div>" if r.get("note") else ""
-        row_class = ' class="flag"' if flagged else ""
-        body.append(f"<tr{row_class}><td>{esc(r.get('method'))}{ref(r.get('source'))}</td>"
-                    f"<td class='n'>{num(r.get('pressure_kPa'))}</td><td>{tail}{note}</td>"
-                    f"<td class='small'>{factors}</td></tr>")
+    def table(rows: list[dict], compared: bool) -> tuple[list[str], dict]:
+        body, not_applicable = [], {}
+        for r in rows:
+            if r.get("pressure_kPa") is None:
+                not_applicable.setdefault(str(r.get("note")), []).append(esc(r.get("method")) + ref(r.get("source")))
+                continue
+            where = str(r.get("where", ""))
+            flagged = compared and "ABOVE THE UPPER BOUND" in where
+            tail = f'<span class="flagmark">&#9650; {esc(where)}</span>' if flagged else esc(where)
+            factors = ", ".join(f"{esc(k)} {esc(f'{v + 0.0:.3g}')}" for k, v in (r.get("factors") or {}).items()
+                                if isinstance(v, (int, float)) and not isinstance(v, bool))
+            note = f"<div class='small'>{esc(r.get('note'))}</div>" if r.get("note") else ""
+            row_class = ' class="flag"' if flagged else ""
+            body.append(f"<tr{row_class}><td>{esc(r.get('method'))}{ref(r.get('source'))}</td>"
+                        f"<td class='n'>{num(r.get('pressure_kPa'))}</td><td>{tail}{note}</td>"
+                        f"<td class='small'>{factors}</td></tr>")
+        return body, not_applicable
+
+    head = "<tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr>"
+    body, not_applicable = table(rows, compared=True)
     out = ["<h2>Hand methods beside the bracket</h2>",
-           "<p>Classical closed-form estimates for a vertical central load. A row marked &#9650; lies above "
-           "the upper bound: that method is <strong>unconservative</strong> for this case.</p>"]
+           "<p>Classical closed-form estimates of the same quantity as the bracket (the vertical component of "
+           "the collapse load over B), under the case's load and ground, each where its method applies. A row "
+           "marked &#9650; lies above the upper bound: that method is <strong>unconservative</strong> for this "
+           "case.</p>"]
+    if d.get("hand_methods_as_given"):
+        out.append("<p>A layer has a dilation angle, so the bounds use the Davis (1968) reduced strength "
+                   "c*, &phi;*; the estimates in this table use the same c*, &phi;*, so that they compare with "
+                   "the bracket like with like. The same methods on c&prime;, &phi;&prime; as given follow "
+                   "below, for information only.</p>")
     if body:
-        out.append("<table><tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr>"
-                   + "".join(body) + "</table>")
+        out.append("<table>" + head + "".join(body) + "</table>")
     if not_applicable:
         out.append("<h3>Not applicable to this case</h3><ul>" + "".join(
             f"<li>{', '.join(methods)}: {esc(note)}</li>" for note, methods in not_applicable.items()) + "</ul>")
+    given, _ = table([r for r in d.get("hand_methods_as_given") or [] if r.get("pressure_kPa") is not None],
+                     compared=False)
+    if given:
+        out.append("<h3>On c&prime;, &phi;&prime; as given (information only)</h3><p class='small'>Not compared "
+                   "with the bracket and never flagged: the bounds use the Davis-reduced strength, these "
+                   "estimates the full one.</p><table>" + head + "".join(given) + "</table>")
     out.append("<h3>Sources of the hand methods</h3><ol class='small'>"
                + "".join(f"<li>{esc(source)}</li>" for source in sources) + "</ol>")
     return "\n".join(out)

@@ -54,7 +54,9 @@ class Result:
     adapt_history: list[dict] | None = None  # adaptive refinement: one row per step
     notes: list[str] = field(default_factory=list)
     input_warnings: list[str] = field(default_factory=list)  # values allowed but unusual (solver.plausible)
-    hand_methods: list[dict] = field(default_factory=list)
+    hand_methods: list[dict] = field(default_factory=list)  # on the strength the bounds use, compared
+    # with a dilation angle: the same methods on c', phi' as given, information only (not compared)
+    hand_methods_as_given: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
     # case gives a design load or partial factors; written to result.json only then
     factor_of_safety: dict | None = None
@@ -87,6 +89,8 @@ class Result:
         }
         if self.hand_methods:
             data["hand_methods"] = self.hand_methods
+        if self.hand_methods_as_given:
+            data["hand_methods_as_given"] = self.hand_methods_as_given
         if self.adapt_history is not None:
             data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:

@@ -29,7 +29,7 @@ required_factor_of_safety_on_strength = 1.3
 surcharge = 2.0
 [[layers]]
 name = "<img src=x onerror=alert(1)> gravel"
-thickness = 1.5
+thickness = 2.0
 model = "mohr-coulomb"
 cohesion = 2.0
 friction_angle = 33.0
@@ -137,6 +137,7 @@ def test_report_escapes_case_text_and_loads_nothing(hostile_run):
     data = json.loads((out / "result.json").read_text())
     assert data["case"]["sha256"] in page and data["software"]["version"] in page
     assert "@media print" in page
+    assert "from memory" not in page  # a value only recalled is not in a filed report
 
 
 def test_report_flags_unconservative_hand_methods(hostile_run):
