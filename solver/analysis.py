@@ -17,7 +17,7 @@ from .lower import lower_bound_program
 from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .plausible import input_warnings
-from .result import BoundResult, Result
+from .result import MOVING_SPEED_FRACTION, BoundResult, Result
 from .upper import upper_bound_program
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
@@ -225,10 +225,11 @@ def _slope_unstable(lower: BoundResult | None, upper: BoundResult | None) -> boo
 
 
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
-    """Where the soil moves: extent of nodes moving faster than CLEAR_FRACTION of the footing,
-    and whether any node next to the fixed far boundary does."""
+    """Where the soil moves: extent of nodes moving faster than MOVING_SPEED_FRACTION of the
+    footing (the pictures' frame and arrows use the same), and whether any node next to the
+    fixed far boundary moves faster than the much smaller CLEAR_FRACTION."""
     speed = np.hypot(velocity[:, 0], velocity[:, 1])
-    moving = speed > CLEAR_FRACTION
+    moving = speed > MOVING_SPEED_FRACTION
     far_nodes = np.unique(mesh.boundary_edges[np.isin(mesh.boundary_kind, (FAR_SIDE, FAR_BASE))])
     near_far = np.zeros(len(mesh.points), dtype=bool)
     # nodes of elements touching the far boundary
@@ -242,7 +243,8 @@ def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
     x_hi = float(mesh.points[moving, 0].max()) if moving.any() else 0.0
     if mesh.domain.half:
         x_lo = -x_hi
-    return {"mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
+    return {"mechanism_speed_fraction": MOVING_SPEED_FRACTION,
+            "mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
             "mechanism_x_min_m": x_lo, "mechanism_x_max_m": x_hi,
             "mechanism_width_m": x_hi - x_lo, "mechanism_width_over_B": (x_hi - x_lo) / B,
             "mechanism_half_width_m": half_width, "mechanism_half_width_over_B": half_width / B,

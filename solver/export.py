@@ -28,7 +28,7 @@ import numpy as np
 
 LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
-PICTURE_NAMES = ("model", "mechanism", "stress")
+PICTURE_NAMES = ("model", "mechanism", "stress", "contact")
 OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
     f"{name}.{ext}" for name in PICTURE_NAMES for ext in ("png", "svg"))  # the case file must be none of these
 

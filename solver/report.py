@@ -483,8 +483,10 @@ def _hand(d: dict) -> str:
 FIGURE_CAPTIONS = {
     "model": ("The model: ground profile (with the crest and toe of a slope), layers with their parameters, "
               "water table, footing with its load, and mesh."),
-    "mechanism": "Upper bound: the collapse mechanism (plastic dissipation, velocities, extent).",
+    "mechanism": "Upper bound: the collapse mechanism (shear strain rate, velocities, extent).",
     "stress": "Lower bound: the stress field (yield utilisation, principal stress directions in the plastic zone).",
+    "contact": ("Lower bound: the normal and shear stresses along the footing base, from its stress field (one "
+                "admissible distribution at collapse, not the working contact pressure)."),
 }
 
 
@@ -492,7 +494,7 @@ def _pictures(run: Run, images: dict[str, bytes]) -> str:
     if not images:
         return ""
     out = ['<h2 class="pagebreak">Pictures</h2>']
-    for name in ("model", "mechanism", "stress"):
+    for name in ("model", "mechanism", "stress", "contact"):
         if name not in images:
             continue
         data = base64.b64encode(images[name]).decode("ascii")
@@ -617,9 +619,16 @@ def _statistics(d: dict, run: Run) -> str:
         else:
             reach = extra.get("mechanism_half_width_m", 0.0)
             width = f"reaches {num(reach, 2, 'm')} ({num(reach / B, 2)} B) from the footing's centre"
-        kv += [("upper-bound mechanism depth", f"{num(extra.get('mechanism_depth_m'), 2, 'm')} "
-                                               f"({num(extra.get('mechanism_depth_over_B'), 2)} B)"),
-               ("upper-bound mechanism width", width),
+        from .pictures import MOVING_SPEED
+
+        fraction = extra.get("mechanism_speed_fraction")
+        moving = (f" (the soil moving faster than {esc(f'{MOVING_SPEED:.0%}')} of the footing, as framed in the "
+                  "mechanism picture)")
+        depth = f"{num(extra.get('mechanism_depth_m'), 2, 'm')} ({num(extra.get('mechanism_depth_over_B'), 2)} B)"
+        if fraction != MOVING_SPEED:  # result.json of an earlier version measured at another speed
+            depth = f"{num(extent[2], 2, 'm')} ({num(extent[2] / B, 2)} B)" if extent is not None else "&mdash;"
+        kv += [("upper-bound mechanism depth" + moving, depth),
+               ("upper-bound mechanism width" + moving, width),
                ("mechanism clear of the far boundary", "yes" if extra.get("mechanism_clear_of_boundary") else "NO")]
     out.append(_kv(None, kv))
     return "\n".join(out)

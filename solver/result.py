@@ -14,6 +14,10 @@ from pathlib import Path
 
 from . import __version__
 
+# The soil counts as moving faster than this fraction of the footing's velocity along the load: the
+# mechanism's stated extent (result.json) and its frame and arrows in the pictures use the same value.
+MOVING_SPEED_FRACTION = 0.05
+
 CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
            "perfect plasticity with associated flow, plane strain and the soil model given; "
            "local codes and licensed practice govern.")

@@ -96,7 +96,8 @@ def test_run_writes_every_output_and_never_touches_the_case_file(hostile_run):
     folder, out, before, done = hostile_run
     names = {p.name for p in out.iterdir()}
     assert names == {"result.json", "case.toml", "fields.vtu", "summary.csv", "report.html",
-                     "model.png", "model.svg", "mechanism.png", "mechanism.svg", "stress.png", "stress.svg"}
+                     "model.png", "model.svg", "mechanism.png", "mechanism.svg", "stress.png", "stress.svg",
+                     "contact.png", "contact.svg"}
     assert (folder / "rail.toml").read_bytes() == before
     assert (out / "case.toml").read_bytes() == before  # a byte-for-byte copy
     assert not [p for p in out.iterdir() if p.name.startswith(".")]  # no temporary file left behind
