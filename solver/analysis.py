@@ -12,7 +12,7 @@ import numpy as np
 
 from .certify import certify_lower, certify_upper, lower_stress_field, upper_velocity_field
 from .conic import solve
-from .hand import hand_methods, uses_davis, where_it_falls
+from .hand import hand_methods, information_only, where_it_falls
 from .lower import lower_bound_program
 from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
@@ -97,9 +97,8 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None
     result.hand_methods = [_hand_row(h, where_it_falls(h.pressure_kPa, lo, up)) for h in hand_methods(case)]
-    if uses_davis(case):  # compared like with like above; the strength as typed, for information only
-        result.hand_methods_as_given = [_hand_row(h, "information only" if h.pressure_kPa is not None else "")
-                                        for h in hand_methods(case, "as given")]
+    # compared like with like above; the strength as typed, for information only
+    result.hand_methods_as_given = [_hand_row(h, "information only") for h in information_only(case)]
     return result
 
 

@@ -251,20 +251,19 @@ def _hand_lines(rows: list[dict]) -> list[str]:
 
 def _hand(args) -> int:
     case = load_case(args.case)
-    from .hand import hand_methods, uses_davis
+    from .hand import hand_methods, information_only
     from .plausible import input_warnings
 
-    def rows(strength):
+    def rows(estimates):
         return [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
-                 "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
-                for h in hand_methods(case, strength) if strength == "as analysed" or h.pressure_kPa is not None]
+                 "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())} for h in estimates]
 
     print("\n".join([case.title] + [f"  WARNING: {w}" for w in input_warnings(case)]))
     print("  hand methods, kPa (vertical component / B)")
-    print("\n".join(_hand_lines(rows("as analysed"))))
-    if uses_davis(case):
+    print("\n".join(_hand_lines(rows(hand_methods(case)))))
+    if information_only(case):
         print(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
-        print("\n".join(_hand_lines(rows("as given"))))
+        print("\n".join(_hand_lines(rows(information_only(case)))))
     print(f"  Caution: {CAUTION}")
     return 0
 

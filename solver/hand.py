@@ -1406,6 +1406,16 @@ def hand_methods(case: Case, strength: str = "as analysed") -> list[HandEstimate
     return [_noted(e, basis) for e in _methods(davis_reduced(case))]
 
 
+def information_only(case: Case) -> list[HandEstimate]:
+    """With a dilation angle: the methods on c', phi' as given whose value differs from the one
+    on the bounds' reduced strength (information only, never compared); else none."""
+    if not uses_davis(case):
+        return []
+    analysed = {e.method: e.pressure_kPa for e in hand_methods(case)}
+    return [e for e in hand_methods(case, "as given")
+            if e.pressure_kPa is not None and e.pressure_kPa != analysed.get(e.method)]
+
+
 def _noted(estimate: HandEstimate, note: str) -> HandEstimate:
     """The estimate with ``note`` before its own (only where it gives a value: the others say why not)."""
     import dataclasses

@@ -472,9 +472,10 @@ def _hand(d: dict) -> str:
     given, _ = table([r for r in d.get("hand_methods_as_given") or [] if r.get("pressure_kPa") is not None],
                      compared=False)
     if given:
-        out.append("<h3>On c&prime;, &phi;&prime; as given (information only)</h3><p class='small'>Not compared "
-                   "with the bracket and never flagged: the bounds use the Davis-reduced strength, these "
-                   "estimates the full one.</p><table>" + head + "".join(given) + "</table>")
+        out.append("<h3>On c&prime;, &phi;&prime; as given (information only)</h3><p class='small'>The methods "
+                   "whose value changes with the full strength. Not compared with the bracket and never flagged: "
+                   "the bounds use the Davis-reduced strength, these estimates the full one.</p><table>" + head
+                   + "".join(given) + "</table>")
     out.append("<h3>Sources of the hand methods</h3><ol class='small'>"
                + "".join(f"<li>{esc(source)}</li>" for source in sources) + "</ol>")
     return "\n".join(out)

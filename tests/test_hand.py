@@ -668,10 +668,11 @@ def test_a_run_with_a_dilation_angle_flags_only_like_with_like():
     result = analyse(case, parallel=False)
     compared = {r["method"]: r for r in result.hand_methods}
     given = {r["method"]: r for r in result.hand_methods_as_given}
-    assert compared.keys() == given.keys()
+    assert given and set(given) <= set(compared)
     values = [r for r in result.hand_methods if r["pressure_kPa"] is not None]
     assert values and not all(r["where"].startswith("ABOVE") for r in values)
-    assert all(r["where"] == "information only" for r in given.values() if r["pressure_kPa"] is not None)
+    for method, row in given.items():  # only those the full strength changes, never flagged
+        assert row["where"] == "information only" and row["pressure_kPa"] > compared[method]["pressure_kPa"]
     assert "hand_methods_as_given" in result.to_dict()
 
 
