@@ -42,7 +42,7 @@ from typing import Any, Callable
 from .model import Case, Factors, Layer
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
-F_RANGE = (0.05, 20.0)  # strength factors searched; outside it the factor is reported as beyond
+F_RANGE = (0.05, 20.0)  # strength-reduction factors searched; outside it the factor is reported as beyond
 EXPAND = 1.5  # ratio by which a bracket is widened until it holds the root
 MAX_SOLVES = 40  # per bound: a safety net, never reached with the tolerance above
 MAX_WITHHELD = 3  # per bound: withheld solves after which the search stops (each is a full solve)
@@ -79,11 +79,12 @@ def design_strength_case(case: Case, factors: Factors) -> Case:
     return replace(case, layers=layers)
 
 
-def load_factor(lower_kN_per_m: float | None, upper_kN_per_m: float | None,
+def factor_on_load(lower_kN_per_m: float | None, upper_kN_per_m: float | None,
                 design_load_kN_per_m: float) -> dict:
-    """Bracket of collapse load / design load (None where a bound is not certified).
+    """The factor of safety on load: the bracket of collapse load / design load (None where a
+    bound is not certified).
 
-    >>> load_factor(300.0, 330.0, 150.0)
+    >>> factor_on_load(300.0, 330.0, 150.0)
     {'lower': 2.0, 'upper': 2.2}
     """
     return {"lower": None if lower_kN_per_m is None else lower_kN_per_m / design_load_kN_per_m,
@@ -96,7 +97,7 @@ Solver = Callable[[Case, str], Any]  # (case, "lower" | "upper") -> BoundResult
 def search_strength(kind: str, case: Case, design_load: float, load_at_1: float | None,
                     solve: Solver, tolerance: float = STRENGTH_TOLERANCE,
                     progress: Callable[[str], None] | None = None) -> dict:
-    """Bracket the strength factor F with one bound: secant estimates, then bisection.
+    """Bracket the factor of safety on strength F with one bound: secant estimates, then bisection.
 
     Parameters
     ----------
@@ -129,7 +130,7 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
     evaluations: list[dict] = []
     notes: list[str] = []
     if load_at_1 is None:
-        reason = f"the {kind} bound at F = 1 was withheld, so no strength factor is taken from it"
+        reason = f"the {kind} bound at F = 1 was withheld, so no factor of safety on strength is taken from it"
         return {"value": None, "search": "not found", "reason": reason, "solves": 0,
                 "evaluations": evaluations, "notes": [reason]}
     evaluations.append({"F": 1.0, "load_kN_per_m": load_at_1, "status": "from the main run"})
@@ -159,7 +160,7 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         return load
 
     # Bracket [lo, hi] of the root: lo below it (bound > design load), hi at or beyond it.
-    # F = 1 is known from the main run. The first trial is the load factor (exact for
+    # F = 1 is known from the main run. The first trial is the factor of safety on load (exact for
     # weightless Tresca ground); then each trial is the secant estimate of the root through
     # the last two points in (log F, log load), kept inside the bracket and, once it lies
     # within the tolerance of one end, pushed past the root by half the tolerance so that
@@ -259,7 +260,7 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
             reason += (f"; {value:.4g} is the {'largest' if kind == 'lower' else 'smallest'} F proven, "
                        f"{abs(math.log(nearest / value)) * 100:.2g} % from the nearest withheld F; the "
                        "root may lie beyond it")
-        else:  # only the main run's F = 1: that is the design load's check, not a strength factor found
+        else:  # only the main run's F = 1: that is the design load's check, not a factor of safety on strength found
             search, value = "not found", None
             reason += "; no F but the main run's F = 1 was proven, so no value is given (a finer mesh may help)"
     else:
@@ -319,7 +320,7 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     up1 = result.upper.load_kN_per_m if result.upper else None
     out: dict = {"design_load_kN_per_m": design_load}
     if design_load is not None:
-        out["on_load"] = load_factor(lo1, up1, design_load)
+        out["on_load"] = factor_on_load(lo1, up1, design_load)
         strength = {"lower": None, "upper": None, "solves": 0, "tolerance": tolerance,
                     "method": "each bound separately: estimates aimed at the root (the factor of safety on "
                               "load, then secants in log F and log load), then bisection on F to the "

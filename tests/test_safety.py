@@ -12,7 +12,7 @@ import solver.safety
 from solver.analysis import analyse
 from solver.case import parse_case
 from solver.model import Factors
-from solver.safety import (STRENGTH_TOLERANCE, design_strength_case, factor_of_safety, load_factor,
+from solver.safety import (STRENGTH_TOLERANCE, design_strength_case, factor_of_safety, factor_on_load,
                            reduce_strength, search_strength)
 
 PRANDTL_NC = 2 + math.pi  # Prandtl (1920): q_u = (2 + pi) su, weightless Tresca half-space, no surcharge
@@ -53,9 +53,9 @@ def test_reduce_strength_divides_c_su_gradient_and_tan_phi():
     assert d_clay.undrained_strength == pytest.approx(40.0 / 1.4)
 
 
-def test_load_factor_is_the_bracket_over_the_design_load_and_none_when_withheld():
-    assert load_factor(300.0, 330.0, 150.0) == {"lower": 2.0, "upper": 2.2}
-    assert load_factor(None, 330.0, 150.0) == {"lower": None, "upper": 2.2}
+def test_factor_on_load_is_the_bracket_over_the_design_load_and_none_when_withheld():
+    assert factor_on_load(300.0, 330.0, 150.0) == {"lower": 2.0, "upper": 2.2}
+    assert factor_on_load(None, 330.0, 150.0) == {"lower": None, "upper": 2.2}
 
 
 def test_search_proves_only_from_solved_values(monkeypatch):
