@@ -610,7 +610,7 @@ def _statistics(d: dict, run: Run) -> str:
           ("meshed width", num(dom.get("width_m"), 2, "m")), ("meshed depth", num(dom.get("depth_m"), 2, "m"))]
     if extra:
         B = d.get("footing_width_m") or 1.0
-        from .pictures import moving_extent
+        from .pictures import MOVING_SPEED, moving_extent
 
         extent = moving_extent(run.fields.get("upper"), bool(dom.get("half_domain_by_symmetry")))
         if extent is not None:  # measured on the velocity field: right for an asymmetric mechanism too
@@ -620,8 +620,6 @@ def _statistics(d: dict, run: Run) -> str:
         else:
             reach = extra.get("mechanism_half_width_m", 0.0)
             width = f"reaches {num(reach, 2, 'm')} ({num(reach / B, 2)} B) from the footing's centre"
-        from .pictures import MOVING_SPEED
-
         fraction = extra.get("mechanism_speed_fraction")
         moving = (f" (the soil moving faster than {esc(f'{MOVING_SPEED:.0%}')} of the footing, as framed in the "
                   "mechanism picture)")

@@ -37,13 +37,18 @@ LAYERED = {
 }
 
 
-@pytest.fixture(scope="module")
-def layered_run():
-    case = parse_case(LAYERED, name="layered")
+def solved(data: dict, name: str):
+    """(case, result.json's dict, fields by bound) of a case solved on its coarse mesh."""
+    case = parse_case(data, name=name)
     result = analyse(case)
     fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
               if v is not None}
     return case, result.to_dict(), fields
+
+
+@pytest.fixture(scope="module")
+def layered_run():
+    return solved(LAYERED, "layered")
 
 
 def drawn_texts(fig):
@@ -169,12 +174,9 @@ SLOPE = {
 
 @pytest.fixture(scope="module")
 def slope_run():
-    case = parse_case(SLOPE, name="slope")
-    result = analyse(case)
-    fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
-              if v is not None}
+    case, data, fields = solved(SLOPE, "slope")
     assert set(fields) == {"lower", "upper"}
-    return case, result.to_dict(), fields
+    return case, data, fields
 
 
 def ground_top(domain, x):
@@ -398,11 +400,7 @@ SAND_OVER_CLAY = {
 
 @pytest.fixture(scope="module")
 def sand_run():
-    case = parse_case(SAND_OVER_CLAY, name="sand")
-    result = analyse(case)
-    fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
-              if v is not None}
-    return case, result.to_dict(), fields
+    return solved(SAND_OVER_CLAY, "sand")
 
 
 def test_the_mechanism_shows_in_a_cohesionless_layer_and_names_the_layers(sand_run):
