@@ -245,7 +245,7 @@ def _hand_lines(rows: list[dict]) -> list[str]:
         if r["pressure_kPa"] is None:
             reasons.setdefault(r["note"], []).append(r["method"])
     for note, methods in reasons.items():
-        out.append(f"    not applicable ({'; '.join(methods)}): {note}")
+        out.append(f"    no value ({'; '.join(methods)}): {note}")
     return out
 
 

@@ -1125,8 +1125,10 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
         ax.set_title(f"Upper bound: collapse mechanism ({bound}; {upper.n_elements} six-node triangles)",
                      loc="left")
         key_y = 0.9 if profile.slope or site else 0.05
+        clear = [((-0.75 * B - x_lo) / (x_hi - x_lo), (vd - 0.5 * B) / (vd + top),  # the soil under the footing
+                  (0.75 * B - x_lo) / (x_hi - x_lo), 1.0)]
         _name_layers(ax, case, profile, site, x_lo, x_hi, vd,
-                     keep_clear=[(0.6, key_y - 0.05, 1.0, key_y + 0.05)] if arrows is not None else [])
+                     keep_clear=clear + ([(0.6, key_y - 0.05, 1.0, key_y + 0.05)] if arrows is not None else []))
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", extend="min")
         bar.set_label("shear strain rate, 1/m per unit footing velocity (log scale)")
     return fig

@@ -467,7 +467,7 @@ def _hand(d: dict) -> str:
     if body:
         out.append("<table>" + head + "".join(body) + "</table>")
     if not_applicable:
-        out.append("<h3>Not applicable to this case</h3><ul>" + "".join(
+        out.append("<h3>No value for this case (each says why)</h3><ul>" + "".join(
             f"<li>{', '.join(methods)}: {esc(note)}</li>" for note, methods in not_applicable.items()) + "</ul>")
     given, _ = table([r for r in d.get("hand_methods_as_given") or [] if r.get("pressure_kPa") is not None],
                      compared=False)

@@ -374,19 +374,20 @@ def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: floa
     'not met'
     """
     P = case.footing.design_load
+    along = " (along the load's line of action)" if getattr(case.footing, "load_inclination", 0.0) else ""
     checks = []
     if lower_kN_per_m is not None and lower_kN_per_m >= P:
         checks.append(_verdict("design load carried", "met",
                                f"the design load {P:.1f} kN/m is carried: the lower bound of the collapse "
-                               f"load, {lower_kN_per_m:.1f} kN/m, is above it"))
+                               f"load{along}, {lower_kN_per_m:.1f} kN/m, is above it"))
     elif upper_kN_per_m is not None and upper_kN_per_m < P:
         checks.append(_verdict("design load carried", "not met",
-                               f"the design load {P:.1f} kN/m is ABOVE the collapse load: the upper bound, "
+                               f"the design load {P:.1f} kN/m is ABOVE the collapse load: the upper bound{along}, "
                                f"{upper_kN_per_m:.1f} kN/m, is below it, so the footing collapses under "
                                f"the design load (factor of safety on load at most {upper_kN_per_m / P:.3f})"))
     elif lower_kN_per_m is not None and upper_kN_per_m is not None:
         checks.append(_verdict("design load carried", "undecided",
-                               f"the design load {P:.1f} kN/m lies inside the collapse bracket "
+                               f"the design load {P:.1f} kN/m lies inside the collapse bracket{along} "
                                f"[{lower_kN_per_m:.1f}, {upper_kN_per_m:.1f}] kN/m: the footing is at "
                                "collapse under it, and the bracket cannot tell whether it is carried"))
     else:

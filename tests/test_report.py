@@ -347,3 +347,25 @@ def test_fields_vtu_keeps_the_velocity_jumps(tmp_path):
     back = read_fields_vtu(path)["upper"]
     for name in ("jump_ends", "jump_dissipation", "velocity", "dissipation"):
         assert np.array_equal(back.arrays[name], live.arrays[name]), name
+
+
+def test_report_says_not_found_with_the_reason_and_prints_the_verdicts():
+    # the case: the lower-bound search proved nothing beyond the main run's F = 1
+    from solver.report import _safety
+
+    case = parse_case({"footing": {"width": 1.5, "design_load": 200.0, "required_factor_of_safety_on_strength": 1.5},
+                       "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 60.0,
+                                   "unit_weight": 19.0}]})
+    reason = ("the lower bound was withheld at F = 2.142 (solver trouble or a failed certificate on this mesh, "
+              "not a property of the ground); no F but the main run's F = 1 was proven, so no value is given")
+    fos = {"design_load_kN_per_m": 200.0, "on_load": {"lower": 2.07, "upper": 2.13},
+           "on_strength": {"lower": None, "upper": 2.134, "search": {"lower": "not found", "upper": "found"},
+                           "reason": {"lower": reason, "upper": None}, "solves": 5, "tolerance": 0.01,
+                           "notes": [reason], "evaluations": {}},
+           "checks": [{"check": "design load carried", "outcome": "met", "verdict": "the design load 200.0 kN/m is carried"},
+                      {"check": "required factor of safety on strength", "required": 1.5, "outcome": "undecided",
+                       "verdict": "required factor of safety on strength 1.5: undecided by the bracket [none, 2.134]"}]}
+    page = _safety({"factor_of_safety": fos, "footing_width_m": 1.5}, case)
+    assert "<td class='n'>not found</td>" in page and "1.000" not in page
+    assert "withheld at F = 2.142" in page
+    assert page.count('class="verdict"') == 2 and "undecided by the bracket" in page
