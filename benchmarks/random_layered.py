@@ -36,7 +36,7 @@ def random_case(seed: int, elements: int = 400) -> dict:
     for i in range(n_layers):
         layer = {"name": f"layer {i + 1}", "unit_weight": float(rng.choice([0.0, rng.uniform(14.0, 21.0)], p=[0.1, 0.9]))}
         if rng.random() < 0.5:
-            layer |= {"model": "mohr-coulomb", "friction_angle": float(rng.uniform(0.0, 45.0)),
+            layer |= {"model": "mohr-coulomb", "friction_angle": float(rng.choice([0.0, rng.uniform(1.0, 45.0)], p=[0.1, 0.9])),
                       "cohesion": float(rng.choice([0.0, rng.uniform(0.5, 30.0)]))}
             if layer["friction_angle"] < 5.0 and layer["cohesion"] == 0.0:
                 layer["cohesion"] = 5.0  # a layer needs strength

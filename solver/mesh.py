@@ -248,8 +248,9 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     r1 = r0 * math.exp(math.pi / 2 * math.tan(phi))
     width = 2.0 * r1 * math.cos(math.pi / 4 - phi / 2)
     depth = r1
-    # Every interface (layers and the water table) lies inside the mesh: below
-    # it, the lower bound's extension elements carry the last stratum only.
+    # Every interface (layers and the water table) within reach of a mechanism lies inside
+    # the mesh; those below the model are carried by the lower bound's extension elements
+    # (solver.lower), so that a deep water table or a thick layer costs nothing.
     interfaces = tuple(s.bottom for s in strata[:-1])
     # A weak layer under a strong crust draws the mechanism down: reach past
     # the deepest interface within the estimated zone (punching, common practice).
@@ -258,7 +259,7 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         depth = max(depth, max(interfaces_near) + r0)
         width = max(width, max(interfaces_near) + width)
     x_max = B / 2 + 2.0 * width + B
-    model_depth = max(2.0 * depth + B, 1.25 * interfaces[-1] if interfaces else 0.0)
+    model_depth = max(2.0 * depth + B, 1.25 * interfaces_near[-1] if interfaces_near else 0.0)
     slope = {}
     ground = case.ground
     if ground.slope_angle > 0:
@@ -271,10 +272,15 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         model_depth = max(model_depth, ground.slope_height + 2.0 * depth + B)
         slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
         half = False
+    # An interface just above the model base would leave a thin band there: put the base
+    # on the shallowest interface within the last fifth of the soil below the toe level instead.
+    floor = model_depth - 0.2 * (model_depth - slope.get("slope_height", 0.0))
+    model_depth = min([d for d in interfaces if floor < d <= model_depth], default=model_depth)
     half = is_symmetric(case) if half is None else half
     x_min = 0.0 if half else -(B / 2 + 2.0 * width + B)
     return Domain(half=half, x_min=x_min, x_max=x_max, depth=model_depth,
-                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth, **slope)
+                  interfaces=tuple(d for d in interfaces if d < model_depth),
+                  mechanism_width=width, mechanism_depth=depth, **slope)
 
 
 # Fan of triangles centred on each footing edge (lower bound). A fan of stress
@@ -447,7 +453,7 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     ``fan`` (default: on for first order, off for second) puts a structured
     fan (:class:`FanLayout`) round each footing edge and meshes the rest with
     h = s (FAN_EDGE_SIZE B + FAN_GRADING r); the fan's rim spacing matches h
-    there. Second-order fan meshes get straight-sided midside nodes. Measured
+    there. Second-order meshes get straight-sided midside nodes (computed here). Measured
     on the Prandtl case (weightless Tresca, exact 2 + pi, Prandtl 1920): the
     fan took the lower bound from -1.2 % to -0.05 % at 2k elements; it did not
     improve the upper bound (+3.3 % against +1.7 % at 2k), hence off for
@@ -479,43 +485,73 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     domain = domain or plan_domain(case)
     target = elements or case.analysis.elements
     B = case.footing.width
-    fan = ((order == 1) if fan is None else fan) and fan_reach(domain, B) > 0
-    scale = math.sqrt((size_hint.estimate_count() if size_hint else _estimate_count(domain, B, fan)) / target)
+    # gmsh (and OpenCASCADE's absolute tolerance of 1e-7) sees the site in units of B, so
+    # meshing does not depend on the footing's size; the points are scaled back at the end.
+    unit = _in_widths(domain, B)
+    check_meshable(unit)
+    hint = None if size_hint is None else SizeHint(size_hint.points / B, size_hint.triangles, size_hint.size / B)
+    fan = ((order == 1) if fan is None else fan) and fan_reach(unit, 1.0) > 0
+    scale = math.sqrt((hint.estimate_count() if hint else _estimate_count(unit, 1.0, fan)) / target)
     layout = None
     with _GMSH_LOCK:
         gmsh = _start_gmsh()
         try:
             tried = {}  # scale -> relative miss of the element count
             for attempt in range(6):
-                layout = _fan_layout(domain, B, scale) if fan else None
-                rim = _draw(gmsh, domain, B, layout)
-                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                layout = _fan_layout(unit, 1.0, scale) if fan else None
+                rim = _draw(gmsh, unit, 1.0, layout)
+                count = _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                 count += layout.n_elements if layout else 0
                 tried[scale] = abs(count / target - 1.0)
                 if tried[scale] < 0.05:
                     break
                 if attempt == 5:  # not converged (small targets): keep the closest
                     scale = min(tried, key=tried.get)
-                    layout = _fan_layout(domain, B, scale) if fan else None
-                    rim = _draw(gmsh, domain, B, layout)
-                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                    layout = _fan_layout(unit, 1.0, scale) if fan else None
+                    rim = _draw(gmsh, unit, 1.0, layout)
+                    _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                     break
                 scale *= math.sqrt(count / target)
-            gmsh_order = 1 if fan else order
-            if gmsh_order == 2:
-                gmsh.model.mesh.setOrder(2)
-            points, triangles, index = _read_triangles(gmsh, gmsh_order)
+            points, triangles, index = _read_triangles(gmsh)
             if layout:
                 rim_nodes = index[_point_nodes(gmsh, rim)]
         finally:
             gmsh.finalize()
     if layout:
         points, triangles = _add_fans(points, triangles, layout, rim_nodes)
-        if order == 2:
-            points, triangles = _second_order(points, triangles)
-    if order == 1:
+    if order == 2:
+        # midside nodes computed here rather than by gmsh's setOrder, which on a long, thin
+        # domain failed to place them and then crashed the process in gmsh.finalize
+        points, triangles = _second_order(points, triangles)
+    else:
         points, triangles = _split_corner_triangles(points, triangles)
-    return _assemble_mesh(points, triangles, domain, case)
+    return _assemble_mesh(points * B, triangles, domain, case)
+
+
+MESHABLE_EXTENT = 1e5  # B: the largest domain the mesher is asked for (a case file reaches 6000 B)
+MESHABLE_BAND = 1e-4  # B: the thinnest band between interfaces (a case file's thinnest is 0.001 B)
+
+
+def check_meshable(unit: Domain) -> None:
+    """Refuse (ValueError) a domain, in units of B, that gmsh cannot mesh soundly: the case
+    check keeps every case file inside these limits; this guards the other ways in."""
+    levels = (0.0, *unit.interfaces, unit.depth)
+    sizes = (unit.x_min, unit.x_max, unit.depth, *unit.interfaces, unit.mechanism_width, unit.mechanism_depth,
+             *((unit.crest_x, unit.toe_x, unit.slope_height) if unit.slope else ()))
+    if not all(math.isfinite(v) for v in sizes):
+        raise ValueError(f"mesh: the domain is not finite ({unit})")
+    if max(unit.x_max - unit.x_min, unit.depth) > MESHABLE_EXTENT:
+        raise ValueError(f"mesh: the domain is {max(unit.x_max - unit.x_min, unit.depth):.3g} footing widths across; "
+                         f"the mesher is asked for at most {MESHABLE_EXTENT:g}")
+    if min(b - a for a, b in zip(levels, levels[1:])) < MESHABLE_BAND:
+        raise ValueError(f"mesh: a band between interfaces is thinner than {MESHABLE_BAND:g} footing widths")
+
+
+def _in_widths(domain: Domain, B: float) -> Domain:
+    """The same domain with every length divided by B."""
+    scaled = {key: (None if value is None else value / B)
+              for key, value in vars(domain).items() if key not in ("half", "interfaces")}
+    return Domain(half=domain.half, interfaces=tuple(d / B for d in domain.interfaces), **scaled)
 
 
 def _split_corner_triangles(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -657,8 +693,9 @@ def _embed_crest_points(gmsh, domain: Domain, B: float) -> None:
                 break
 
 
-def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
+def _mesh_once(gmsh, domain: Domain, B: float, scale: float,
                layout: FanLayout | None = None, size_hint: SizeHint | None = None) -> int:
+    """Mesh the drawn domain with first-order triangles; returns their number."""
     mesh = gmsh.model.mesh
     mesh.clear()
     for tag in mesh.field.list():
@@ -689,8 +726,6 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay: well-shaped triangles
     gmsh.option.setNumber("Mesh.ElementOrder", 1)
     mesh.generate(2)
-    if order == 2:
-        mesh.setOrder(2)
     types, tags, _ = mesh.getElements(2)
     return int(sum(len(t) for t in tags))
 
@@ -736,15 +771,14 @@ def _second_order(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray
     return np.concatenate([points, mid]), np.column_stack([triangles, midside])
 
 
-def _read_triangles(gmsh, order: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Points (n, 2) m, triangles (rows of points) and the gmsh node tag -> row map."""
+def _read_triangles(gmsh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Points (n, 2), 3-node triangles (rows of points) and the gmsh node tag -> row map."""
     node_tags, coords, _ = gmsh.model.mesh.getNodes()
     points = coords.reshape(-1, 3)[:, :2]
     index = np.full(int(node_tags.max()) + 1, -1, dtype=np.int64)
     index[node_tags.astype(np.int64)] = np.arange(len(node_tags))
-    element_type = 2 if order == 1 else 9  # gmsh: 3-node and 6-node triangles
-    _, nodes = gmsh.model.mesh.getElementsByType(element_type)
-    triangles = index[nodes.astype(np.int64)].reshape(-1, 3 * order)
+    _, nodes = gmsh.model.mesh.getElementsByType(2)  # gmsh: 3-node triangles
+    triangles = index[nodes.astype(np.int64)].reshape(-1, 3)
     return points.copy(), triangles, index
 
 

@@ -174,12 +174,14 @@ def level_ground_soils(draw) -> dict:
     for i in range(2 if two else 1):
         if draw(st.booleans()):
             layer = {"model": "tresca", "undrained_strength": draw(finite(10, 60)),
-                     "strength_gradient": draw(st.sampled_from([0.0, draw(finite(0, 2))]))}
+                     "strength_gradient": draw(st.sampled_from([0.0, draw(finite(0.001, 2))]))}
         else:
             phi = draw(st.sampled_from([0.0, draw(finite(0.5, 35))]))
-            layer = {"model": "mohr-coulomb", "friction_angle": phi,
-                     "cohesion": draw(finite(2 if phi < 5 else 0, 20))}
+            layer = {"model": "mohr-coulomb", "friction_angle": phi, "cohesion": draw(finite(2, 20))}
         layer |= {"name": f"soil {i + 1}", "unit_weight": draw(st.sampled_from([0.0, draw(finite(14, 20))]))}
+        if layer["model"] == "mohr-coulomb" and layer["friction_angle"] >= 5 and layer["unit_weight"] > 0:
+            # cohesionless but heavy (weightless, cohesionless soil with no surcharge carries nothing)
+            layer["cohesion"] = draw(st.sampled_from([0.0, layer["cohesion"]]))
         layers.append(layer)
     if two:
         layers[0]["thickness"] = draw(finite(0.5, 3))
