@@ -296,11 +296,12 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
     """``{kind: work(kind, load)}`` for each (kind, load) asked, each on a thread of its
     own when ``parallel`` (analysis.Job)."""
-    from .analysis import Job
+    from .analysis import Job, finish
 
     jobs = {kind: Job(work, kind, load) for kind, load in asked}
     for job in jobs.values():
         job.start() if parallel else job.run()
+    finish(jobs.values())  # both ended before either's error is raised
     return {kind: job.result() for kind, job in jobs.items()}
 
 
