@@ -67,9 +67,9 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     timing["total_s"] = time.perf_counter() - start
     notes = []
     if _crossed(lower, upper):
+        reason = f"the bounds cross (lower {lower.pressure_kPa:.6g} kPa > upper {upper.pressure_kPa:.6g} kPa)"
         for bound in (lower, upper):
-            _withhold(bound, f"the bounds cross (lower {lower.pressure_kPa:.6g} kPa > upper "
-                             f"{upper.pressure_kPa:.6g} kPa)")
+            _withhold(bound, reason)
         notes.append(CROSSED)
     if _no_capacity(upper):
         notes.append(SLOPE_UNSTABLE if case.ground.slope_angle > 0 else NO_CAPACITY)

@@ -54,6 +54,7 @@ STRESS_TOLERANCE = 1e-6
 # the projection meets its equalities to about 1e-14 (measured); anything above this
 # means the restoration did not take place.
 RESTORED_TOLERANCE = 1e-10
+RESTORE_ROUNDS = 8  # rounds of holding the frictional corners a restoration pushed out (then all)
 # The flow rule's breach at a corner, from a point whose residual ||A x + s - b|| is r:
 # at most |r_equality| + sin(phi) (|r_0| + ||(r_1, r_2)||) <= (2 + sqrt(2)) ||r||_inf.
 FLOW_FACTOR = 2.0 + np.sqrt(2.0)
@@ -303,8 +304,8 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
     the ``exact`` rows of :func:`velocity_rows` (Tresca incompressibility) hold, with the
     work rate and the frictional jumps unchanged. A frictional corner whose flow-rule
     breach the change would raise by more than a tenth of the slack is held too (its
-    strain rate unchanged), and the change is found again (at most four rounds): the
-    frictional cones stay as the solver left them. Each projection solves
+    strain rate unchanged), and the change is found again (RESTORE_ROUNDS rounds, then once
+    holding them all): the frictional cones stay as the solver left them. Each projection solves
     (A A^T + delta I) y = r by sparse LU, z += A^T y, refined iteratively (delta,
     relative 1e-12, keeps dependent rows from making it singular). What was done is kept
     in ``solution.notes``."""
@@ -332,7 +333,9 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
             - (corner_rows @ v)[:n_c]
         start = np.maximum(breach(z), 0.0)
         hold = np.zeros(n_c, dtype=bool)
-        for _ in range(4):
+        for attempt in range(RESTORE_ROUNDS + 1):
+            if attempt == RESTORE_ROUNDS:
+                hold[:] = True  # the last try holds every frictional corner
             rows = np.concatenate([np.flatnonzero(np.tile(hold, 3)), np.arange(3 * n_c, held.shape[0])])
             change = _least_change(sp.vstack([exact, held[rows], sp.csr_matrix(work_row)]).tocsr(),
                                    np.concatenate([-residual, np.zeros(len(rows) + 1)]))
