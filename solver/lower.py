@@ -96,18 +96,7 @@ def _cones(cone: _Rows, stress: np.ndarray, c: np.ndarray, phi: np.ndarray) -> N
     """Mohr-Coulomb cone ||(sx - sy, 2 txy)|| <= 2 c cos(phi) - (sx + sy) sin(phi) on
     stress triples (n, 3), as s = b - A x in SOC_3. With c the rate of cohesion
     along a direction, the same cone is the recession condition of a linear field."""
-    n = len(stress)
-    rhs = np.zeros((n, 3))
-    rhs[:, 0] = 2.0 * c * np.cos(phi)
-    r = cone.count + 3 * np.arange(n)
-    cone.count += 3 * n
-    cone.rhs.append(rhs.ravel())
-    sin = np.sin(phi)
-    cone.add(r, stress[:, SX], sin)
-    cone.add(r, stress[:, SY], sin)
-    cone.add(r + 1, stress[:, SX], -1.0)
-    cone.add(r + 1, stress[:, SY], 1.0)
-    cone.add(r + 2, stress[:, TXY], -2.0)
+    _band_cone(cone, [(stress, np.ones(len(stress)))], c, phi)
 
 
 def _equilibrium(eq: _Rows, d_dx: list, d_dy: list, gamma: np.ndarray, scale: np.ndarray) -> None:
@@ -279,8 +268,9 @@ def _deep_strata_cones(eq: _Rows, cone: _Rows, mat: dict, deep: list[int], model
 
     Below the base, the extension elements' fields are linear in the depth s below it,
     sigma = sigma_0 + s G (``points``: pairs of triples of variables, sigma_0 a point on the
-    base and G its downward rate, each rate once in ``downward``), in equilibrium with the weight gamma_0 of the model's
-    last stratum. The ground's own weight gamma(s) differs below, so the field there is
+    base and G its downward rate, each rate once in ``downward``), in equilibrium with the
+    weight gamma_0 of the model's last stratum. The ground's own weight gamma(s) differs
+    below, so the field there is
     sigma + tau(s) with tau = (t, t, 0), t(s) = integral from 0 to s of (gamma_0 - gamma):
     an isotropic stress depending on depth alone, in equilibrium with the weight
     difference, continuous in traction across every horizontal interface and every
@@ -310,25 +300,27 @@ def _deep_strata_cones(eq: _Rows, cone: _Rows, mat: dict, deep: list[int], model
             c = weight * mat["c_top"][k] + gradient * ((level + model_depth - mat["top"][k]) * weight)
             for point, down in points:
                 n = len(point)
-                _band_cone(eq, cone, [(point, np.full(n, weight)), (down, np.full(n, level * weight))],
-                           np.full(n, c), phi, shift(level))
+                _band_cone(cone, [(point, np.full(n, weight)), (down, np.full(n, level * weight))],
+                           c, phi, shift(level), eq)
         if j > 0:  # the model's own stratum: the corner's own cones
-            _band_cone(eq, cone, [(sideways, np.ones(len(sideways)))], np.zeros(len(sideways)), phi, 0.0)
+            _band_cone(cone, [(sideways, np.ones(len(sideways)))], 0.0, phi, 0.0, eq)
     last = strata[-1]
     for down in downward:
-        n = len(down)
-        _band_cone(eq, cone, [(down, np.ones(n))], np.full(n, mat["c_gradient"][last]), mat["phi"][last],
-                   gamma0 - mat["gamma"][last])
+        _band_cone(cone, [(down, np.ones(len(down)))], mat["c_gradient"][last], mat["phi"][last],
+                   gamma0 - mat["gamma"][last], eq)
 
 
-def _band_cone(eq: _Rows, cone: _Rows, terms: list, c: np.ndarray, phi: float, mean: float) -> None:
+def _band_cone(cone: _Rows, terms: list, c, phi, mean: float = 0.0, eq: _Rows | None = None) -> None:
     """The yield cone of :func:`_cones` on the stress sum(weight * triple) + (mean, mean, 0)
-    (``terms``: (triples (n, 3), weights (n,))). With c = 0 and phi = 0 the cone has no
-    interior and is written as the equalities it means (see _yield)."""
-    n = len(c)
+    (``terms``: (triples (n, 3), weights (n,)); c, phi per row or one for all). Given
+    ``eq``, a cone with c = 0 and phi = 0 everywhere, which has no interior, is written as
+    the equalities it means instead (see _yield)."""
+    n = len(terms[0][0])
     if n == 0:
         return
-    if phi == 0.0 and np.all(c == 0.0):
+    c = np.broadcast_to(np.asarray(c, float), (n,))
+    phi = np.broadcast_to(np.asarray(phi, float), (n,))
+    if eq is not None and np.all(phi == 0.0) and np.all(c == 0.0):
         for components, signs in (((SX, SY), (1.0, -1.0)), ((TXY,), (1.0,))):
             r = eq.block(n)
             for triple, weight in terms:
@@ -340,9 +332,10 @@ def _band_cone(eq: _Rows, cone: _Rows, terms: list, c: np.ndarray, phi: float, m
     r = cone.count + 3 * np.arange(n)
     cone.count += 3 * n
     cone.rhs.append(rhs.ravel())
+    sin = np.sin(phi)
     for triple, weight in terms:
-        cone.add(r, triple[:, SX], np.sin(phi) * weight)
-        cone.add(r, triple[:, SY], np.sin(phi) * weight)
+        cone.add(r, triple[:, SX], sin * weight)
+        cone.add(r, triple[:, SY], sin * weight)
         cone.add(r + 1, triple[:, SX], -weight)
         cone.add(r + 1, triple[:, SY], weight)
         cone.add(r + 2, triple[:, TXY], -2.0 * weight)
