@@ -54,6 +54,11 @@ STRESS_TOLERANCE = 1e-6
 # the projection meets its equalities to about 1e-14 (measured); anything above this
 # means the restoration did not take place.
 RESTORED_TOLERANCE = 1e-10
+# A mechanism of the ground alone proves instability when its energy (dissipation plus the
+# work against weight and surcharge, from its restored velocities) is negative by more than
+# this fraction of the terms it sums: a thousand times the solver's feasibility tolerance,
+# far beyond what the frictional cones' accepted residuals could change in it.
+RAY_MARGIN = 1e3 * FEASIBILITY
 RESTORE_ROUNDS = 8  # rounds of holding the frictional corners a restoration pushed out (then all)
 # The flow rule's breach at a corner, from a point whose residual ||A x + s - b|| is r:
 # at most |r_equality| + sin(phi) (|r_0| + ||(r_1, r_2)||) <= (2 + sqrt(2)) ||r||_inf.
@@ -161,8 +166,8 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     ground's weight and surcharge do on it, if it passes). It is certified as a mechanism
     of the ground alone: the load does no work, and the energy it releases (dissipation
     plus the work against weight and surcharge, ``load_kN_per_m``) must be negative by
-    more than LOAD_TOLERANCE of the terms it sums: then every footing load, zero
-    included, is above the collapse load."""
+    more than RAY_MARGIN of the terms it sums: then every footing load, zero included, is
+    above the collapse load."""
     if solution.x is None:
         return {"passed": False, "reason": f"no solution ({solution.status})"}
     work = 0.0 if ray else 1.0
@@ -211,7 +216,7 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
               "flow_rule": slack, "load_mismatch": LOAD_TOLERANCE}
     if ray:  # energy released, relative to the terms it sums: negative beyond what residuals account for
         residuals["energy_balance"] = load / (factor * (abs(dissipation) + abs(gravity) + abs(surcharge)) or 1.0)
-        limits["energy_balance"] = -LOAD_TOLERANCE
+        limits["energy_balance"] = -RAY_MARGIN
         # the solver's objective counts its own rho~ >= ||(ex - ey, gxy)||, slack on a ray: only
         # the larger (less negative) of the two is claimed, so no agreement is asked of them
         del residuals["load_mismatch"], limits["load_mismatch"]
@@ -299,10 +304,10 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
     most :func:`solver_slack`); else unchanged (the certificate then fails on it).
 
     Two steps: (1) the whole point is divided by its load's work rate, which makes that
-    exactly ``work`` (1; a ray's, 0, is left), every cone and every equality being
-    homogeneous; (2) the free velocities get the smallest change (least squares) that makes
-    the ``exact`` rows of :func:`velocity_rows` (Tresca incompressibility) hold, with the
-    work rate and the frictional jumps unchanged. A frictional corner whose flow-rule
+    exactly ``work`` (1), every cone and every equality being homogeneous; (2) the free
+    velocities get the smallest change (least squares) that makes the ``exact`` rows of
+    :func:`velocity_rows` (Tresca incompressibility) hold, with the frictional jumps and
+    the work rate unchanged (a ray's work rate, 0, is restored in this step). A frictional corner whose flow-rule
     breach the change would raise by more than a tenth of the slack is held too (its
     strain rate unchanged), and the change is found again (RESTORE_ROUNDS rounds, then once
     holding them all): the frictional cones stay as the solver left them. Each projection solves
@@ -322,7 +327,8 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
         x = x * (work / rate)
     z = x[:n_z]
     residual = exact @ z
-    before = float(np.max(np.abs(residual), initial=0.0))
+    work_miss = float(work_row @ z) - work  # 0 after the division; a ray's own, left by the solver
+    before = float(max(np.max(np.abs(residual), initial=0.0), abs(work_miss)))
     if before > slack:
         return solution  # more than slack: left for the certificate to judge
     notes = {**solution.notes, "work_rate_before": rate}
@@ -338,7 +344,7 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
                 hold[:] = True  # the last try holds every frictional corner
             rows = np.concatenate([np.flatnonzero(np.tile(hold, 3)), np.arange(3 * n_c, held.shape[0])])
             change = _least_change(sp.vstack([exact, held[rows], sp.csr_matrix(work_row)]).tocsr(),
-                                   np.concatenate([-residual, np.zeros(len(rows) + 1)]))
+                                   np.concatenate([-residual, np.zeros(len(rows)), [-work_miss]]))
             worse = breach(z + change) > start + 0.1 * slack
             if not np.any(worse & ~hold):
                 break

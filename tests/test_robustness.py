@@ -69,6 +69,7 @@ def bracket(case: Case, **kwargs) -> tuple[float, float]:
     ({"width": 0.5, "embedment": 5.0}, {}, [{**SAND, "thickness": 8.0}, CLAY]),  # embedment 10 B
     ({}, {"slope_angle": 1.0, "slope_height": 2.0}, None),  # the flattest slope allowed
     ({}, {"slope_angle": 30.0, "slope_height": 4.0, "crest_setback": 100.0}, None),  # setback 50 B
+    ({}, {"slope_angle": 30.0, "slope_height": 200.0}, [{**CLAY, "undrained_strength": 1080.0}]),  # 100 B high
     ({}, {}, [{**SAND, "thickness": 0.002}, CLAY]),         # the thinnest layer allowed, 0.001 B
 ])
 def test_values_at_the_limits_solve(footing, ground, layers) -> None:
