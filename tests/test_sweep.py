@@ -74,7 +74,7 @@ def test_hash_follows_the_whole_case():
     ({"footing.widht": [1.0]}, {}, ["vary.footing.widht", "did you mean 'width'"]),
     ({"layers.2.thickness": [1.0]}, {}, ["vary.layers.2.thickness", "0 to 1", "counted from 0"]),
     ({"layers.0.friction_angle": [30.0]}, {}, ["vary.layers.0.friction_angle", "tresca"]),
-    ({"footing.width": [-1.0, 1.0]}, {}, ["vary.footing.width", "-1.0", "> 0"]),
+    ({"footing.width": [-1.0, 1.0]}, {}, ["vary.footing.width", "-1.0", ">= 0.01"]),
     ({"footing.width": [1.0, 1.0]}, {}, ["vary.footing.width", "twice"]),
     ({"footing.width": {"start": 1, "stop": 2}}, {}, ["vary.footing.width.num", "missing"]),
     ({"footing.width": [1.0, 2.0], "ground.surcharge": [0.0]}, {"combine": "zip"},
@@ -91,7 +91,7 @@ def test_bad_sweep_is_one_line_naming_the_key(vary, extra, words):
 
 def test_bad_base_and_misplaced_files(tmp_path):
     one_line_error(lambda: parse_sweep({"base": {**BASE, "footing": {"width": 0}}, "vary": {}}),
-                   "base.footing.width", "> 0")
+                   "base.footing.width", ">= 0.01")
     one_line_error(lambda: parse_sweep({"vary": {"footing.width": [1.0]}}), "base: missing")
     case = tmp_path / "site.toml"
     case.write_text('[footing]\nwidth = 2.0\n[[layers]]\nname = "clay"\nmodel = "tresca"\n'
