@@ -201,17 +201,9 @@ def test_an_unstable_slope_is_claimed_from_its_certified_mechanism() -> None:
 def test_an_error_while_the_other_bound_solves_is_one_line_not_an_abort(tmp_path: Path) -> None:
     # Before: the process aborted ("FATAL: exception not rethrown", exit 134) when the upper
     # bound's mesh failed while the lower bound was still inside the solver.
-    (tmp_path / "clay.toml").write_text(textwrap.dedent("""\
-        [footing]
-        width = 2.0
-        [[layers]]
-        name = "clay"
-        model = "tresca"
-        undrained_strength = 30.0
-        unit_weight = 18.0
-        [analysis]
-        elements = 3000
-        """))
+    (tmp_path / "clay.toml").write_text(
+        'footing = { width = 2.0 }\nanalysis = { elements = 3000 }\n'
+        'layers = [{ name = "clay", model = "tresca", undrained_strength = 30.0, unit_weight = 18.0 }]\n')
     script = textwrap.dedent("""\
         import sys
         import solver.analysis, solver.cli
