@@ -705,8 +705,30 @@ def _msh_groups(gmsh, name: str) -> tuple[dict, dict]:
     return surface_groups, curve_groups
 
 
+# The first line gmsh must see for it to read a file as a mesh (MSH 2.x or 4.x, ASCII or binary):
+# gmsh picks its reader from the file's first line, not its name, and runs anything else as a
+# .geo script (a `SystemCall "..."` line in a file named .msh is a command it executes).
+_MSH_HEADER = re.compile(rb"\$MeshFormat\r?\n[ \t]*(?:2\.[0-2]|4\.[01])[ \t]+[01][ \t]+8[ \t]*\r?\n")
+
+
+def check_msh_header(raw: bytes, name: str) -> None:
+    """Refuse, before gmsh sees them, bytes that gmsh would not read as a mesh file.
+
+    >>> check_msh_header(b"$MeshFormat\\n4.1 0 8\\n$EndMeshFormat\\n", "site.msh")
+    >>> check_msh_header(b'SystemCall "touch x";\\n', "site.msh")
+    Traceback (most recent call last):
+    ...
+    solver.case.CaseError: site.msh: not a gmsh mesh file; a .msh must begin with the line $MeshFormat and a version line such as 4.1 0 8 (MSH 2.x or 4.x): it is read as data, never run as a script
+    """
+    if _MSH_HEADER.match(raw) is None:
+        raise CaseError(f"{name}: not a gmsh mesh file; a .msh must begin with the line $MeshFormat and a "
+                        "version line such as 4.1 0 8 (MSH 2.x or 4.x): it is read as data, never run as a script")
+
+
 def _read_msh(gmsh, raw: bytes, name: str) -> _Raw:
-    """Read the .msh bytes from a private copy (gmsh would also read an option file beside the original)."""
+    """Read the .msh bytes from a private copy (gmsh would also read an option file beside the original),
+    once their first line says they are a mesh (``check_msh_header``)."""
+    check_msh_header(raw, name)
     with tempfile.TemporaryDirectory(prefix="bearbound-site-") as folder:
         copy = pathlib.Path(folder) / "site.msh"
         copy.write_bytes(raw)

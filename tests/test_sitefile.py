@@ -277,6 +277,7 @@ def test_msh_with_quadrangles_is_refused(tmp_path):
 
 BAD_CASES = {  # file -> (the message starts with, and contains)
     "geometry_system_call.toml": ("system_call.geo", "'SystemCall' is not allowed in a site file"),
+    "geometry_msh_script.toml": ("msh_script.MSH", "not a gmsh mesh file; a .msh must begin with the line $MeshFormat"),
     "geometry_include.toml": ("include.geo", "'Include' is not allowed in a site file: it reads another file"),
     "geometry_field.toml": ("field.geo", "'Field' is not allowed"),
     "geometry_no_footing.toml": ("no_footing.geo", "group 'footing' is missing"),
@@ -307,10 +308,13 @@ def test_bad_corpus_and_expectations_match():
 
 
 @pytest.mark.parametrize("file_name", sorted(BAD_CASES))
-def test_bad_geometry_is_refused_in_one_line(file_name):
+def test_bad_geometry_is_refused_in_one_line(file_name, tmp_path, monkeypatch):
     starts, says = BAD_CASES[file_name]
+    monkeypatch.chdir(tmp_path)  # where the corpus's SystemCall lines would leave their marker
     with pytest.raises(CaseError) as info:
         load_case(BAD / file_name)
+    assert not (tmp_path / "bearbound-test-marker").exists()
+    monkeypatch.undo()
     message = str(info.value)
     assert "\n" not in message and "Traceback" not in message
     where = message.split(": ", 1)[0]
@@ -344,6 +348,45 @@ def test_system_call_runs_nothing(tmp_path):
                     "gmsh.option.setNumber('General.Terminal', 0); gmsh.open(sys.argv[1]); gmsh.finalize()",
                     str(control)], check=True, timeout=120)
     assert (tmp_path / "control-marker").exists()
+
+
+MSH_SCRIPTS = {  # a script under a mesh's name, in the shapes gmsh's first-line test might let through
+    "plain": 'SystemCall "touch {marker}";\n',
+    "byte-order mark": '\ufeff$MeshFormat\n4.1 0 8\n$EndMeshFormat\nSystemCall "touch {marker}";\n',
+    "comment first": '// $MeshFormat\nSystemCall "touch {marker}";\n',
+    "comments section": '$Comments\nSystemCall "touch {marker}";\n$EndComments\n',
+    "header later": 'SystemCall "touch {marker}";\n$MeshFormat\n4.1 0 8\n$EndMeshFormat\n',
+}
+
+
+@pytest.mark.parametrize("shape", sorted(MSH_SCRIPTS))
+@pytest.mark.parametrize("file_name", ["site.msh", "SITE.Msh"])
+def test_msh_that_is_a_script_runs_nothing(tmp_path, shape, file_name):
+    """A .msh is data: a file that does not begin as gmsh's mesh files do is refused before
+    gmsh sees it, whatever the case of its extension. Control: gmsh itself, given the
+    plain file, runs the command (so the marker test can fail)."""
+    marker = tmp_path / "marker"
+    (tmp_path / file_name).write_text(MSH_SCRIPTS[shape].format(marker=marker), encoding="utf-8")
+    data = {"footing": {"width": 2.0}, "geometry": {"file": file_name}, "layers": [CLAY]}
+    with pytest.raises(CaseError, match=r"not a gmsh mesh file; a \.msh must begin with the line \$MeshFormat"):
+        parse_case(data, base_dir=tmp_path)
+    assert not marker.exists()
+    if shape == "plain" and file_name == "site.msh":
+        subprocess.run([sys.executable, "-c", "import gmsh, sys; gmsh.initialize(readConfigFiles=False); "
+                        "gmsh.option.setNumber('General.Terminal', 0); gmsh.open(sys.argv[1]); gmsh.finalize()",
+                        str(tmp_path / file_name)], check=True, timeout=120)
+        assert marker.exists()
+
+
+def test_msh_header_then_a_script_is_read_as_a_mesh_and_runs_nothing(tmp_path):
+    """Past a real mesh header gmsh's mesh reader takes the file: no line of it is run."""
+    marker = tmp_path / "marker"
+    (tmp_path / "site.msh").write_text("$MeshFormat\n4.1 0 8\n$EndMeshFormat\n"
+                                       + SYSTEM_CALL.format(marker=marker), encoding="utf-8")
+    data = {"footing": {"width": 2.0}, "geometry": {"file": "site.msh"}, "layers": [CLAY]}
+    with pytest.raises(CaseError, match="site.msh: "):
+        parse_case(data, base_dir=tmp_path)
+    assert not marker.exists()
 
 
 REFUSED_WORDS = ["SystemCall", "Shell", "Include", "Merge", "OnelabRun", "Plugin", "Exit", "Printf", "Print",
