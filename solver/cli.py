@@ -22,7 +22,7 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
 
-from .case import CaseError, load_case
+from .case import CaseError, load_case, shown
 from .result import CAUTION
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
@@ -32,7 +32,8 @@ def main(argv: list[str] | None = None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     try:
-        return args.handler(args)
+        with _terminate_as_interrupt():
+            return args.handler(args)
     except CaseError as error:
         print(f"bearbound: {error}", file=sys.stderr)
         return 2
@@ -48,8 +49,7 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as error:  # a defect, never the user's input: say so in one line
         if os.environ.get("BEARBOUND_TRACEBACK"):
             raise
-        reason = " ".join(f"{type(error).__name__}: {error}".split())
-        reason = reason if len(reason) <= 300 else reason[:297] + "..."
+        reason = shown(" ".join(f"{type(error).__name__}: {error}".split()), 300)
         print(f"bearbound: internal error, the run stopped: {reason}; please report it with the "
               "case file (BEARBOUND_TRACEBACK=1 shows where)", file=sys.stderr)
         return 3
@@ -110,12 +110,25 @@ def _run(args) -> int:
     case = load_case(args.case)
     if args.elements is not None and not 200 <= args.elements <= 400_000:
         raise CaseError(f"--elements: {args.elements} is not allowed; must be a whole number from 200 to 400000")
-    out_dir = args.out or Path("out") / case.name
-    from .export import outputs_overwriting
+    from .outdir import RunFolder, folder_name
+
+    out_dir = args.out or Path("out") / folder_name(case.name, "case")
+    from .export import RUN_FILES, outputs_overwriting
 
     if (clash := outputs_overwriting(args.case, out_dir)) is not None:
-        raise CaseError(f"--out: {out_dir} is not allowed; writing {clash.name} there would overwrite "
-                        "the case file, choose another folder")
+        raise CaseError(f"--out: {shown(out_dir, 200)} is not allowed; writing {clash.name} there would "
+                        "overwrite the case file, choose another folder")
+    # The folder is checked, locked and staged before the solve: a folder that cannot be
+    # written or that another run is writing is found now, not after minutes of solving.
+    with RunFolder(out_dir, RUN_FILES) as folder:
+        result = _solve_and_write(args, case, out_dir, folder)
+    print(format_summary(result, out_dir / "result.json"))
+    asked = [b for b in (result.lower, result.upper) if b is not None]
+    return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+
+
+def _solve_and_write(args, case, out_dir: Path, folder):
+    """Solve, write every output into the run's staging folder and swap it in."""
     from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
     from .report import write_run_files
     from .result import write_result
@@ -134,15 +147,14 @@ def _run(args) -> int:
 
     result = _solve_interruptibly(solve_case, out_dir)
     with _interrupt_after_writing() as interrupted:
-        path = write_result(result, out_dir)
-        write_run_files(result, case, args.case, out_dir, pictures=not args.no_pictures,
+        write_result(result, folder.staging)
+        write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
                         report=not args.no_report)
+        folder.publish()
     if interrupted:
         raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
-                                f"first and are whole in {out_dir}")
-    print(format_summary(result, path))
-    asked = [b for b in (result.lower, result.upper) if b is not None]
-    return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+                                f"first and are whole in {shown(out_dir, 200)}")
+    return result
 
 
 class _SolveAbandoned(KeyboardInterrupt):
@@ -165,28 +177,49 @@ def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
         while job.is_alive():
             job.join(0.1)
     except KeyboardInterrupt:
-        raise _SolveAbandoned(f"interrupted while solving; nothing was written to {out_dir}") from None
+        raise _SolveAbandoned(f"interrupted while solving; nothing was written to {shown(out_dir, 200)}") from None
     return job.result()
+
+
+STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)  # Ctrl-C, and `kill` / a shutdown / a batch system
+
+
+def _raise_interrupt(signum, frame) -> None:
+    raise KeyboardInterrupt()
+
+
+@contextlib.contextmanager
+def _terminate_as_interrupt() -> Iterator[None]:
+    """SIGTERM is handled as Ctrl-C is: the same clean stop, exit status 130, nothing
+    half-written. (Python's default for SIGTERM is to die at once, mid-write.)"""
+    if (threading.current_thread() is not threading.main_thread()
+            or signal.getsignal(signal.SIGTERM) is signal.SIG_IGN):
+        yield
+        return
+    previous = signal.signal(signal.SIGTERM, _raise_interrupt)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, previous)
 
 
 @contextlib.contextmanager
 def _interrupt_after_writing() -> Iterator[list[int]]:
-    """Hold a Ctrl-C while the outputs are written (a second or two) and report it after.
-
-    Each file is renamed into place whole, but a Ctrl-C between two files would leave
-    this run's result.json beside an earlier run's report and pictures. The list
-    yielded holds the signals that arrived.
+    """Hold Ctrl-C and SIGTERM while the outputs are written and swapped in (a second or
+    two) and report them after, so that the run's files appear whole and together. The
+    list yielded holds the signals that arrived.
     """
     arrived: list[int] = []
-    if (threading.current_thread() is not threading.main_thread()
-            or signal.getsignal(signal.SIGINT) is signal.SIG_IGN):
+    if threading.current_thread() is not threading.main_thread():
         yield arrived
         return
-    previous = signal.signal(signal.SIGINT, lambda signum, frame: arrived.append(signum))
+    held = [s for s in STOP_SIGNALS if signal.getsignal(s) is not signal.SIG_IGN]
+    previous = {s: signal.signal(s, lambda signum, frame: arrived.append(signum)) for s in held}
     try:
         yield arrived
     finally:
-        signal.signal(signal.SIGINT, previous)
+        for s, handler in previous.items():
+            signal.signal(s, handler)
 
 
 def format_summary(result, path: Path | None = None) -> str:
@@ -223,7 +256,7 @@ def format_summary(result, path: Path | None = None) -> str:
         lines.append("  hand methods, kPa (vertical component / B)")
         lines += _hand_lines(result.hand_methods)
     if path is not None:
-        lines.append(f"  written: {path}")
+        lines.append(f"  written: {shown(path, 200)}")
     lines.append(f"  Caution: {CAUTION}")
     return "\n".join(lines)
 
@@ -256,14 +289,20 @@ def _hand(args) -> int:
 
 
 def _report(args) -> int:
+    from .outdir import locked_folder
     from .report import ReportError, rebuild_report
 
+    if not args.folder.is_dir():  # checked before the lock, which would create the folder
+        print(f"bearbound: {shown(args.folder, 200)}: no such folder; give the output folder of a finished "
+              "run (out/<case>)", file=sys.stderr)
+        return 2
     try:
-        path = rebuild_report(args.folder)
+        with locked_folder(args.folder, where="report"):  # a run swapping the folder meanwhile would mix them
+            path = rebuild_report(args.folder)
     except ReportError as error:
         print(f"bearbound: {error}", file=sys.stderr)
         return 2
-    print(f"written: {path}\n  Caution: {CAUTION}")
+    print(f"written: {shown(path, 200)}\n  Caution: {CAUTION}")
     return 0
 
 
@@ -289,12 +328,15 @@ def _sweep(args) -> int:
                         "the cluster there has its own workers")
     if args.workers is not None and not 1 <= args.workers <= 256:
         raise CaseError(f"--workers: {args.workers} is not allowed; must be a whole number from 1 to 256")
-    out_dir = args.out or Path("out") / sweep.name
+    from .outdir import folder_name, locked_folder
+
+    out_dir = args.out or Path("out") / folder_name(sweep.name, "sweep")
     try:
-        outcome = run_sweep(sweep, out_dir, scheduler=args.scheduler, workers=args.workers,
-                            progress=not args.no_progress)
+        with locked_folder(out_dir):  # points are added to the folder, so it is locked, not swapped
+            outcome = run_sweep(sweep, out_dir, scheduler=args.scheduler, workers=args.workers,
+                                progress=not args.no_progress)
     except KeyboardInterrupt:
-        print(f"bearbound: points finished so far are kept in {out_dir / 'points'}; "
+        print(f"bearbound: points finished so far are kept in {shown(out_dir / 'points', 200)}; "
               "the same command again solves only the rest", file=sys.stderr)
         raise
     print(format_outcome(sweep, outcome))

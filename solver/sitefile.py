@@ -49,7 +49,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .case import CaseError
+from .case import CaseError, NotRegularFile, open_regular, shown
 from .mesh import (_GMSH_LOCK, FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, Domain, Mesh, _second_order,
                    _start_gmsh)
 from .model import Case, Geometry, Layer
@@ -499,25 +499,29 @@ class _Raw:
 
 
 def label(path: str | pathlib.Path) -> str:
-    """The file as named in messages: relative to the working folder when inside it."""
+    """The file as named in messages: relative to the working folder when inside it, any
+    control character escaped (``solver.case.shown``)."""
     path = pathlib.Path(path)
     try:
-        return str(path.resolve().relative_to(pathlib.Path.cwd().resolve()))
+        return shown(path.resolve().relative_to(pathlib.Path.cwd().resolve()), 200)
     except ValueError:
-        return str(path)
+        return shown(path, 200)
 
 
 def _read_bytes(path: pathlib.Path, where: str) -> bytes:
     limit = GEO_MAX_BYTES if path.suffix.lower() == ".geo" else MSH_MAX_BYTES
     try:
-        with path.open("rb") as stream:
+        with open_regular(path) as stream:
             raw = stream.read(limit + 1)
     except FileNotFoundError:
         raise CaseError(f"{where}: {label(path)} is not allowed; no such file") from None
     except IsADirectoryError:
         raise CaseError(f"{where}: {label(path)} is not allowed; it is a folder, must be a .geo or .msh file") from None
+    except NotRegularFile as exc:
+        raise CaseError(f"{where}: {label(path)} is not allowed; it is {exc.strerror}, must be a .geo or .msh "
+                        "file") from None
     except OSError as exc:
-        raise CaseError(f"{where}: cannot read {label(path)} ({' '.join(str(exc).split())})") from None
+        raise CaseError(f"{where}: cannot read {label(path)} ({shown(' '.join(str(exc).split()), 200)})") from None
     if len(raw) > limit:
         raise CaseError(f"{label(path)}: larger than {limit // 1_000_000} MB; is this the right file?")
     return raw
