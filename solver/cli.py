@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from .case import CaseError, load_case, shown
+from .outdir import abandon_open_folders
 from .result import CAUTION
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
@@ -32,7 +33,7 @@ def main(argv: list[str] | None = None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     try:
-        with _terminate_as_interrupt():
+        with _stop_signals():
             return args.handler(args)
     except CaseError as error:
         print(f"bearbound: {error}", file=sys.stderr)
@@ -182,25 +183,61 @@ def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
 
 
 STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)  # Ctrl-C, and `kill` / a shutdown / a batch system
+GRACE_S = 1.0  # how long a stop signal may wait for the main thread before the watch acts on it
+_HANDLED = threading.Event()  # the main thread has taken a stop signal
+_HOLDING = threading.Event()  # the outputs are being written: a stop waits for them
 
 
-def _raise_interrupt(signum, frame) -> None:
+def _stop(signum, frame) -> None:
+    _HANDLED.set()
     raise KeyboardInterrupt()
 
 
 @contextlib.contextmanager
-def _terminate_as_interrupt() -> Iterator[None]:
-    """SIGTERM is handled as Ctrl-C is: the same clean stop, exit status 130, nothing
-    half-written. (Python's default for SIGTERM is to die at once, mid-write.)"""
-    if (threading.current_thread() is not threading.main_thread()
-            or signal.getsignal(signal.SIGTERM) is signal.SIG_IGN):
+def _stop_signals() -> Iterator[None]:
+    """Ctrl-C and SIGTERM stop a command the same way: at once, exit status 130, nothing
+    half-written (Python's default for SIGTERM is to die on the spot, mid-write).
+
+    Python runs a signal handler on the main thread between bytecodes, so a main thread
+    inside a long library call (gmsh meshing a site file while the case is read) would
+    hold the signal until the call returns, for ever if it hangs. A watch thread learns of
+    every signal at once through the wakeup file descriptor; when the main thread has not
+    taken it within GRACE_S, and no output is being written, the watch ends the process
+    itself: it removes any staging folder and lock (solver.outdir) and exits with 130.
+    """
+    if threading.current_thread() is not threading.main_thread():
         yield
         return
-    previous = signal.signal(signal.SIGTERM, _raise_interrupt)
+    previous = {s: signal.signal(s, _stop) for s in STOP_SIGNALS if signal.getsignal(s) is not signal.SIG_IGN}
+    read_fd, write_fd = os.pipe()
+    os.set_blocking(write_fd, False)
+    old_fd = signal.set_wakeup_fd(write_fd, warn_on_full_buffer=False)
+    watch = threading.Thread(target=_watch, args=(read_fd, set(previous)), name="bearbound-signals", daemon=True)
+    watch.start()
     try:
         yield
     finally:
-        signal.signal(signal.SIGTERM, previous)
+        signal.set_wakeup_fd(old_fd)
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+        os.close(write_fd)  # the watch reads the end of the pipe and stops
+        watch.join()
+
+
+def _watch(read_fd: int, stops: set[int]) -> None:
+    try:
+        while data := os.read(read_fd, 64):
+            if not stops.intersection(data) or _HOLDING.is_set():
+                continue
+            if _HANDLED.wait(GRACE_S) or _HOLDING.is_set():
+                _HANDLED.clear()
+                continue
+            print("bearbound: interrupted inside a library call; no output was left half-written",
+                  file=sys.stderr, flush=True)
+            abandon_open_folders()
+            os._exit(130)
+    finally:
+        os.close(read_fd)
 
 
 @contextlib.contextmanager
@@ -215,9 +252,11 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
         return
     held = [s for s in STOP_SIGNALS if signal.getsignal(s) is not signal.SIG_IGN]
     previous = {s: signal.signal(s, lambda signum, frame: arrived.append(signum)) for s in held}
+    _HOLDING.set()
     try:
         yield arrived
     finally:
+        _HOLDING.clear()
         for s, handler in previous.items():
             signal.signal(s, handler)
 

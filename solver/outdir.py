@@ -27,11 +27,14 @@ import fcntl
 import os
 import shutil
 import tempfile
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 
 from .case import CaseError, shown
 
+# Clean-ups of the folders open in this process, for a stop that cannot wait for the
+# main thread (solver.cli's signal watch): staging folders and locks, never a finished run.
+_OPEN: dict[int, Callable[[], None]] = {}
 MAX_NAME_BYTES = 100  # a folder name; file systems allow 255, messages and paths stay readable
 _NAME_EXTRA = " -_.+()"  # besides letters and digits, what a folder name keeps
 
@@ -48,6 +51,13 @@ def folder_name(stem: str, default: str) -> str:
     kept = kept.encode("utf-8")[:MAX_NAME_BYTES].decode("utf-8", errors="ignore")
     kept = kept.lstrip(". ").rstrip(" ")
     return kept or default
+
+
+def abandon_open_folders() -> None:
+    """Remove the staging folders and locks of this process (it is about to exit)."""
+    for cleanup in list(_OPEN.values()):
+        with contextlib.suppress(Exception):
+            cleanup()
 
 
 def _refuse(where: str, path: Path, why: str) -> CaseError:
@@ -117,6 +127,7 @@ def _lock(target: Path, shown_as: Path, where: str) -> Iterator[None]:
         if same:
             break
         os.close(fd)
+    _OPEN[fd] = lambda: os.unlink(lock_path)
     try:
         os.ftruncate(fd, 0)
         os.write(fd, f"{os.getpid()}\n".encode("ascii"))
@@ -124,6 +135,7 @@ def _lock(target: Path, shown_as: Path, where: str) -> Iterator[None]:
             shutil.rmtree(stale, ignore_errors=True)
         yield
     finally:
+        _OPEN.pop(fd, None)
         with contextlib.suppress(OSError):
             os.unlink(lock_path)
         os.close(fd)
@@ -170,6 +182,7 @@ class RunFolder:
                 raise _refuse(self.where, self.shown_as, f"cannot write in {shown(self.path.parent)} "
                                                          f"({_reason(error)})") from None
             self.staging.chmod(0o777 & ~_umask())  # mkdtemp makes it private; a run folder is not
+            _OPEN[id(self)] = self._abandon
         except BaseException:
             self._cleanup()
             raise
@@ -230,7 +243,17 @@ class RunFolder:
             self.staging = None
         self._published = True
 
+    def _abandon(self) -> None:
+        """From the signal watch, the main thread stuck in a library call: nothing is being
+        written (the writing holds stop signals), so the staging folder can go."""
+        if not self._published and self.staging is not None:
+            shutil.rmtree(self.staging, ignore_errors=True)
+            for folder in reversed(self._created):  # its lock is removed before (opened before)
+                with contextlib.suppress(OSError):
+                    folder.rmdir()
+
     def _cleanup(self) -> None:
+        _OPEN.pop(id(self), None)
         if self.staging is not None:
             shutil.rmtree(self.staging, ignore_errors=True)
             self.staging = None
