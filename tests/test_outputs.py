@@ -308,3 +308,38 @@ def test_a_fifo_is_refused_even_while_a_writer_waits(tmp_path: Path) -> None:
     writer.start()
     done = bearbound("run", "pipe.toml", cwd=tmp_path, timeout=60)
     one_line(done, 2, "is a named pipe (FIFO)")
+
+
+STUCK = """\
+import ctypes, signal, sys
+from pathlib import Path
+import solver.cli
+from solver.outdir import RunFolder
+
+def stuck(args):
+    with RunFolder(Path("out/stuck"), ("result.json",)) as folder:
+        # The main thread inside a library call that no signal interrupts (as gmsh meshing
+        # a drawing): SIGTERM blocked here goes to another thread, and libc's sleep holds
+        # the main thread without returning to Python.
+        signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM})
+        print(folder.staging.name, flush=True)
+        ctypes.CDLL(None).sleep(60)
+    return 0
+
+solver.cli._hand = stuck
+sys.exit(solver.cli.main(["hand", "any.toml"]))
+"""
+
+
+def test_sigterm_while_a_library_call_holds_the_main_thread_ends_the_run(tmp_path: Path) -> None:
+    run = subprocess.Popen([sys.executable, "-c", STUCK], cwd=tmp_path, stdout=subprocess.PIPE,
+                           stderr=subprocess.PIPE, text=True)
+    staging = run.stdout.readline().strip()
+    assert staging.startswith(".stuck.new-") and (tmp_path / "out" / staging).is_dir()
+    sent = time.perf_counter()
+    run.send_signal(signal.SIGTERM)
+    out, err = run.communicate(timeout=50)  # the call holds the main thread for 60 s
+    assert run.returncode == 130, err
+    assert time.perf_counter() - sent < 30
+    assert err == "bearbound: interrupted inside a library call; no output was left half-written\n"
+    assert list(tmp_path.iterdir()) == []  # staging folder, lock and the out/ made for it: all gone
