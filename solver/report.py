@@ -150,12 +150,18 @@ def write_report(run: Run, figures: dict) -> Path:
 # -- HTML ---------------------------------------------------------------------------
 
 def esc(value) -> str:
-    """HTML-escaped text (quotes too, so it is safe in attributes).
+    """HTML-escaped text (quotes too, so it is safe in attributes); control and format
+    characters (escape codes, text-direction overrides) written as escapes, line breaks kept.
 
     >>> esc('<script>alert("x")</script>')
     '&lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt;'
+    >>> print(esc("a\\u202eb"))
+    a\u202eb
     """
-    return html.escape("" if value is None else str(value), quote=True)
+    text = "" if value is None else str(value)
+    if not text.isprintable():
+        text = "\n".join(shown(line, len(line) * 10 + 3) for line in text.split("\n"))
+    return html.escape(text, quote=True)
 
 
 def num(value, digits: int = 1, unit: str = "") -> str:

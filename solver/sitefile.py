@@ -983,6 +983,9 @@ def _msh_groups(gmsh, name: str) -> tuple[dict, dict]:
         if not group:
             raise CaseError(f"{name}: physical group {tag} ({'curves' if dim == 1 else 'surfaces'}) has no name; "
                             "the groups are named by the convention of meshes/README.md")
+        if not group.isprintable() or len(group) > 80:  # as a .geo's names (_Parser.statement)
+            raise CaseError(f"{name}: physical group {tag} has the name {shown(repr(group), 60)}; must be a "
+                            "one-line name of 1 to 80 characters")
         table = curve_groups if dim == 1 else surface_groups
         table[group] = tuple(table.get(group, ())) + tuple(int(t) for t in gmsh.model.getEntitiesForPhysicalGroup(dim, tag))
     return surface_groups, curve_groups

@@ -152,7 +152,7 @@ def load_sweep(path: str | pathlib.Path) -> Sweep:
     path = pathlib.Path(path)
     data = _read_toml(path)
     if isinstance(data, dict) and "base" not in data and ("footing" in data or "layers" in data):
-        raise CaseError(f"{path}: a case file, not a sweep file; a sweep file names its case with "
+        raise CaseError(f"{shown(path, 200)}: a case file, not a sweep file; a sweep file names its case with "
                         "base = \"case.toml\" (or an inline [base] table) and holds a [vary] table")
     return parse_sweep(data, name=path.stem, folder=path.parent)
 
@@ -161,7 +161,7 @@ def _read_toml(path: pathlib.Path) -> dict:
     """The same guards as :func:`solver.case.load_case`, for a sweep file."""
     data, _ = read_toml_file(path, "sweep file")
     if data is None:
-        raise CaseError(f"{path}: the file is empty; a sweep file needs a base case and a [vary] table")
+        raise CaseError(f"{shown(path, 200)}: the file is empty; a sweep file needs a base case and a [vary] table")
     return data
 
 
@@ -187,7 +187,7 @@ def parse_sweep(data: dict, *, name: str = "sweep", folder: str | pathlib.Path =
         raise _not_allowed("sweep", data, "a table of keys")
     for key in data:
         if key not in SWEEP_KEYS:
-            raise CaseError(f"{key}: unknown key; {_did_you_mean(str(key), list(SWEEP_KEYS))}")
+            raise CaseError(f"{shown(key, 80)}: unknown key; {_did_you_mean(str(key), list(SWEEP_KEYS))}")
     base_case = _read_base(data.get("base"), name, pathlib.Path(folder))
     base = case_to_dict(base_case)
     title = data.get("title", base_case.title)
@@ -251,7 +251,7 @@ def _read_base(raw: Any, name: str, folder: pathlib.Path) -> Case:
             return load_case(path)
         except CaseError as error:
             text = str(error)
-            raise CaseError(text if text.startswith(str(path)) else f"base ({path}): {text}") from None
+            raise CaseError(text if text.startswith(shown(path, 200)) else f"base ({shown(path, 200)}): {text}") from None
     if isinstance(raw, dict):
         try:
             return parse_case(raw, name=name)
@@ -267,7 +267,7 @@ def _flatten(table: dict, prefix: str) -> dict[str, Any]:
         path = f"{prefix}{key}"
         if isinstance(value, dict) and not any(k in value for k in RANGE_KEYS):
             if not value:
-                raise _not_allowed(f"vary.{path}", value, "a list of values or {start, stop, num}")
+                raise _not_allowed(shown(f"vary.{path}", 80), value, "a list of values or {start, stop, num}")
             flat.update(_flatten(value, path + "."))
         else:
             flat[path] = value
@@ -299,7 +299,7 @@ def _resolve_key(key: str, base: dict, varied: set[str], where: str) -> tuple[Ke
                             f"from 0 (0 to {len(layers) - 1}), e.g. layers.0.thickness")
         index, name = parts[1], parts[2]
         if not index.isdigit() or int(index) >= len(layers):
-            raise CaseError(f"{where}: layer index {index!r} is not allowed; must be 0 to {len(layers) - 1} "
+            raise CaseError(f"{where}: layer index {_show(index)} is not allowed; must be 0 to {len(layers) - 1} "
                             f"(counted from 0, top to bottom; the base case has {len(layers)} layers)")
         layer = layers[int(index)]
         models = list(MODEL_KEYS) if f"layers.{index}.model" in varied else [layer["model"]]
@@ -320,7 +320,7 @@ def _resolve_key(key: str, base: dict, varied: set[str], where: str) -> tuple[Ke
 
 
 def _read_parameter(key: str, spec: Any, base: dict, varied: set[str]) -> Parameter:
-    where = f"vary.{key}"
+    where = shown(f"vary.{key}", 80)
     schema, label, unit = _resolve_key(key, base, varied, where)
     if isinstance(spec, dict):
         values = _read_range(spec, where)
@@ -348,7 +348,7 @@ def _read_parameter(key: str, spec: Any, base: dict, varied: set[str]) -> Parame
 def _read_range(spec: dict, where: str) -> tuple[float, ...]:
     for key in spec:
         if key not in RANGE_KEYS:
-            raise CaseError(f"{where}.{key}: unknown key of a range; {_did_you_mean(str(key), list(RANGE_KEYS))}")
+            raise CaseError(f"{shown(f'{where}.{key}', 80)}: unknown key of a range; {_did_you_mean(str(key), list(RANGE_KEYS))}")
     for key in RANGE_KEYS:
         if key not in spec:
             raise CaseError(f"{where}.{key}: missing; a range needs start, stop and num")
@@ -408,7 +408,7 @@ def _make_point(index: int, values: dict[str, Any], base: dict, name: str) -> Po
 
 
 def _values_text(values: dict[str, Any]) -> str:
-    return ", ".join(f"{k} = {_show(v)}" for k, v in values.items())
+    return ", ".join(f"{shown(k, 80)} = {_show(v)}" for k, v in values.items())
 
 
 def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base: dict,
@@ -417,7 +417,7 @@ def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base:
         raise _not_allowed("chart", raw, "a table [chart]")
     for key in raw:
         if key not in CHART_KEYS:
-            raise CaseError(f"chart.{key}: unknown key; {_did_you_mean(str(key), list(CHART_KEYS))}")
+            raise CaseError(f"{shown(f'chart.{key}', 80)}: unknown key; {_did_you_mean(str(key), list(CHART_KEYS))}")
     output = raw.get("output", "pressure")
     if output not in OUTPUTS:
         raise _not_allowed("chart.output", output, "one of " + ", ".join(repr(o) for o in OUTPUTS))
