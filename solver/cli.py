@@ -18,6 +18,7 @@ import os
 import signal
 import sys
 import threading
+import warnings
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
@@ -33,7 +34,7 @@ def main(argv: list[str] | None = None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     try:
-        with _stop_signals():
+        with _stop_signals(), _library_warnings():
             return args.handler(args)
     except CaseError as error:
         print(f"bearbound: {error}", file=sys.stderr)
@@ -156,6 +157,30 @@ def _solve_and_write(args, case, out_dir: Path, folder):
         raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
                                 f"first and are whole in {shown(out_dir, 200)}")
     return result
+
+
+@contextlib.contextmanager
+def _library_warnings() -> Iterator[None]:
+    """Warnings from the libraries (numpy, matplotlib, dask, ...) never reach the terminal: a
+    user cannot act on them, and real trouble is reported as trouble (a withheld bound with
+    its cause, a one-line error). They are kept and, with BEARBOUND_TRACEBACK=1, printed
+    after the command, one line each. Only how a warning is shown changes, never the
+    filters: an exception is never turned into a warning, and ``python -W error`` still
+    makes warnings errors."""
+    kept: list[str] = []
+
+    def keep(message, category, filename, lineno, file=None, line=None) -> None:
+        kept.append(shown(f"{category.__name__}: {' '.join(str(message).split())} ({Path(filename).name}:{lineno})",
+                          300))
+
+    with warnings.catch_warnings():
+        warnings.showwarning = keep
+        try:
+            yield
+        finally:
+            if os.environ.get("BEARBOUND_TRACEBACK"):
+                for text in dict.fromkeys(kept):
+                    print(f"bearbound: library warning: {text}", file=sys.stderr)
 
 
 class _SolveAbandoned(KeyboardInterrupt):

@@ -867,6 +867,8 @@ def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter],
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
 
+    from .pictures import missing_glyphs_quiet
+
     chart = sweep.chart
     x_param = params[chart.x]
     line_param = params[chart.lines] if chart.lines else None
@@ -911,8 +913,8 @@ def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter],
         path = out_dir / f"{stem}.{fmt}"
         tmp = out_dir / f".{stem}.{fmt}.tmp"
         try:
-            with rc_context({"svg.fonttype": "none", "svg.hashsalt": "bearbound"}):  # SVG text stays text
-                figure.savefig(tmp, format=fmt, dpi=150)
+            with rc_context({"svg.fonttype": "none", "svg.hashsalt": "bearbound"}), missing_glyphs_quiet():
+                figure.savefig(tmp, format=fmt, dpi=150)  # SVG text stays text
             os.replace(tmp, path)
         finally:
             tmp.unlink(missing_ok=True)

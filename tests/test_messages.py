@@ -100,3 +100,49 @@ def test_a_strange_case_name_is_escaped_in_the_summary_and_report(tmp_path: Path
     assert "\u202e" not in done.stdout + done.stderr
     report = (tmp_path / "run" / "report.html").read_text(encoding="utf-8")
     assert "\u202e" not in report and "site\\u202eevil" in report
+
+
+# -- library warnings ----------------------------------------------------------------------------
+
+def test_characters_the_font_lacks_give_no_warning(tmp_path: Path) -> None:
+    """A title and a layer name in a script the pictures' font lacks: the pictures show
+    boxes there (the report has the text); matplotlib's warning per glyph stays off the terminal."""
+    text = QUICK.replace("[footing]", 'title = "基礎 🏗 footing"\n[footing]').replace('"clay"', '"粘土 🧱"')
+    (tmp_path / "cjk.toml").write_text(text, encoding="utf-8")
+    done = bearbound("run", "cjk.toml", cwd=tmp_path)
+    assert done.returncode == 0 and done.stderr == "", done.stderr
+    assert (tmp_path / "out" / "cjk" / "model.png").is_file()
+    assert "粘土 🧱" in (tmp_path / "out" / "cjk" / "report.html").read_text(encoding="utf-8")
+
+
+NOISY = """\
+import sys, warnings
+import numpy as np
+import solver.cli
+
+def noisy(args):
+    np.log(np.zeros(1))  # numpy: RuntimeWarning, divide by zero
+    warnings.warn("a library's remark", UserWarning)
+    print("done")
+    return 0
+
+solver.cli._hand = noisy
+sys.exit(solver.cli.main(["hand", "any.toml"]))
+"""
+
+
+def test_library_warnings_stay_off_the_terminal_but_errors_do_not(tmp_path: Path) -> None:
+    def run(*options: str, **env: str) -> subprocess.CompletedProcess:
+        import os
+
+        return subprocess.run([sys.executable, *options, "-c", NOISY], cwd=tmp_path, capture_output=True,
+                              text=True, timeout=60, env={**os.environ, **env})
+
+    quiet = run()
+    assert quiet.returncode == 0 and quiet.stdout == "done\n" and quiet.stderr == ""
+    loud = run(BEARBOUND_TRACEBACK="1")  # developers see them, one line each, after the command
+    lines = loud.stderr.splitlines()
+    assert len(lines) == 2 and all(line.startswith("bearbound: library warning: ") for line in lines)
+    assert "RuntimeWarning: divide by zero" in lines[0] and "UserWarning: a library's remark" in lines[1]
+    strict = run("-W", "error::RuntimeWarning")  # a warning made an error stays an error
+    assert strict.returncode == 3 and "internal error" in strict.stderr and "divide by zero" in strict.stderr

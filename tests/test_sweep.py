@@ -224,7 +224,7 @@ def test_cli_sweep_records_a_failed_point_and_goes_on(tmp_path):
         "unit_weight = 0.0",
         "[base.analysis]", "elements = 400"])
     (tmp_path / "clay-sweep.toml").write_text(
-        'title = "Test sweep"\n[vary]\n"layers.1.undrained_strength" = [0.0, 20.0]\n'
+        'title = "Test sweep 粘土"\n[vary]\n"layers.1.undrained_strength" = [0.0, 20.0]\n'
         '[chart]\ndivide_by = "layers.0.undrained_strength"\nformats = ["png", "svg"]\n' + base + "\n")
     done = subprocess.run([sys.executable, "-m", "solver.cli", "sweep", "clay-sweep.toml", "--workers", "1",
                            "--no-progress"], cwd=tmp_path, capture_output=True, text=True, timeout=300)
@@ -239,6 +239,7 @@ def test_cli_sweep_records_a_failed_point_and_goes_on(tmp_path):
     assert "undrained strength of &#39;soft clay&#39; (kPa)" in svg or "undrained strength of 'soft clay' (kPa)" in svg
     assert "collapse pressure q / undrained strength of" in svg and "(-)" in svg
     assert "point 0" in done.stdout and "Caution" in done.stdout
+    assert done.stderr == ""  # no library warning (the font lacks the title's glyphs), no log line
 
 
 def test_more_keys_than_two_give_one_chart_per_combination(tmp_path):
