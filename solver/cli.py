@@ -149,10 +149,14 @@ def _solve_and_write(args, case, out_dir: Path, folder):
 
     result = _solve_interruptibly(solve_case, out_dir)
     with _interrupt_after_writing() as interrupted:
-        write_result(result, folder.staging)
-        write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
-                        report=not args.no_report)
-        folder.publish()
+        try:
+            write_result(result, folder.staging)
+            write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
+                            report=not args.no_report)
+            folder.publish()
+        except OSError as error:  # the disk filled up, the folder was taken away: not a defect
+            raise CaseError(f"--out: cannot write the outputs to {shown(out_dir, 200)} "
+                            f"({shown(error.strerror or error, 100)}); anything there before is unchanged") from None
     if interrupted:
         raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
                                 f"first and are whole in {shown(out_dir, 200)}")

@@ -26,6 +26,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .case import CaseError, open_regular, shown
+
 LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
 PICTURE_NAMES = ("model", "mechanism", "stress")
@@ -133,8 +135,6 @@ def outputs_overwriting(case_path: Path, out_dir: Path) -> Path | None:
 
 def read_regular_bytes(path: Path) -> bytes:
     """A file's bytes, refusing a FIFO, device or socket put in its place (it would block)."""
-    from .case import open_regular
-
     with open_regular(path) as stream:
         return stream.read()
 
@@ -151,7 +151,7 @@ def save_case_copy(case_path: Path, sha256: str, out_dir: Path) -> Path:
         return target
     data = read_regular_bytes(source)
     if hashlib.sha256(data).hexdigest() != sha256:
-        raise RuntimeError(f"{source}: the case file changed during the run; not copied")
+        raise CaseError(f"{shown(source, 200)}: the case file changed during the run; run the case again")
     write_bytes_atomic(target, data)
     return target
 
@@ -166,7 +166,7 @@ def save_site_copy(geometry, out_dir: Path) -> Path | None:
     source = Path(geometry.file)
     data = read_regular_bytes(source)
     if hashlib.sha256(data).hexdigest() != geometry.sha256:
-        raise RuntimeError(f"{source}: the site file changed during the run; not copied")
+        raise CaseError(f"{shown(source, 200)}: the site file changed during the run; run the case again")
     target = Path(out_dir) / (SITE_COPY + source.suffix.lower())
     write_bytes_atomic(target, data)
     return target

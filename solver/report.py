@@ -88,6 +88,9 @@ def load_run(out_dir: Path) -> Run:
         case = _load_case_copy(case_path, out_dir)
     except CaseError as error:
         raise ReportError(f"{shown(case_path, 200)}: {error}") from None
+    except (OSError, UnicodeDecodeError, ValueError) as exc:  # unreadable, not UTF-8, not TOML (edited by hand)
+        raise ReportError(f"{shown(case_path, 200)}: not a readable case file "
+                          f"({shown(' '.join(str(exc).split()), 200)})") from None
     if case.source_sha256 != data["case"].get("sha256"):
         raise ReportError(f"{shown(case_path, 200)}: its SHA-256 differs from the case recorded in result.json; "
                           "the report would restate other inputs than those solved")

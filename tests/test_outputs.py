@@ -184,8 +184,10 @@ def test_an_error_while_writing_leaves_the_earlier_run_whole(
 
     monkeypatch.setattr(solver.report, "write_run_files", fails_half_way)
     (tmp_path / "clay.toml").write_text(QUICK.replace("30.0", "35.0"), encoding="utf-8")
-    assert solver.cli.main(["run", "clay.toml", "--no-pictures"]) == 3
-    assert "No space left on device" in capsys.readouterr().err
+    assert solver.cli.main(["run", "clay.toml", "--no-pictures"]) == 2
+    err = capsys.readouterr().err
+    assert err == ("bearbound: --out: cannot write the outputs to out/clay (No space left on device); anything "
+                   "there before is unchanged\n")
     assert {p.name: p.read_bytes() for p in run.iterdir()} == before  # the earlier run, every byte
     assert [p.name for p in (tmp_path / "out").iterdir()] == ["clay"]
 
@@ -343,3 +345,12 @@ def test_sigterm_while_a_library_call_holds_the_main_thread_ends_the_run(tmp_pat
     assert time.perf_counter() - sent < 30
     assert err == "bearbound: interrupted inside a library call; no output was left half-written\n"
     assert list(tmp_path.iterdir()) == []  # staging folder, lock and the out/ made for it: all gone
+
+
+def test_report_on_a_hand_edited_case_copy_is_bad_input(tmp_path: Path) -> None:
+    (tmp_path / "clay.toml").write_text(QUICK, encoding="utf-8")
+    assert bearbound("run", "clay.toml", "--no-pictures", "--no-report", cwd=tmp_path).returncode == 0
+    for text in (b"[footing\n", b"\xff\xfe not UTF-8"):
+        (tmp_path / "out" / "clay" / "case.toml").write_bytes(text)
+        done = bearbound("report", "out/clay", cwd=tmp_path)
+        one_line(done, 2, "out/clay/case.toml: not a readable case file")
