@@ -3,11 +3,13 @@
 Exit status: 0 when every bound asked for is certified; 1 when a bound is
 withheld (solver trouble or a failed certificate; the result still says why);
 2 for bad input (one line naming the key, the value and what is allowed,
-nothing written); 130 when interrupted (nothing half-written: a run writes its
-outputs only once every bound is solved, each to a temporary file renamed into
-place, and a Ctrl-C while they are written waits until all are whole); 3 for
-an internal error (a defect, not bad input: one line naming the error; set
-BEARBOUND_TRACEBACK=1 for the traceback).
+nothing written), an output folder that cannot be used, or one that could not
+be written to the end; 130 when interrupted by Ctrl-C or SIGTERM (nothing
+half-written: a run writes its outputs into a staging folder only once every
+bound is solved and swaps it in whole, and a stop while they are written waits
+until all are whole); 3 for an internal error (a defect, not bad input: one
+line naming the error; set BEARBOUND_TRACEBACK=1 for the traceback and the
+library warnings, which are otherwise not printed).
 """
 from __future__ import annotations
 

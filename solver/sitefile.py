@@ -1022,7 +1022,8 @@ def _read_msh(gmsh, raw: bytes, name: str) -> _Raw:
         try:
             gmsh.open(str(copy))
         except Exception as exc:
-            raise CaseError(f"{name}: gmsh cannot read it as a mesh ({' '.join(str(exc).split())})") from None
+            reason = shown(" ".join(str(exc).split()), 200) or "no reason given"
+            raise CaseError(f"{name}: gmsh cannot read it as a mesh ({reason})") from None
     surface_groups, curve_groups = _msh_groups(gmsh, name)
     return _extract(gmsh, name, surface_groups, curve_groups)
 
