@@ -161,10 +161,11 @@ class RunFolder:
     (['clay'], ['result.json'])
     """
 
-    def __init__(self, out_dir: Path, known: Iterable[str], where: str = "--out") -> None:
+    def __init__(self, out_dir: Path, known: Iterable[str], where: str = "--out", marker: str = "result.json") -> None:
         self.shown_as = Path(out_dir)
         self.where = where
         self.known = frozenset(known)
+        self.marker = marker  # the file every finished run leaves: a folder without it is no earlier run's
         self.path = _target(self.shown_as, where, replaced=True)  # final place, absolute
         self.staging: Path | None = None
         self._created: list[Path] = []  # folders made for this run, removed again if it writes nothing
@@ -205,10 +206,12 @@ class RunFolder:
         except OSError as error:
             raise _refuse(self.where, self.shown_as, f"cannot read it ({_reason(error)})") from None
         foreign = sorted(e.name for e in entries if not self._ours(e))
+        if not foreign and entries and not (path / self.marker).is_file():  # e.g. your own case.toml alone
+            foreign = sorted(e.name for e in entries)
         if foreign:
             more = f" and {len(foreign) - 1} more" if len(foreign) > 1 else ""
-            raise _refuse(self.where, self.shown_as, f"it holds {shown(foreign[0])}{more}, which a run does not "
-                                                     "write; a run replaces the whole folder, so choose a new or "
+            raise _refuse(self.where, self.shown_as, f"it holds {shown(foreign[0])}{more}, which is not an earlier "
+                                                     "run's; a run replaces the whole folder, so choose a new or "
                                                      "empty folder or an earlier run's")
 
     def _ours(self, entry: Path) -> bool:
@@ -236,7 +239,12 @@ class RunFolder:
         if self.path.exists():
             old = Path(tempfile.mkdtemp(prefix=f".{self.path.name}.old-", dir=self.path.parent))
             os.replace(self.path, old / "run")
-            os.replace(self.staging, self.path)
+            try:
+                os.replace(self.staging, self.path)
+            except BaseException:  # put the earlier run back
+                os.replace(old / "run", self.path)
+                old.rmdir()
+                raise
             self.staging = old
         else:
             os.replace(self.staging, self.path)

@@ -144,8 +144,14 @@ def test_out_with_other_files_is_refused_and_left_alone(tmp_path: Path) -> None:
     notes.mkdir()
     (notes / "site visit.txt").write_text("keep me\n")
     done = bearbound("run", "clay.toml", "--out", "notes", cwd=tmp_path)
-    one_line(done, 2, "it holds site visit.txt, which a run does not write")
+    one_line(done, 2, "it holds site visit.txt, which is not an earlier run's")
     assert [p.name for p in notes.iterdir()] == ["site visit.txt"]
+    own = tmp_path / "project"  # a file named as a run's copy, but no run's folder (no result.json)
+    own.mkdir()
+    (own / "case.toml").write_text("# another case, the user's own\n")
+    one_line(bearbound("run", "clay.toml", "--out", "project", cwd=tmp_path), 2,
+             "it holds case.toml, which is not an earlier run's")
+    assert (own / "case.toml").read_text() == "# another case, the user's own\n"
     for folder in (".", str(tmp_path)):  # the working folder: the swap would take the case file with it
         done = bearbound("run", "clay.toml", "--out", folder, cwd=tmp_path)
         one_line(done, 2, "it is the working folder or holds it")
@@ -236,11 +242,14 @@ def test_a_folder_another_run_is_writing_is_refused(tmp_path: Path) -> None:
         done = bearbound("run", "clay.toml", "--out", "shared", cwd=tmp_path)
         one_line(done, 2, "--out: shared is not allowed; another bearbound run",
                  f"(process {os.getpid()}) is writing there")
-        sweep = bearbound("sweep", "no-such-sweep.toml", "--out", "shared", cwd=tmp_path)
-        assert sweep.returncode == 2  # the sweep file is checked first
+        (tmp_path / "s.toml").write_text('base = "clay.toml"\n[vary]\n"footing.width" = [1.0]\n', encoding="utf-8")
+        sweep = bearbound("sweep", "s.toml", "--out", "shared", cwd=tmp_path)
+        one_line(sweep, 2, "--out: shared is not allowed; another bearbound run")  # before any worker starts
         report = bearbound("report", "shared", cwd=tmp_path)
         one_line(report, 2, "another bearbound run")
     assert not any((tmp_path / "shared").iterdir())
+    one_line(bearbound("sweep", "s.toml", "--out", "clay.toml", cwd=tmp_path), 2, "--out: clay.toml is not allowed; "
+             "it is a file")
     done = bearbound("run", "clay.toml", "--out", "shared", cwd=tmp_path)  # free again
     assert done.returncode == 0, done.stderr
 
