@@ -19,8 +19,8 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from .case import CaseError, shown
-from .export import (CASE_COPY, FIELDS_FILE, BoundFields, read_regular_bytes, bound_fields, read_fields_vtu, save_case_copy,
-                     save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
+from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
+                     save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
 from .result import CAUTION
 

@@ -363,3 +363,12 @@ def test_report_on_a_hand_edited_case_copy_is_bad_input(tmp_path: Path) -> None:
         (tmp_path / "out" / "clay" / "case.toml").write_bytes(text)
         done = bearbound("report", "out/clay", cwd=tmp_path)
         one_line(done, 2, "out/clay/case.toml: not a readable case file")
+
+
+def test_doctests() -> None:
+    import doctest
+
+    import solver.outdir
+
+    failures, _ = doctest.testmod(solver.outdir)
+    assert failures == 0
