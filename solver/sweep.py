@@ -502,6 +502,19 @@ def _failed(reason: str, wall_s: float | None) -> dict:
 # point outruns the limit; the next point starts a fresh one. One JSON line each way.
 
 _POINT_PROCESS = threading.local()
+_ALL_POINT_PROCESSES: list = []  # of this worker process, closed and reaped when it exits
+
+
+def _close_point_processes() -> None:
+    """At the worker's exit: close each point process's input (it then ends) and wait for it,
+    so that its CPU time is counted as the worker's (rusage of waited-for children)."""
+    for process in _ALL_POINT_PROCESSES:
+        with contextlib.suppress(OSError):
+            process.stdin.close()
+        try:
+            process.wait(timeout=10)
+        except Exception:  # still busy: stop it
+            _stop_point_process(process)
 
 
 def solve_point_limited(case_dict: dict, name: str, time_limit_s: float) -> dict:
@@ -544,6 +557,11 @@ def _start_point_process():
     if _read_line(process, POINT_START_S) != b"ready\n":
         _stop_point_process(process)
         return f"the point's process did not start within {POINT_START_S:g} s"
+    if not _ALL_POINT_PROCESSES:
+        import atexit
+
+        atexit.register(_close_point_processes)
+    _ALL_POINT_PROCESSES[:] = [p for p in _ALL_POINT_PROCESSES if p.poll() is None] + [process]
     return process
 
 
