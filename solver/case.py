@@ -19,7 +19,9 @@ import hashlib
 import math
 import numbers
 import operator
+import os
 import pathlib
+import stat
 import tomllib
 import unicodedata
 from dataclasses import dataclass
@@ -257,6 +259,20 @@ NOT_WITH_GEOMETRY = (
 
 # -- reading ------------------------------------------------------------------
 
+def shown(text: Any, limit: int = 120) -> str:
+    """User text (a key, a path, a name) as it may appear in one line of a message or a
+    report: control characters and terminal escape codes written as escapes (``\\n``,
+    ``\\x1b``), at most ``limit`` characters.
+
+    >>> shown("clay\\x1b[2J\\nnext"), shown("k" * 200, 20)
+    ('clay\\\\x1b[2J\\\\nnext', 'kkkkkkkkkkkkkkkkk...')
+    """
+    text = str(text)
+    if not text.isprintable():
+        text = "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+    return text if len(text) <= limit else text[:limit - 3] + "..."
+
+
 def _show(value: Any) -> str:
     """repr of a value, cut short and on one line, for a message (booleans as TOML spells them)."""
     text = str(value).lower() if isinstance(value, bool) else " ".join(repr(value).split())
@@ -277,7 +293,7 @@ def _check_keys(table: dict, allowed: dict, path: str,
     """Raise on the first key of ``table`` the schema ``allowed`` does not list."""
     for key in table:
         if key not in allowed:
-            where = f"{path}.{key}" if path else str(key)
+            where = shown(f"{path}.{key}" if path else key, 80)
             if foreign and key in foreign:
                 raise CaseError(f"{where}: {foreign[key]}")
             raise CaseError(f"{where}: unknown key; {_did_you_mean(str(key), list(allowed))}")
@@ -429,7 +445,7 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
     parts["ground"] = dataclasses.replace(ground, crest_setback=ground.crest_setback or 0.0)
     if drawn:
         _check_consistency(parts["footing"], parts["ground"], layers)
-        return Case(title=name if title is None else title, layers=layers, name=name,
+        return Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                     source_sha256=source_sha256, geometry=geometry, **parts)
 
     total = sum(layer.thickness for layer in layers[:-1]) + (layers[-1].thickness or math.inf)
@@ -438,7 +454,7 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
                            f"< {total:g} (m), the total thickness of the layers, so that the "
                            "footing base sits in soil (or leave out the last layer's thickness)")
     _check_consistency(parts["footing"], parts["ground"], layers)
-    case = Case(title=name if title is None else title, layers=layers, name=name,
+    case = Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
     _check_strata(case)
     return case
@@ -509,41 +525,73 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
                                f"<= friction_angle = {layer.friction_angle:g} (degrees)")
 
 
+class NotRegularFile(OSError):
+    """A path that is a FIFO, a device or a socket: reading it could block for ever or never end."""
+
+
+_FILE_KINDS = ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a character device"),
+               (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def open_regular(path: str | pathlib.Path):
+    """Open a file for reading in binary, refusing anything but a regular file before a
+    byte is read: the open itself does not block (O_NONBLOCK, for a FIFO with no
+    writer), and the kind is taken from the open file, so it cannot change in between.
+
+    Raises FileNotFoundError, IsADirectoryError, NotRegularFile or another OSError.
+    """
+    flags = os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOCTTY", 0) | getattr(os, "O_CLOEXEC", 0)
+    fd = os.open(path, flags)
+    try:
+        mode = os.fstat(fd).st_mode
+        if stat.S_ISDIR(mode):
+            raise IsADirectoryError(21, "Is a directory", str(path))
+        if not stat.S_ISREG(mode):
+            kind = next((name for test, name in _FILE_KINDS if test(mode)), "not a regular file")
+            raise NotRegularFile(0, kind, str(path))
+        os.set_blocking(fd, True)
+        return os.fdopen(fd, "rb")
+    except BaseException:
+        os.close(fd)
+        raise
+
+
 def read_toml_file(path: str | pathlib.Path, what: str = "case file") -> tuple[dict | None, bytes]:
     """Read a small TOML file (UTF-8, at most 1 MB): (its tables, or None when it is
     blank, and its bytes). Every problem with the file is one CaseError line
     naming the file; ``what`` names the kind of file in those lines."""
+    where = shown(path, 200)
     try:
         path = pathlib.Path(path)
-        with path.open("rb") as stream:
+        with open_regular(path) as stream:
             raw = stream.read(MAX_FILE_BYTES + 1)  # never read more than the limit
     except FileNotFoundError:
-        raise CaseError(f"{path}: no such {what}") from None
+        raise CaseError(f"{where}: no such {what}") from None
     except IsADirectoryError:
-        raise CaseError(f"{path}: is a directory; must be a {what} (TOML)") from None
+        raise CaseError(f"{where}: is a directory; must be a {what} (TOML)") from None
+    except NotRegularFile as exc:
+        raise CaseError(f"{where}: is {exc.strerror}, not a file; must be a {what} (TOML)") from None
     except (OSError, TypeError, ValueError) as exc:  # permissions, bad path type, NUL in the path
-        where = str(path) if str(path).isprintable() else _show(str(path))
-        reason = " ".join(str(exc).split())
-        raise CaseError(f"{where}: cannot read the {what} ({reason})") from None
+        raise CaseError(f"{where}: cannot read the {what} ({shown(' '.join(str(exc).split()), 200)})") from None
     if len(raw) > MAX_FILE_BYTES:
-        raise CaseError(f"{path}: larger than 1 MB; a {what} is short TOML text, "
+        raise CaseError(f"{where}: larger than 1 MB; a {what} is short TOML text, "
                         "is this the right file?")
     if b"\0" in raw:
-        raise CaseError(f"{path}: binary data (NUL bytes); must be a TOML text file")
+        raise CaseError(f"{where}: binary data (NUL bytes); must be a TOML text file")
     try:
         text = raw.decode("utf-8-sig")  # tolerate the byte-order mark some editors write
     except UnicodeDecodeError as exc:
         line = raw[:exc.start].count(b"\n") + 1
-        raise CaseError(f"{path}: not UTF-8 text (bad byte at line {line}); "
+        raise CaseError(f"{where}: not UTF-8 text (bad byte at line {line}); "
                         f"save the {what} as UTF-8") from None
     if not text.strip():
         return None, raw
     try:
         return tomllib.loads(text), raw
     except tomllib.TOMLDecodeError as exc:
-        raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
+        raise CaseError(f"{where}: not valid TOML: {shown(' '.join(str(exc).split()), 200)}") from None
     except RecursionError:  # tomllib reads nested arrays and tables recursively
-        raise CaseError(f"{path}: arrays or tables nested too deeply; a {what} nests a few levels") from None
+        raise CaseError(f"{where}: arrays or tables nested too deeply; a {what} nests a few levels") from None
 
 
 def load_case(path: str | pathlib.Path) -> Case:
@@ -555,7 +603,7 @@ def load_case(path: str | pathlib.Path) -> Case:
     data, raw = read_toml_file(path)
     path = pathlib.Path(path)
     if data is None:
-        raise CaseError(f"{path}: the file is empty; a case needs a [footing] table "
+        raise CaseError(f"{shown(path, 200)}: the file is empty; a case needs a [footing] table "
                         "and at least one [[layers]] table")
     return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest(),
                       base_dir=path.parent)

@@ -12,6 +12,7 @@ structured fan of triangles centred on each footing edge (:class:`FanLayout`).
 """
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import math
 import threading
@@ -614,10 +615,39 @@ def _size(r, B: float, domain: Domain, edge_size: float | None = None, grading: 
 def _start_gmsh():
     import gmsh
     # readConfigFiles/interruptible off: works off the main thread and in workers.
-    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    with _signal_actions_kept():
+        gmsh.initialize(readConfigFiles=False, interruptible=False)
     gmsh.option.setNumber("General.Terminal", 0)
     gmsh.option.setNumber("General.Verbosity", 0)
     return gmsh
+
+
+# gmsh.initialize resets these to the default action (measured: SIGTERM and SIGHUP), which
+# would kill the process mid-write on a SIGTERM that the command line handles as a Ctrl-C.
+_KEPT_SIGNALS = ("SIGTERM", "SIGHUP")
+
+
+@contextlib.contextmanager
+def _signal_actions_kept():
+    """Put back the process's signal actions for _KEPT_SIGNALS after the block, at the C
+    level (sigaction), so that it works from any thread, not only Python's main one."""
+    import ctypes
+    import signal
+
+    try:
+        sigaction = ctypes.CDLL(None, use_errno=True).sigaction
+    except (AttributeError, OSError):  # no C library sigaction: nothing to keep
+        yield
+        return
+    numbers = [int(getattr(signal, name)) for name in _KEPT_SIGNALS if hasattr(signal, name)]
+    saved = {number: ctypes.create_string_buffer(512) for number in numbers}  # > sizeof(struct sigaction)
+    for number, buffer in saved.items():
+        sigaction(number, None, buffer)
+    try:
+        yield
+    finally:
+        for number, buffer in saved.items():
+            sigaction(number, buffer, None)
 
 
 def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np.ndarray | None:
