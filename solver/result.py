@@ -14,6 +14,18 @@ from pathlib import Path
 
 from . import __version__
 
+def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
+    """A number as people read it: ``decimals`` fixed decimals while it is under a billion
+    in size, else four significant digits (a fixed format would print 309 digits for 1e308).
+
+    >>> figure(1234.5678, 2), figure(1e308), figure(-2.5e12, 1), figure(12345.0, 0, thousands=True)
+    ('1234.57', '1.000e+308', '-2.500e+12', '12,345')
+    """
+    if math.isfinite(value) and abs(value) < 1e9:
+        return f"{value:,.{decimals}f}" if thousands else f"{value:.{decimals}f}"
+    return f"{value:.3e}" if math.isfinite(value) else str(value)
+
+
 # The soil counts as moving faster than this fraction of the footing's velocity along the load: the
 # mechanism's stated extent (result.json) and its frame and arrows in the pictures use the same value.
 MOVING_SPEED_FRACTION = 0.05

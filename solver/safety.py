@@ -40,6 +40,7 @@ from dataclasses import replace
 from typing import Any, Callable
 
 from .model import Case, Factors, Layer
+from .result import figure
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
 F_RANGE = (0.05, 20.0)  # strength-reduction factors searched; outside it the factor is reported as beyond
@@ -151,8 +152,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         load = bound.load_kN_per_m
         evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
         if progress:
-            shown = "withheld" if load is None else f"{load:.1f} kN/m"
-            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {shown}")
+            text = "withheld" if load is None else f"{figure(load)} kN/m"
+            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
             failed.append(F)
             notes.append(f"the {kind} bound at F = {F:.4g} was withheld ({bound.status}); it is not used, "
@@ -378,17 +379,17 @@ def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: floa
     checks = []
     if lower_kN_per_m is not None and lower_kN_per_m >= P:
         checks.append(_verdict("design load carried", "met",
-                               f"the design load {P:.1f} kN/m is carried: the lower bound of the collapse "
-                               f"load{along}, {lower_kN_per_m:.1f} kN/m, is above it"))
+                               f"the design load {figure(P)} kN/m is carried: the lower bound of the collapse "
+                               f"load{along}, {figure(lower_kN_per_m)} kN/m, is above it"))
     elif upper_kN_per_m is not None and upper_kN_per_m < P:
         checks.append(_verdict("design load carried", "not met",
-                               f"the design load {P:.1f} kN/m is ABOVE the collapse load: the upper bound{along}, "
-                               f"{upper_kN_per_m:.1f} kN/m, is below it, so the footing collapses under "
-                               f"the design load (factor of safety on load at most {upper_kN_per_m / P:.3f})"))
+                               f"the design load {figure(P)} kN/m is ABOVE the collapse load: the upper bound{along}, "
+                               f"{figure(upper_kN_per_m)} kN/m, is below it, so the footing collapses under "
+                               f"the design load (factor of safety on load at most {figure(upper_kN_per_m / P, 3)})"))
     elif lower_kN_per_m is not None and upper_kN_per_m is not None:
         checks.append(_verdict("design load carried", "undecided",
-                               f"the design load {P:.1f} kN/m lies inside the collapse bracket{along} "
-                               f"[{lower_kN_per_m:.1f}, {upper_kN_per_m:.1f}] kN/m: the footing is at "
+                               f"the design load {figure(P)} kN/m lies inside the collapse bracket{along} "
+                               f"[{figure(lower_kN_per_m)}, {figure(upper_kN_per_m)}] kN/m: the footing is at "
                                "collapse under it, and the bracket cannot tell whether it is carried"))
     else:
         checks.append(_verdict("design load carried", "undecided",
@@ -401,7 +402,7 @@ def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: floa
         if R is None:
             continue
         lo, up = found.get("lower"), found.get("upper")
-        shown = f"[{'none' if lo is None else f'{lo:.3f}'}, {'none' if up is None else f'{up:.3f}'}]"
+        shown = f"[{'none' if lo is None else figure(lo, 3)}, {'none' if up is None else figure(up, 3)}]"
         check, head = f"required factor of safety {name}", f"required factor of safety {name} {R:g}"
         if lo is not None and lo >= R:
             checks.append(_verdict(check, "met", f"{head}: met (the factor is {shown}; its lower value, "
@@ -421,11 +422,12 @@ def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: floa
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
     """``{kind: work(kind, load)}`` for each (kind, load) asked, each on a thread of its
     own when ``parallel`` (analysis.Job)."""
-    from .analysis import Job
+    from .analysis import Job, finish
 
     jobs = {kind: Job(work, kind, load) for kind, load in asked}
     for job in jobs.values():
         job.start() if parallel else job.run()
+    finish(jobs.values())  # both ended before either's error is raised
     return {kind: job.result() for kind, job in jobs.items()}
 
 
@@ -479,11 +481,11 @@ def format_safety(fos: dict) -> list[str]:
     '    on load      [2.000, 2.100]  (collapse load / design load)'
     """
     def show(value, prefix=""):
-        return "none" if value is None else f"{prefix}{value:.3f}"
+        return "none" if value is None else f"{prefix}{figure(value, 3)}"
 
     lines = []
     if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {fos['design_load_kN_per_m']:.1f} kN/m "
+        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m "
                      "(along the load's line of action)")
         load = fos.get("on_load", {})
         lines.append(f"    on load      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
@@ -507,7 +509,7 @@ def format_safety(fos: dict) -> list[str]:
         res = partial["design_resistance_kN_per_m"]
         action = partial["action_kN_per_m"]
         lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {action:.1f} kN/m (partial factor on the action "
+                     + (f", design action {figure(action)} kN/m (partial factor on the action "
                         f"{partial['factors']['load']:g} x design load)" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines
