@@ -47,7 +47,7 @@ import time
 
 import numpy as np
 
-from .analysis import run_bounds
+from .analysis import is_better, next_domain, run_bounds
 from .mesh import SizeHint, fan_reach, graded_size
 from .model import Case
 
@@ -60,6 +60,7 @@ CONVERGENCE_RATE = 0.6  # error of either bound ~ elements^-this (measured on Pr
 PLASTIC = 0.98  # lower bound: utilisation at which a triangle counts as plastic
 PLASTIC_VELOCITY = 1e-3  # upper bound: velocity change across a triangle (of the footing's) that counts as plastic
 RIGID_COARSENING = 6.0  # size in the rigid zone / graded size (measured 2, 3, 6: 6 best)
+EXTEND_CELLS = 30  # grid cells across a grown domain, where the previous hint has no sizes
 
 
 def upper_size_hint(bound) -> SizeHint:
@@ -95,102 +96,143 @@ def _plastic_zone_hint(mesh, plastic: np.ndarray) -> SizeHint:
     return SizeHint(points=mesh.points, triangles=corners, size=size)
 
 
-def refine_until(case: Case, bounds: str, elements: int, backend: str, domain, settings,
-                 progress: bool = False, parallel: bool = False):
+def refine_until(case: Case, kinds: list[str], elements: int, backend: str, domain, settings,
+                 progress=None, parallel: bool = False):
     """Solve, refine and solve again until the target gap, max_steps or time_limit_s.
 
     ``parallel``: the bounds of a step solve at once (analysis.run_bounds), and a step
     that refines one bound refines the other too, as far as it can without outlasting
-    the first (the second core would idle otherwise).
+    the first (the second core would idle otherwise). A bound whose field reached the
+    edge of its domain (analysis.next_domain) is solved at the next step on a larger
+    one, before any other choice. ``progress``: called with one line per step.
 
-    Returns (best lower BoundResult, best upper BoundResult, history rows, timing).
+    Returns (best lower BoundResult, best upper BoundResult, history rows, timing,
+    refinement summary: target, whether it was reached, and why the refinement stopped).
     """
     target = case.analysis.target_gap * 100.0  # percent
     limit = case.analysis.time_limit_s
     start = time.perf_counter()
-    kinds = [k for k in ("lower", "upper") if bounds in (k, "both")]
     count = {k: elements for k in kinds}
     hint = {k: None for k in kinds}
+    domains = {k: domain for k in kinds}
+    growths = {k: 0 for k in kinds}
     current: dict = {}
     best: dict = {}
     history: list[dict] = []
     timing = {"mesh_s": 0.0, "assemble_s": 0.0, "solve_s": 0.0, "certify_s": 0.0, "solve_wall_s": 0.0}
     refine = list(kinds)
     refined_before: set = set()
-    bar = _progress(case.analysis.max_steps) if progress else None
+    stopped, why = "step limit", f"the step limit, max_steps = {case.analysis.max_steps}"
     for step in range(case.analysis.max_steps):
-        done, solve_wall = run_bounds(case, [(k, count[k], hint[k]) for k in refine], backend, domain,
+        done, solve_wall = run_bounds(case, [(k, count[k], hint[k], domains[k]) for k in refine], backend,
                                       settings, parallel)
         timing["solve_wall_s"] += solve_wall
         for kind in refine:
             bound = done[kind]
-            for key in bound.timing:
-                timing[key] += bound.timing[key]
+            for key in timing:
+                timing[key] += bound.timing.get(key, 0.0)
             previous = current.get(kind)
             current[kind] = bound
-            if bound.pressure_kPa is not None:
-                better = kind == "lower" and (best.get(kind) is None or bound.pressure_kPa > best[kind][1].pressure_kPa)
-                better |= kind == "upper" and (best.get(kind) is None or bound.pressure_kPa < best[kind][1].pressure_kPa)
-                if better:
-                    best[kind] = (step, bound)
+            if is_better(bound, best.get(kind)):
+                best[kind] = bound
             bound.extra["adapt_step"] = step
+            bound.extra["domain_growths"] = growths[kind]
             bound.extra["change_from_previous_step_kPa"] = (
                 None if previous is None or previous.pressure_kPa is None or bound.pressure_kPa is None
+                or previous.mesh.domain != bound.mesh.domain  # a larger domain: not a refinement
                 else bound.pressure_kPa - previous.pressure_kPa)
             bound.extra["elements_previous_step"] = None if previous is None else previous.elements
-        lo = current["lower"].pressure_kPa if "lower" in current else None
-        up = current["upper"].pressure_kPa if "upper" in current else None
-        best_lo = best["lower"][1].pressure_kPa if "lower" in best else None
-        best_up = best["upper"][1].pressure_kPa if "upper" in best else None
+        value = lambda table, k: table[k].pressure_kPa if k in table else None
+        best_lo, best_up = value(best, "lower"), value(best, "upper")
         gap = 100.0 * (best_up - best_lo) / best_lo if best_lo and best_up else None
-        wall = time.perf_counter() - start
+        # a bound whose field reached a growable edge is solved next on a larger domain
+        grown = {k: next_domain(case, done[k]) for k in refine}
+        grown = {k: d for k, d in grown.items() if d is not None}
         history.append({"step": step, "refined": list(refine),
                         "elements_lower": current["lower"].elements if "lower" in current else None,
                         "elements_upper": current["upper"].elements if "upper" in current else None,
-                        "lower": lo, "upper": up, "best_lower": best_lo, "best_upper": best_up,
-                        "gap_percent": gap, "wall_s": wall})
-        if bar is not None:
-            bar.set_postfix_str(_row_text(history[-1]))
-            bar.update(1)
+                        "lower": value(current, "lower"), "upper": value(current, "upper"),
+                        "best_lower": best_lo, "best_upper": best_up, "gap_percent": gap,
+                        "wall_s": time.perf_counter() - start,
+                        "field_at_edge": {k: done[k].extra.get("field_at_edge", []) for k in refine}})
+        if progress is not None:
+            progress(_row_text(history[-1]))
         if gap is not None and gap <= target:
+            stopped, why = "target gap reached", None
             break
-        if len(kinds) < 2 and step > 0 and all(current[k].pressure_kPa is None for k in kinds):
+        if not any(current[k].pressure_kPa is not None for k in kinds) and step > 0:
+            stopped, why = "no certified bound", "no bound was certified at two steps in a row"
             break
         # Grow the refined bound as far as the time left allows (time ~ elements^TIME_EXPONENT
         # from its last solve), at most GROWTH_MAX; no step that would end after the limit. If
         # the bound with the larger error cannot grow enough in the time left, the other may.
         left = TIME_MARGIN * max(limit - (time.perf_counter() - start), 0.0)
-        growth = {k: min(GROWTH_MAX, (left / max(sum(current[k].timing.values()), 1e-9)) ** (1.0 / TIME_EXPONENT))
-                  for k in kinds}
-        order = _next_to_refine(kinds, current, refined_before, best_up - best_lo if gap is not None else None)
+        cost = {k: max(sum(current[k].timing.values()), 1e-9) for k in kinds}
+        growth = {k: min(GROWTH_MAX, (left / cost[k]) ** (1.0 / TIME_EXPONENT)) for k in kinds}
+        # on a larger domain the same element count is worth a solve; a refinement needs GROWTH_MIN
+        least = {k: 1.0 if k in grown else GROWTH_MIN for k in kinds}
+        order = list(grown) + [k for k in _next_to_refine(kinds, current, refined_before,
+                                                          best_up - best_lo if gap is not None else None)
+                               if k not in grown]
         order += [k for k in kinds if k not in order]
-        refine = [k for k in order if growth[k] >= GROWTH_MIN][:1]
+        refine = [k for k in order if growth[k] >= least[k]][:1]
         if not refine:
-            history[-1]["stopped"] = "time limit"
+            first = order[0]
+            stopped = "time limit"
+            why = (f"the time limit, time_limit_s = {limit:g}: the next step (the {first} bound"
+                   + (" on a larger domain" if first in grown else f" on {least[first]:g} times the triangles")
+                   + f") would take about {cost[first] * least[first] ** TIME_EXPONENT:.0f} s, more than "
+                   f"{100 * TIME_MARGIN:.0f} % of the {max(limit - (time.perf_counter() - start), 0):.0f} s left")
             break
         if parallel:  # the other bound on the other core, predicted to end no later
             first = refine[0]
-            window = sum(current[first].timing.values()) * growth[first] ** TIME_EXPONENT
+            window = cost[first] * growth[first] ** TIME_EXPONENT
             for k in kinds:
                 if k != first and current[k].pressure_kPa is not None:
-                    growth[k] = min(GROWTH_MAX, (window / max(sum(current[k].timing.values()), 1e-9))
-                                    ** (1.0 / TIME_EXPONENT))
-                    if growth[k] >= GROWTH_MIN:
+                    growth[k] = min(GROWTH_MAX, (window / cost[k]) ** (1.0 / TIME_EXPONENT))
+                    if growth[k] >= least[k]:
                         refine.append(k)
         refined_before.update(refine)
         for kind in refine:
             if current[kind].pressure_kPa is None:
                 continue
             hint[kind] = (lower_size_hint if kind == "lower" else upper_size_hint)(current[kind])
+            if kind in grown:
+                domains[kind], growths[kind] = grown[kind], growths[kind] + 1
+                hint[kind] = extend_hint(hint[kind], domains[kind], current[kind].mesh)
             count[kind] = int(min(count[kind] * growth[kind], 400_000))
-    else:
-        history[-1]["stopped"] = "step limit"
-    if bar is not None:
-        bar.close()
-    if gap is not None and gap <= target:
-        history[-1]["stopped"] = "target gap reached"
-    chosen = {k: (best[k][1] if k in best else current.get(k)) for k in ("lower", "upper")}
-    return chosen["lower"], chosen["upper"], history, timing
+    history[-1]["stopped"] = stopped
+    if len(kinds) < 2 and stopped != "target gap reached":
+        why = f"only the {kinds[0]} bound was asked for, so there is no gap to reach; stopped by {why}"
+    chosen = {k: (best[k] if k in best else current.get(k)) for k in ("lower", "upper")}
+    summary = {"mesh": "adaptive", "target_gap_percent": target, "time_limit_s": limit,
+               "max_steps": case.analysis.max_steps, "steps": len(history),
+               "reached": stopped == "target gap reached", "stopped": stopped, "why": why}
+    return chosen["lower"], chosen["upper"], history, timing, summary
+
+
+def extend_hint(hint: SizeHint, domain, mesh) -> SizeHint:
+    """The hint carried onto a larger domain: the old one inside the old domain's box,
+    build_mesh's graded size on a grid of the rest (the field reached that edge, so
+    the soil beyond it is not known to be rigid). Grid cells lie wholly outside the old
+    box, whose edges are grid lines, so the two parts tile the new box without gaps."""
+    old = mesh.domain
+    B = mesh.footing_width
+    xs = np.unique(np.concatenate([np.linspace(domain.x_min, domain.x_max, EXTEND_CELLS + 1), [old.x_min, old.x_max]]))
+    ys = np.unique(np.concatenate([np.linspace(-domain.depth, 0.0, EXTEND_CELLS + 1), [-old.depth]]))
+    X, Y = np.meshgrid(xs, ys, indexing="ij")
+    grid = np.column_stack([X.ravel(), Y.ravel()])
+    index = np.arange(len(grid)).reshape(X.shape)
+    a, b = index[:-1, :-1].ravel(), index[1:, :-1].ravel()
+    c, d = index[1:, 1:].ravel(), index[:-1, 1:].ravel()
+    centre = 0.25 * (grid[a] + grid[b] + grid[c] + grid[d])
+    outside = ((centre[:, 0] < old.x_min) | (centre[:, 0] > old.x_max) | (centre[:, 1] < -old.depth))
+    cells = np.column_stack([a, b, c, d])[outside]
+    triangles = np.concatenate([cells[:, [0, 1, 2]], cells[:, [0, 2, 3]]]) + len(hint.points)
+    fan = mesh.order == 1 and fan_reach(old, B) > 0
+    return SizeHint(points=np.concatenate([hint.points, grid]),
+                    triangles=np.concatenate([hint.triangles, triangles]),
+                    size=np.concatenate([hint.size, graded_size(grid, domain, B, fan)]))
 
 
 def estimated_error(bound) -> float | None:
@@ -226,12 +268,10 @@ def _next_to_refine(kinds: list[str], current: dict, refined_before: set, gap_kP
 
 
 def _row_text(row: dict) -> str:
-    fmt = lambda v: "-" if v is None else f"{v:.2f}"
-    return (f"step {row['step']}: {row['elements_lower']}/{row['elements_upper']} triangles, "
-            f"lower {fmt(row['best_lower'])}, upper {fmt(row['best_upper'])} kPa, "
-            f"gap {fmt(row['gap_percent'])} %, {row['wall_s']:.0f} s")
-
-
-def _progress(total: int):
-    from tqdm import tqdm
-    return tqdm(total=total, desc="adaptive refinement", unit="step", leave=True)
+    """One line per step: triangles, the best bounds so far, the gap, the time since the start."""
+    fmt = lambda v, spec: "-" if v is None else format(v, spec)
+    grew = [f"{k} at the {' and '.join(e)} edge" for k, e in row["field_at_edge"].items() if e]
+    return (f"step {row['step'] + 1}: triangles lower {fmt(row['elements_lower'], 'd')} upper "
+            f"{fmt(row['elements_upper'], 'd')}; lower {fmt(row['best_lower'], '.2f')} kPa, upper "
+            f"{fmt(row['best_upper'], '.2f')} kPa, gap {fmt(row['gap_percent'], '.2f')} %; {row['wall_s']:.1f} s"
+            + (f"; field reached the edge ({', '.join(grew)})" if grew else ""))
