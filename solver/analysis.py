@@ -267,7 +267,8 @@ def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timin
         else:
             fields = lower_stress_field(case, mesh, program, solution.x)
             extra = _yield_at_far_boundary(case, mesh, program, solution.x, fields)
-    extra.update({"domain_width_m": mesh.domain.x_max - mesh.domain.x_min, "domain_depth_m": mesh.domain.depth})
+    extra.update({"domain_width_m": mesh.domain.x_max - mesh.domain.x_min, "domain_depth_m": mesh.domain.depth,
+                  "linear_solver": solution.linear_solver})
     delta = math.radians(case.footing.load_inclination)
     if load is not None:
         extra.update({"vertical_kN_per_m": load * math.cos(delta), "horizontal_kN_per_m": load * math.sin(delta),
