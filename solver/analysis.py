@@ -238,11 +238,24 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
         job.start() if parallel and len(requests) > 1 else job.run()
         jobs.append((kind, mesh, program, job, {"mesh_s": t1 - t0, "assemble_s": t2 - t1}))
     done = {}
+    spans = []
     for kind, mesh, program, job, timing in jobs:
         solution = job.result()
         timing["solve_s"] = job.ended_at - job.started_at
+        spans.append((job.started_at, job.ended_at))
         done[kind] = _certified_bound(case, kind, mesh, program, solution, timing)
-    spans = sorted((job.started_at, job.ended_at) for _, _, _, job, _ in jobs)
+        if (solution.linear_solver == "mkl" and not done[kind].certificate["passed"]
+                and "direct_solve_method" not in (settings or {})):
+            # MKL was the automatic choice: its answer failed the certificate, so qdldl solves it
+            # again (measured: MKL's residuals sit closer to the certificate's limits)
+            again = Job(solve, program, backend, settings={**(settings or {}), "direct_solve_method": "qdldl"})
+            again.run()
+            retry = again.result()
+            retry.linear_solver = f"mkl, then qdldl (mkl: {done[kind].status})"
+            timing["solve_s"] += again.ended_at - again.started_at
+            spans.append((again.started_at, again.ended_at))
+            done[kind] = _certified_bound(case, kind, mesh, program, retry, timing)
+    spans.sort()
     wall, reach = 0.0, -math.inf
     for begin, end in spans:  # length of the union of the solve intervals
         wall += max(0.0, end - max(begin, reach))
