@@ -24,6 +24,18 @@ indicator that equidistributed rho itself (h ~ rho^-1/2) did worse than the
 graded mesh (N_gamma upper +4.2 % at 8k): near the footing edge rho ~ 1/r asks
 for h ~ r^1/2, coarser than the grading h ~ r that the singularity needs.
 
+The upper bound's next mesh follows the gap itself once a lower bound is certified
+(:func:`gap_density`, :func:`gap_size_hint`): each upper-bound triangle's share of
+the gap, D(strain rate) - sigma : strain rate integrated with the lower bound's
+stress (Munoz et al. 2009), marks the triangles holding 60 % of it for half their
+size, and sizes carry over from step to step. Measured, upper bound refined 4k -> 8k
+-> 16k triangles from the same 8k lower bound, error and solve time at 16k, gap
+indicator against the plastic zone: Prandtl +0.156 % in 11.6 s against +0.219 % in
+26.5 s; N_gamma (phi 30) +1.09 % in 14.7 s against +1.56 % in 29.0 s (fewer
+iterations too: 20 against 24, 25 against 29); sand over clay 167.20 against 167.41
+kPa, clay slope 177.51 against 177.77 kPa, in 16.3 / 12.9 s against 19.5 / 14.7 s
+(shared machine). The lower bound keeps the plastic zone (its fan carries the edge).
+
 Which bound is refined, and by how much: both are solved at the first step;
 then the upper bound is refined (on the benchmark cases it is the weaker side),
 then whichever has the larger estimated error (its last change scaled by an
@@ -76,6 +88,77 @@ def upper_size_hint(bound) -> SizeHint:
         np.maximum.at(change, mesh.jumps[:, 0], fields["jump_slip"])
         np.maximum.at(change, mesh.jumps[:, 2], fields["jump_slip"])
     return _plastic_zone_hint(mesh, change >= PLASTIC_VELOCITY)
+
+
+GAP_SHARE = 0.6  # upper bound: the elements holding this share of the bound gap are refined ...
+GAP_REFINE = 0.5  # ... to this times their size; elements with under GAP_QUIET of the mean
+GAP_COARSEN = 2.0  # share are coarsened by this factor; the rest keep their size
+GAP_QUIET = 1e-3
+GAUSS_POINTS = np.array([[2 / 3, 1 / 6, 1 / 6], [1 / 6, 2 / 3, 1 / 6], [1 / 6, 1 / 6, 2 / 3]])  # barycentric
+
+
+def gap_density(case: Case, lower, upper) -> np.ndarray:
+    """(n_el,) kN/m per unit footing velocity: each upper-bound triangle's share of the gap,
+    the integral of D(strain rate) - sigma : strain rate with the lower bound's stress sigma
+    (after Munoz, Bonet, Huerta & Peraire 2009, who split the gap of two bounds on one mesh
+    so). sigma is statically admissible and the velocity kinematically admissible, so the
+    integrand is nonnegative everywhere (D is the largest work of any stress inside the
+    yield cone) and its integral over the domain is the gap (times the half-domain's 1/2;
+    the three-point rule makes it close, not exact: N_gamma 4k, 7.50 against 7.46 kN/m).
+    Points outside the lower bound's mesh count D alone; velocity jumps are not counted."""
+    from matplotlib.tri import Triangulation
+
+    from .ground import material_arrays, node_cohesion
+
+    lo, up = lower.mesh, upper.mesh
+    finder = Triangulation(lo.points[:, 0], lo.points[:, 1], lo.triangles).get_trifinder()
+    corners = up.points[up.triangles[:, :3]]  # (n, 3, 2)
+    mat = material_arrays(case)
+    phi = mat["phi"][up.layer]
+    frictional = (np.sin(phi) > 1e-3)[:, None]
+    strain = upper.fields["strain_rate"]  # (n, 3 corners, 3)
+    # rho at the corners, interpolated linearly as the upper bound's dissipation is (for phi = 0
+    # it lies above the norm of the interpolated strain rate inside the triangle)
+    rho = np.where(frictional, (strain[..., 0] + strain[..., 1]) / np.where(frictional, np.sin(phi)[:, None], 1.0),
+                   np.hypot(strain[..., 0] - strain[..., 1], strain[..., 2]))
+    eta = np.zeros(up.n_elements)
+    for weights in GAUSS_POINTS:
+        x = np.einsum("c,ncd->nd", weights, corners)
+        ex, ey, gxy = np.einsum("c,ncs->ns", weights, strain).T
+        dissipation = node_cohesion(mat, up.layer, -x[:, 1]) * np.cos(phi) * (rho @ weights)
+        element = finder(x[:, 0], x[:, 1])
+        inside = element >= 0
+        p = lo.points[lo.triangles[element[inside]]]  # (k, 3, 2): barycentric coordinates of x there
+        local = np.linalg.solve(np.stack([p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]], axis=2),
+                                (x[inside] - p[:, 0])[..., None])[..., 0]
+        bary = np.column_stack([1.0 - local.sum(axis=1), local])
+        sigma = np.zeros((len(x), 3))
+        sigma[inside] = np.einsum("kn,knc->kc", bary, lower.fields["stress"][element[inside]])
+        eta += up.areas() / 3.0 * (dissipation - (sigma[:, 0] * ex + sigma[:, 1] * ey + sigma[:, 2] * gxy))
+    return eta
+
+
+def gap_size_hint(upper, eta: np.ndarray) -> SizeHint:
+    """Sizes for the next upper-bound mesh from its share of the gap: the triangles holding
+    GAP_SHARE of it (largest first) at GAP_REFINE of their size, those with under GAP_QUIET
+    of the mean share at GAP_COARSEN, the rest as they are; build_mesh scales the whole to
+    the next element target. Sizes carry over from step to step, so refinement accumulates
+    where the gap stays."""
+    mesh = upper.mesh
+    order = np.argsort(-eta)
+    marked = np.zeros(len(eta), dtype=bool)
+    marked[order[:np.searchsorted(np.cumsum(eta[order]), GAP_SHARE * eta.sum()) + 1]] = True
+    factor = np.where(marked, GAP_REFINE, np.where(eta < GAP_QUIET * eta.mean(), GAP_COARSEN, 1.0))
+    corners = mesh.triangles[:, :3]
+    node_factor = np.full(len(mesh.points), np.inf)
+    np.minimum.at(node_factor, corners.ravel(), np.repeat(factor, 3))
+    size, count = np.zeros(len(mesh.points)), np.zeros(len(mesh.points))
+    np.add.at(size, corners.ravel(), np.repeat(np.sqrt(2.0 * mesh.areas()), 3))
+    np.add.at(count, corners.ravel(), 1.0)
+    used = count > 0
+    size[used] = size[used] / count[used] * node_factor[used]
+    size[~used] = 1.0  # midside nodes: not corners of any triangle, never read
+    return SizeHint(points=mesh.points, triangles=corners, size=size)
 
 
 def lower_size_hint(bound) -> SizeHint:
@@ -196,7 +279,10 @@ def refine_until(case: Case, kinds: list[str], elements: int, backend: str, doma
         for kind in refine:
             if current[kind].pressure_kPa is None:
                 continue
-            hint[kind] = (lower_size_hint if kind == "lower" else upper_size_hint)(current[kind])
+            if kind == "upper" and current.get("lower") is not None and current["lower"].pressure_kPa is not None:
+                hint[kind] = gap_size_hint(current[kind], gap_density(case, current["lower"], current[kind]))
+            else:
+                hint[kind] = (lower_size_hint if kind == "lower" else upper_size_hint)(current[kind])
             if kind in grown:
                 domains[kind], growths[kind] = grown[kind], growths[kind] + 1
                 hint[kind] = extend_hint(hint[kind], domains[kind], current[kind].mesh)
