@@ -3,6 +3,7 @@ certificate -> Result. Each bound runs on its own mesh (first order for the
 lower bound, second order for the upper)."""
 from __future__ import annotations
 
+import dataclasses
 import math
 import os
 import threading
@@ -10,8 +11,8 @@ import time
 
 import numpy as np
 
-from .certify import certify_lower, certify_upper, lower_stress_field, upper_velocity_field
-from .conic import solve
+from .certify import certify_lower, certify_upper, lower_stress_field, restore_velocities, upper_velocity_field
+from .conic import solve, stronger_settings
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
 from .ground import material_arrays, node_cohesion
@@ -26,9 +27,14 @@ UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as c
                 "(Makrodimopoulos & Martin 2006, 2007); far boundary fixed")
 UPPER_JUMPS = ("; except that the velocity may jump across every interior edge (after Sloan & Kleeman 1995), "
                "flow rule and dissipation of each jump bounded through its Bernstein coefficients")
-SLOPE_UNSTABLE = ("the slope is not stable under its own weight: the collapse load is zero or negative "
-                  "(no statically admissible stress field carries the ground, or a mechanism releases "
-                  "energy); no capacity is reported")
+SLOPE_UNSTABLE = ("the slope is not stable under its own weight: a certified mechanism of the ground alone "
+                  "releases energy, so the collapse load is zero or negative; no capacity is reported")
+NO_CAPACITY = ("the ground cannot carry the footing: a certified mechanism needs no positive load, so the "
+               "collapse load is zero or negative; no capacity is reported")
+UNPROVEN_UNBOUNDED = ("the solver found the upper-bound program unbounded, but the mechanism it returned did "
+                      "not pass the certificate: that proves nothing about the ground; no capacity is reported")
+CROSSED = ("the lower bound exceeds the upper bound by more than their certificates allow: at least one is "
+           "wrong, so neither is reported (please report the case)")
 CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velocity| there < this
 
 
@@ -62,11 +68,15 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
         refinement = {"mesh": "fixed", "elements": elements}
     timing["total_s"] = time.perf_counter() - start
     notes = []
-    if lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None \
-            and lower.pressure_kPa > upper.pressure_kPa * (1 + 1e-6):
-        notes.append("lower bound exceeds upper bound: this is a defect; do not use these numbers")
-    if _slope_unstable(lower, upper):
-        notes.append(SLOPE_UNSTABLE)
+    if _crossed(lower, upper):
+        reason = f"the bounds cross (lower {lower.pressure_kPa:.6g} kPa > upper {upper.pressure_kPa:.6g} kPa)"
+        for bound in (lower, upper):
+            _withhold(bound, reason)
+        notes.append(CROSSED)
+    if _no_capacity(upper):
+        notes.append(SLOPE_UNSTABLE if case.ground.slope_angle > 0 else NO_CAPACITY)
+    elif upper is not None and "unbounded" in upper.status:
+        notes.append(UNPROVEN_UNBOUNDED)
     if case.pore_pressure_at_base_kPa() > 0:
         notes.append(f"the water table is above the footing base: pressures are effective; the total "
                      f"contact pressure adds the pore pressure at the base, "
@@ -77,7 +87,7 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                      + "; ".join(f"{l.name}: psi = {l.dilation_angle:g}, c* = {davis_reduction(l)[0] * l.cohesion:.3g} kPa, "
                                  f"phi* = {math.degrees(davis_reduction(l)[1]):.2f} deg" for l in reduced)
                      + "): the accepted approximation, no longer rigorous bounds on the non-associated problem")
-    if lower and "infeasible" in lower.status and not _slope_unstable(lower, upper):
+    if lower and "infeasible" in lower.status and not _no_capacity(upper):
         notes.append("the lower bound found no statically admissible stress field on this mesh; "
                      "that is a limit of the discretisation, not a proof that the ground fails: "
                      "try more elements")
@@ -214,6 +224,15 @@ def is_better(bound: BoundResult, than: BoundResult | None) -> bool:
     return bound.pressure_kPa > than.pressure_kPa if bound.kind == "lower" else bound.pressure_kPa < than.pressure_kPa
 
 
+def finish(jobs) -> None:
+    """Wait for every started job. Before an error leaves the caller: a solve still running
+    inside Clarabel when the interpreter exits is killed mid-call, which aborts the whole
+    process ("FATAL: exception not rethrown", exit 134) instead of reporting the error."""
+    for job in jobs:
+        if job.ident is not None:
+            job.join()
+
+
 def run_bounds(case: Case, requests: list, backend: str, settings, parallel: bool
                ) -> tuple[dict[str, BoundResult], float]:
     """Run bounds given as (kind, elements, size_hint, domain); returns them by kind and
@@ -225,37 +244,49 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
     same as one after the other (tests/test_bounds.py): each solve is deterministic and
     shares nothing with the other."""
     jobs = []
-    for kind, elements, size_hint, domain in requests:
-        t0 = time.perf_counter()
-        mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
-                          size_hint=size_hint)
-        if kind == "upper" and uses_velocity_jumps(case):
-            mesh = open_velocity_jumps(mesh)
-        t1 = time.perf_counter()
-        program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
-        t2 = time.perf_counter()
-        job = Job(solve, program, backend, settings=settings)
-        job.start() if parallel and len(requests) > 1 else job.run()
-        jobs.append((kind, mesh, program, job, {"mesh_s": t1 - t0, "assemble_s": t2 - t1}))
+    try:
+        for kind, elements, size_hint, domain in requests:
+            t0 = time.perf_counter()
+            mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
+                              size_hint=size_hint)
+            if kind == "upper" and uses_velocity_jumps(case):
+                mesh = open_velocity_jumps(mesh)
+            t1 = time.perf_counter()
+            program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
+            t2 = time.perf_counter()
+            job = Job(solve, program, backend, settings=settings)
+            job.start() if parallel and len(requests) > 1 else job.run()
+            jobs.append((kind, mesh, program, job, {"mesh_s": t1 - t0, "assemble_s": t2 - t1}))
+    finally:  # an error meshing the second bound must not leave the first one's solve running
+        finish(job for _, _, _, job, _ in jobs)
     done = {}
-    spans = []
-    for kind, mesh, program, job, timing in jobs:
+    for (kind, mesh, program, job, timing), (_, elements, size_hint, domain) in zip(jobs, requests):
         solution = job.result()
         timing["solve_s"] = job.ended_at - job.started_at
-        spans.append((job.started_at, job.ended_at))
-        done[kind] = _certified_bound(case, kind, mesh, program, solution, timing)
+        if kind == "lower" and solution.status == "infeasible" and mesh.fan:
+            # The fans' triangles all meet at the footing edges and cover much of the ground under
+            # the footing; under an eccentric load on weak ground they lacked the freedom the stress
+            # field needs (a random layered case: infeasible with fans at 400 and 800 triangles,
+            # feasible without at 800, and a higher bound without at every size to 2400): mesh again
+            # without them.
+            t0 = time.perf_counter()
+            mesh = build_mesh(case, order=1, elements=elements, domain=domain, size_hint=size_hint, fan=False)
+            program = lower_bound_program(case, mesh)
+            timing["mesh_s"] += time.perf_counter() - t0
+            again = solve(program, backend, settings=settings)
+            timing["solve_s"] += again.solve_s
+            solution = dataclasses.replace(again, iterations=solution.iterations + again.iterations,
+                                           notes={**again.notes, "meshed_again_without_fans": "infeasible with fans"})
+        done[kind] = _certified_bound(case, kind, mesh, program, solution, timing, backend, settings)
         if (solution.linear_solver == "mkl" and not done[kind].certificate["passed"]
                 and "direct_solve_method" not in (settings or {})):
             # MKL was the automatic choice: its answer failed the certificate, so qdldl solves it
             # again (measured: MKL's residuals sit closer to the certificate's limits)
-            again = Job(solve, program, backend, settings={**(settings or {}), "direct_solve_method": "qdldl"})
-            again.run()
-            retry = again.result()
+            retry = solve(program, backend, settings={**(settings or {}), "direct_solve_method": "qdldl"})
             retry.linear_solver = f"mkl, then qdldl (mkl: {done[kind].status})"
-            timing["solve_s"] += again.ended_at - again.started_at
-            spans.append((again.started_at, again.ended_at))
-            done[kind] = _certified_bound(case, kind, mesh, program, retry, timing)
-    spans.sort()
+            timing["solve_s"] += retry.solve_s
+            done[kind] = _certified_bound(case, kind, mesh, program, retry, timing, backend, settings)
+    spans = sorted((job.started_at, job.ended_at) for _, _, _, job, _ in jobs)
     wall, reach = 0.0, -math.inf
     for begin, end in spans:  # length of the union of the solve intervals
         wall += max(0.0, end - max(begin, reach))
@@ -263,15 +294,52 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
     return done, wall
 
 
-def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict) -> BoundResult:
-    """Certify a solved bound and package it (fields, load components, timings)."""
+def _certify(case: Case, kind: str, mesh: Mesh, program, solution):
+    """The solution (the upper bound's velocities restored: certify.restore_velocities) and
+    its certificate."""
+    if kind == "lower":
+        return solution, certify_lower(case, mesh, program, solution)
+    solution = restore_velocities(case, mesh, program, solution)
+    return solution, certify_upper(case, mesh, program, solution)
+
+
+def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict,
+                     backend: str = "clarabel", settings: dict | None = None) -> BoundResult:
+    """Certify a solved bound and package it (fields, load components, timings). A point
+    whose certificate fails on the residuals the solver left (or that the solver ended in
+    trouble) is solved once more with stronger settings (conic.stronger_settings), and that
+    solve is certified instead."""
     t3 = time.perf_counter()
-    certificate = (certify_lower if kind == "lower" else certify_upper)(case, mesh, program, solution)
-    timing["certify_s"] = time.perf_counter() - t3
-    load = certificate.get("load_kN_per_m") if certificate["passed"] else None
+    solution, certificate = _certify(case, kind, mesh, program, solution)
+    stronger = stronger_settings(program)
+    again_s = 0.0
+    if (not certificate["passed"] and solution.x is not None and stronger is not None
+            and solution.status not in ("iteration limit", "time limit")):  # limits the caller set stand
+        first = certificate.get("reason", solution.status)
+        again = solve(program, backend, settings={**(settings or {}), **stronger})
+        again_s = again.solve_s
+        iterations = solution.iterations + again.iterations
+        solution, certificate = _certify(case, kind, mesh, program, again)
+        solution = dataclasses.replace(solution, iterations=iterations)
+        certificate["solved_again_after"] = first
+    if kind == "upper" and solution.ray is not None:  # "unbounded": is the solver's mechanism real?
+        certificate = certify_upper(case, mesh, program, dataclasses.replace(solution, x=solution.ray), ray=True)
+    timing["solve_s"] += again_s
+    timing["certify_s"] = time.perf_counter() - t3 - again_s
+    load = certificate.get("load_kN_per_m") if certificate["passed"] and solution.x is not None else None
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
+    if solution.ray is not None:  # no bound either way; the certificate says whether the mechanism is real
+        proven = certificate["passed"]
+        certificate = {**certificate, "passed": False, "mechanism_of_the_ground_certified": proven}
+        status = ("withheld: unbounded: a certified mechanism of the ground alone releases energy with the "
+                  "footing unloaded, so the collapse load is zero or negative" if proven else
+                  "withheld: the solver found the program unbounded, but the mechanism it returned did not "
+                  f"pass the certificate ({certificate.get('reason', '')}): nothing is proven")
     if load is not None and load <= 0.0:
-        load, status = None, "withheld: the collapse load is zero or negative"
+        load, status = None, (f"withheld: the lower bound's best stress field carries {load:.3g} kN/m, no "
+                              "positive load: it proves nothing on this mesh" if kind == "lower" else
+                              f"withheld: a certified mechanism needs a load of {load:.3g} kN/m: the collapse "
+                              "load is zero or negative")
     extra, fields = {}, {}
     if solution.x is not None:
         if kind == "upper":
@@ -302,12 +370,30 @@ def uses_velocity_jumps(case: Case) -> bool:
     return case.analysis.velocity_jumps == "all"
 
 
-def _slope_unstable(lower: BoundResult | None, upper: BoundResult | None) -> bool:
-    """The ground cannot carry itself: the upper bound finds a mechanism with zero or
-    negative load (or an unbounded one)."""
-    # Only the upper bound can prove it (a mechanism that releases energy); a lower-bound
-    # program with no solution on a given mesh proves nothing about the ground.
-    return bool(upper is not None and ("unbounded" in upper.status or "zero or negative" in upper.status))
+def _no_capacity(upper: BoundResult | None) -> bool:
+    """The ground cannot carry the footing: a certified mechanism needs a load of zero or
+    less, or releases energy with the footing unloaded (an unbounded program whose mechanism
+    passed its certificate). Only the upper bound can prove it; a lower-bound program with no
+    solution on a given mesh, or an unbounded one whose mechanism fails, proves nothing."""
+    return bool(upper is not None and "zero or negative" in upper.status)
+
+
+def _crossed(lower: BoundResult | None, upper: BoundResult | None) -> bool:
+    """Both bounds certified, and the lower above the upper by more than the lower bound's
+    stress tolerance and round-off allow: a contradiction, never two certified bounds."""
+    if not (lower and upper and lower.pressure_kPa is not None and upper.pressure_kPa is not None):
+        return False
+    allowed = lower.certificate.get("tolerance_kPa", 0.0) + 1e-6 * abs(upper.pressure_kPa)
+    return lower.pressure_kPa > upper.pressure_kPa + allowed
+
+
+def _withhold(bound: BoundResult, reason: str) -> None:
+    """Withdraw a certified bound after the fact: no number of any kind is left in it."""
+    bound.pressure_kPa = bound.load_kN_per_m = None
+    bound.status = f"withheld: {reason}"
+    bound.certificate = {**bound.certificate, "passed": False, "reason": reason}
+    for key in ("vertical_kN_per_m", "horizontal_kN_per_m", "moment_kNm_per_m"):
+        bound.extra.pop(key, None)
 
 
 EDGE_YIELD = 0.999  # lower bound: utilisation at which a node at the far boundary counts as at yield

@@ -12,6 +12,8 @@ structured fan of triangles centred on each footing edge (:class:`FanLayout`).
 """
 from __future__ import annotations
 
+import contextlib
+import dataclasses
 import math
 import threading
 from dataclasses import dataclass
@@ -75,6 +77,7 @@ class Mesh:
     # (element 1, local edge 1, element 2, local edge 2); their nodes are split,
     # each side has its own (see open_velocity_jumps). None: a continuous mesh.
     jumps: np.ndarray | None = None
+    fan: bool = False  # a fan of triangles round each footing edge (FanLayout)
 
     @property
     def order(self) -> int:
@@ -255,8 +258,12 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     reach = max(x for x, _ in candidates) - B / 2  # m beyond the footing edge
     depth = max(d for _, d in candidates)
     x_max = B / 2 + 2.0 * reach + B
-    required = case.required_interfaces()
-    model_depth = max(2.0 * depth + B, 1.25 * required[-1] if required else 0.0)
+    # Every interface (layers and the water table) within reach of a mechanism lies inside
+    # the mesh; those below the model are carried by the lower bound's extension elements
+    # (solver.lower.deep_strata), so that a deep water table or a thick layer costs nothing.
+    interfaces = tuple(s.bottom for s in case.strata()[:-1])
+    near = [d for d in case.required_interfaces() if d < 2.0 * depth + B]
+    model_depth = max(2.0 * depth + B, 1.25 * near[-1] if near else 0.0)
     slope = {}
     ground = case.ground
     if ground.slope_angle > 0:
@@ -269,6 +276,10 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         model_depth = max(model_depth, ground.slope_height + 2.0 * depth + B)
         slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
         half = False
+    # An interface just above the model base would leave a thin band there: put the base
+    # on the shallowest interface within the last fifth of the soil below the toe level instead.
+    floor = model_depth - 0.2 * (model_depth - slope.get("slope_height", 0.0))
+    model_depth = min([d for d in interfaces if floor < d <= model_depth], default=model_depth)
     half = is_symmetric(case) if half is None else half
     x_min = 0.0 if half else -(B / 2 + 2.0 * reach + B)
     analysis = case.analysis
@@ -281,8 +292,12 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
 
 def _domain(case: Case, half: bool, x_min: float, x_max: float, depth: float, reach: float,
             mechanism_depth: float, slope: dict) -> Domain:
-    """A Domain with the interfaces that lie inside it."""
-    interfaces = tuple(d for d in (s.bottom for s in case.strata()[:-1]) if d < depth)
+    """A Domain with the interfaces that lie inside it. A base within 5 % of its depth
+    below an interface is put on the interface: a thinner band under it would only cost
+    small triangles (a grown or user-given depth; the plan places its base the same way)."""
+    below = [s.bottom for s in case.strata()[:-1]]
+    depth = min([d for d in below if 0.95 * depth < d <= depth], default=depth)
+    interfaces = tuple(d for d in below if d < depth)
     return Domain(half=half, x_min=x_min, x_max=x_max, depth=depth, interfaces=interfaces,
                   mechanism_width=reach, mechanism_depth=mechanism_depth, **slope)
 
@@ -379,7 +394,14 @@ FAN_CLEARANCE = 0.9  # a ray fills at most this fraction of its room to the symm
 #                      centre line between two fans, or the far boundary; a fan is a circle of
 #                      this fraction of the first interface's depth (a flat fan squashed under
 #                      a shallow interface gave a 5 % lower bound on a two-layer case)
-FAN_MIN_REACH = 1e-3  # longest ray / B below which no fan is built
+# Longest ray / B below which no fan is built. A fan squashed under a shallow first interface
+# did worse than none: lower bounds at 800 triangles, fan against none, with the fan's reach
+# limited to 0.023 / 0.045 / 0.09 / 0.18 / 0.27 B by a sand crust over a stronger sand:
+# -8 / -5 / -4 / +3 / +6 %; sand over clay -4 / -0.3 / -0.8 / +0.4 / +0.7 %; clay over
+# clay within 0.3 % up to 0.09 B, then +0.6 / +1.1 %; on a weightless cohesionless crust
+# 0.025 B thick under an inclined load the fan's bound was 1e-6 of the unfanned one, every
+# sector meeting the stress-free apex.
+FAN_MIN_REACH = 0.15
 # Without a fan (the upper bound's mesh): h = s (PLAIN_EDGE_SIZE B + PLAIN_GRADING r).
 # Measured on the upper bound at 4k and 8k triangles (Prandtl, exact 2 + pi; and
 # N_gamma at phi = 30, reference 14.75 from memory): (0.02, 0.2) gave +1.13 % / +0.77 %
@@ -537,7 +559,7 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     ``fan`` (default: on for first order, off for second) puts a structured
     fan (:class:`FanLayout`) round each footing edge and meshes the rest with
     h = s (FAN_EDGE_SIZE B + FAN_GRADING r); the fan's rim spacing matches h
-    there. Second-order fan meshes get straight-sided midside nodes. Measured
+    there. Second-order meshes get straight-sided midside nodes (computed here). Measured
     on the Prandtl case (weightless Tresca, exact 2 + pi, Prandtl 1920): the
     fan took the lower bound from -1.2 % to -0.05 % at 2k elements; it did not
     improve the upper bound (+3.3 % against +1.7 % at 2k), hence off for
@@ -569,43 +591,73 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     domain = domain or plan_domain(case)
     target = elements or case.analysis.elements
     B = case.footing.width
-    fan = ((order == 1) if fan is None else fan) and fan_reach(domain, B) > 0
-    scale = math.sqrt((size_hint.estimate_count() if size_hint else _estimate_count(domain, B, fan)) / target)
+    # gmsh (and OpenCASCADE's absolute tolerance of 1e-7) sees the site in units of B, so
+    # meshing does not depend on the footing's size; the points are scaled back at the end.
+    unit = _in_widths(domain, B)
+    check_meshable(unit)
+    hint = None if size_hint is None else SizeHint(size_hint.points / B, size_hint.triangles, size_hint.size / B)
+    fan = ((order == 1) if fan is None else fan) and fan_reach(unit, 1.0) > 0
+    scale = math.sqrt((hint.estimate_count() if hint else _estimate_count(unit, 1.0, fan)) / target)
     layout = None
     with _GMSH_LOCK:
         gmsh = _start_gmsh()
         try:
             tried = {}  # scale -> relative miss of the element count
             for attempt in range(6):
-                layout = _fan_layout(domain, B, scale) if fan else None
-                rim = _draw(gmsh, domain, B, layout)
-                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                layout = _fan_layout(unit, 1.0, scale) if fan else None
+                rim = _draw(gmsh, unit, 1.0, layout)
+                count = _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                 count += layout.n_elements if layout else 0
                 tried[scale] = abs(count / target - 1.0)
                 if tried[scale] < 0.05:
                     break
                 if attempt == 5:  # not converged (small targets): keep the closest
                     scale = min(tried, key=tried.get)
-                    layout = _fan_layout(domain, B, scale) if fan else None
-                    rim = _draw(gmsh, domain, B, layout)
-                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                    layout = _fan_layout(unit, 1.0, scale) if fan else None
+                    rim = _draw(gmsh, unit, 1.0, layout)
+                    _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                     break
                 scale *= math.sqrt(count / target)
-            gmsh_order = 1 if fan else order
-            if gmsh_order == 2:
-                gmsh.model.mesh.setOrder(2)
-            points, triangles, index = _read_triangles(gmsh, gmsh_order)
+            points, triangles, index = _read_triangles(gmsh)
             if layout:
                 rim_nodes = index[_point_nodes(gmsh, rim)]
         finally:
             gmsh.finalize()
     if layout:
         points, triangles = _add_fans(points, triangles, layout, rim_nodes)
-        if order == 2:
-            points, triangles = _second_order(points, triangles)
-    if order == 1:
+    if order == 2:
+        # midside nodes computed here rather than by gmsh's setOrder, which on a long, thin
+        # domain failed to place them and then crashed the process in gmsh.finalize
+        points, triangles = _second_order(points, triangles)
+    else:
         points, triangles = _split_corner_triangles(points, triangles)
-    return _assemble_mesh(points, triangles, domain, case)
+    return dataclasses.replace(_assemble_mesh(points * B, triangles, domain, case), fan=layout is not None)
+
+
+MESHABLE_EXTENT = 1e5  # B: the largest domain the mesher is asked for (a case file reaches 6000 B)
+MESHABLE_BAND = 1e-4  # B: the thinnest band between interfaces (a case file's thinnest is 0.001 B)
+
+
+def check_meshable(unit: Domain) -> None:
+    """Refuse (ValueError) a domain, in units of B, that gmsh cannot mesh soundly: the case
+    check keeps every case file inside these limits; this guards the other ways in."""
+    levels = (0.0, *unit.interfaces, unit.depth)
+    sizes = (unit.x_min, unit.x_max, unit.depth, *unit.interfaces, unit.mechanism_width, unit.mechanism_depth,
+             *((unit.crest_x, unit.toe_x, unit.slope_height) if unit.slope else ()))
+    if not all(math.isfinite(v) for v in sizes):
+        raise ValueError(f"mesh: the domain is not finite ({unit})")
+    if max(unit.x_max - unit.x_min, unit.depth) > MESHABLE_EXTENT:
+        raise ValueError(f"mesh: the domain is {max(unit.x_max - unit.x_min, unit.depth):.3g} footing widths across; "
+                         f"the mesher is asked for at most {MESHABLE_EXTENT:g}")
+    if min(b - a for a, b in zip(levels, levels[1:])) < MESHABLE_BAND:
+        raise ValueError(f"mesh: a band between interfaces is thinner than {MESHABLE_BAND:g} footing widths")
+
+
+def _in_widths(domain: Domain, B: float) -> Domain:
+    """The same domain with every length divided by B."""
+    scaled = {key: (None if value is None else value / B)
+              for key, value in vars(domain).items() if key not in ("half", "interfaces")}
+    return Domain(half=domain.half, interfaces=tuple(d / B for d in domain.interfaces), **scaled)
 
 
 def _split_corner_triangles(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -659,10 +711,39 @@ def _size(r, B: float, domain: Domain, edge_size: float | None = None, grading: 
 def _start_gmsh():
     import gmsh
     # readConfigFiles/interruptible off: works off the main thread and in workers.
-    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    with _signal_actions_kept():
+        gmsh.initialize(readConfigFiles=False, interruptible=False)
     gmsh.option.setNumber("General.Terminal", 0)
     gmsh.option.setNumber("General.Verbosity", 0)
     return gmsh
+
+
+# gmsh.initialize resets these to the default action (measured: SIGTERM and SIGHUP), which
+# would kill the process mid-write on a SIGTERM that the command line handles as a Ctrl-C.
+_KEPT_SIGNALS = ("SIGTERM", "SIGHUP")
+
+
+@contextlib.contextmanager
+def _signal_actions_kept():
+    """Put back the process's signal actions for _KEPT_SIGNALS after the block, at the C
+    level (sigaction), so that it works from any thread, not only Python's main one."""
+    import ctypes
+    import signal
+
+    try:
+        sigaction = ctypes.CDLL(None, use_errno=True).sigaction
+    except (AttributeError, OSError):  # no C library sigaction: nothing to keep
+        yield
+        return
+    numbers = [int(getattr(signal, name)) for name in _KEPT_SIGNALS if hasattr(signal, name)]
+    saved = {number: ctypes.create_string_buffer(512) for number in numbers}  # > sizeof(struct sigaction)
+    for number, buffer in saved.items():
+        sigaction(number, None, buffer)
+    try:
+        yield
+    finally:
+        for number, buffer in saved.items():
+            sigaction(number, buffer, None)
 
 
 def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np.ndarray | None:
@@ -747,8 +828,9 @@ def _embed_crest_points(gmsh, domain: Domain, B: float) -> None:
                 break
 
 
-def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
+def _mesh_once(gmsh, domain: Domain, B: float, scale: float,
                layout: FanLayout | None = None, size_hint: SizeHint | None = None) -> int:
+    """Mesh the drawn domain with first-order triangles; returns their number."""
     mesh = gmsh.model.mesh
     mesh.clear()
     for tag in mesh.field.list():
@@ -779,8 +861,6 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay: well-shaped triangles
     gmsh.option.setNumber("Mesh.ElementOrder", 1)
     mesh.generate(2)
-    if order == 2:
-        mesh.setOrder(2)
     types, tags, _ = mesh.getElements(2)
     return int(sum(len(t) for t in tags))
 
@@ -826,15 +906,14 @@ def _second_order(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray
     return np.concatenate([points, mid]), np.column_stack([triangles, midside])
 
 
-def _read_triangles(gmsh, order: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Points (n, 2) m, triangles (rows of points) and the gmsh node tag -> row map."""
+def _read_triangles(gmsh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Points (n, 2), 3-node triangles (rows of points) and the gmsh node tag -> row map."""
     node_tags, coords, _ = gmsh.model.mesh.getNodes()
     points = coords.reshape(-1, 3)[:, :2]
     index = np.full(int(node_tags.max()) + 1, -1, dtype=np.int64)
     index[node_tags.astype(np.int64)] = np.arange(len(node_tags))
-    element_type = 2 if order == 1 else 9  # gmsh: 3-node and 6-node triangles
-    _, nodes = gmsh.model.mesh.getElementsByType(element_type)
-    triangles = index[nodes.astype(np.int64)].reshape(-1, 3 * order)
+    _, nodes = gmsh.model.mesh.getElementsByType(2)  # gmsh: 3-node triangles
+    triangles = index[nodes.astype(np.int64)].reshape(-1, 3)
     return points.copy(), triangles, index
 
 

@@ -275,9 +275,12 @@ class Case:
                                                                      self.geometry.layer_bottoms))]
         water = self.water_depth_below_base()
         out = []
+        tops = self.layer_tops()
         for index, layer in enumerate(self.layers):
-            top_in_file = self.layer_tops()[index]
-            bottom_in_file = top_in_file + (layer.thickness if layer.thickness is not None else math.inf)
+            top_in_file = tops[index]
+            # the last layer runs on below the model, whatever thickness it was given
+            last = index == len(self.layers) - 1
+            bottom_in_file = math.inf if last or layer.thickness is None else top_in_file + layer.thickness
             top = max(top_in_file - self.footing.embedment, 0.0)
             bottom = bottom_in_file - self.footing.embedment
             if bottom <= 0.0:

@@ -31,6 +31,7 @@ from dataclasses import replace
 from typing import Any, Callable
 
 from .model import Case, Factors, Layer
+from .result import shown
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
 F_RANGE = (0.05, 20.0)  # strength factors searched; outside it the factor is reported as beyond
@@ -132,8 +133,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         load = bound.load_kN_per_m
         evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
         if progress:
-            shown = "withheld" if load is None else f"{load:.1f} kN/m"
-            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {shown}")
+            text = "withheld" if load is None else f"{shown(load)} kN/m"
+            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
             withheld = True
             notes.append(f"the {kind} bound at F = {F:.4g} was withheld ({bound.status}); it is not used "
@@ -300,11 +301,12 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
     """``{kind: work(kind, load)}`` for each (kind, load) asked, each on a thread of its
     own when ``parallel`` (analysis.Job)."""
-    from .analysis import Job
+    from .analysis import Job, finish
 
     jobs = {kind: Job(work, kind, load) for kind, load in asked}
     for job in jobs.values():
         job.start() if parallel else job.run()
+    finish(jobs.values())  # both ended before either's error is raised
     return {kind: job.result() for kind, job in jobs.items()}
 
 
@@ -358,11 +360,11 @@ def format_safety(fos: dict) -> list[str]:
     '    load factor      [2.000, 2.100]  (collapse load / design load)'
     """
     def show(value, prefix=""):
-        return "none" if value is None else f"{prefix}{value:.3f}"
+        return "none" if value is None else f"{prefix}{shown(value, 3)}"
 
     lines = []
     if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {fos['design_load_kN_per_m']:.1f} kN/m")
+        lines.append(f"  factor of safety against the design load {shown(fos['design_load_kN_per_m'])} kN/m")
         load = fos.get("load", {})
         lines.append(f"    load factor      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
                      "(collapse load / design load)")
@@ -377,6 +379,6 @@ def format_safety(fos: dict) -> list[str]:
         res = partial["design_resistance_kN_per_m"]
         action = partial["action_kN_per_m"]
         lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {action:.1f} kN/m" if action is not None else ""))
+                     + (f", design action {shown(action)} kN/m" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines

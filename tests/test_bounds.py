@@ -255,7 +255,9 @@ def test_upper_certificate_fails_on_an_opening_jump_in_tresca_soil(jump_pipeline
     x[column] += 0.01 * geometry["normal"][len(geometry["side2"]) // 2]
     certificate = certify_upper(case, mesh, program, _with_x(solution, x))
     assert not certificate["passed"]
-    assert certificate["flow_rule"] > 1e-3
+    # far more than solver slack: not restored (certify.restore_velocities), and failed on it
+    assert "restored" not in certificate
+    assert certificate["incompressibility"] > 1e-3
 
 
 def strength_from_zero_case(elements: int = 4000) -> Case:

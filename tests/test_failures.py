@@ -83,6 +83,7 @@ def test_bad_case_from_the_command_line(name: str, tmp_path: Path, five_megabyte
     assert done.stdout == ""
     assert "Traceback" not in done.stderr
     assert done.stderr == f"bearbound: {expected.value}\n"  # one line, the one naming the problem
+    assert done.stderr[:-1].isprintable() and len(done.stderr) < 400  # no escape code, no key printed whole
     assert list(tmp_path.iterdir()) == []  # no out/ folder, nothing else
     assert sorted(path.parent.iterdir()) == before  # nothing written beside the case either
 
