@@ -718,15 +718,17 @@ def _start_gmsh():
     return gmsh
 
 
-# gmsh.initialize resets these to the default action (measured: SIGTERM and SIGHUP), which
-# would kill the process mid-write on a SIGTERM that the command line handles as a Ctrl-C.
-_KEPT_SIGNALS = ("SIGTERM", "SIGHUP")
+# gmsh.initialize resets signal actions to the default (measured: SIGTERM, SIGHUP and
+# SIGPIPE), which would kill the process mid-write on a SIGTERM that the command line
+# handles as a Ctrl-C, or on a closed pipe that Python reports as BrokenPipeError. Every
+# catchable signal's action is put back, not only those measured.
+_UNCATCHABLE = ("SIGKILL", "SIGSTOP")
 
 
 @contextlib.contextmanager
 def _signal_actions_kept():
-    """Put back the process's signal actions for _KEPT_SIGNALS after the block, at the C
-    level (sigaction), so that it works from any thread, not only Python's main one."""
+    """Put back the process's signal actions after the block, at the C level (sigaction),
+    so that it works from any thread, not only Python's main one."""
     import ctypes
     import signal
 
@@ -735,7 +737,8 @@ def _signal_actions_kept():
     except (AttributeError, OSError):  # no C library sigaction: nothing to keep
         yield
         return
-    numbers = [int(getattr(signal, name)) for name in _KEPT_SIGNALS if hasattr(signal, name)]
+    skip = {int(getattr(signal, name)) for name in _UNCATCHABLE if hasattr(signal, name)}
+    numbers = [int(number) for number in signal.valid_signals() if int(number) not in skip]
     saved = {number: ctypes.create_string_buffer(512) for number in numbers}  # > sizeof(struct sigaction)
     for number, buffer in saved.items():
         sigaction(number, None, buffer)

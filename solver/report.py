@@ -22,7 +22,7 @@ from .case import CaseError, shown
 from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
                      save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
-from .result import CAUTION, refinement_line
+from .result import CAUTION, figure, refinement_line
 
 REPORT_FILE = "report.html"
 
@@ -173,7 +173,7 @@ def num(value, digits: int = 1, unit: str = "") -> str:
         return "&mdash;"
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         return esc(value)
-    text = shown(value, digits, thousands=True) if isinstance(value, float) else f"{value:,d}"
+    text = figure(value, digits, thousands=True) if isinstance(value, float) else f"{value:,d}"
     return esc(text) + ("&#8201;" + esc(unit) if unit else "")
 
 

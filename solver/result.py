@@ -14,11 +14,11 @@ from pathlib import Path
 
 from . import __version__
 
-def shown(value: float, decimals: int = 1, thousands: bool = False) -> str:
+def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
     """A number as people read it: ``decimals`` fixed decimals while it is under a billion
     in size, else four significant digits (a fixed format would print 309 digits for 1e308).
 
-    >>> shown(1234.5678, 2), shown(1e308), shown(-2.5e12, 1), shown(12345.0, 0, thousands=True)
+    >>> figure(1234.5678, 2), figure(1e308), figure(-2.5e12, 1), figure(12345.0, 0, thousands=True)
     ('1234.57', '1.000e+308', '-2.500e+12', '12,345')
     """
     if math.isfinite(value) and abs(value) < 1e9:

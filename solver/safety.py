@@ -31,7 +31,7 @@ from dataclasses import replace
 from typing import Any, Callable
 
 from .model import Case, Factors, Layer
-from .result import shown
+from .result import figure
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
 F_RANGE = (0.05, 20.0)  # strength factors searched; outside it the factor is reported as beyond
@@ -133,7 +133,7 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         load = bound.load_kN_per_m
         evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
         if progress:
-            text = "withheld" if load is None else f"{shown(load)} kN/m"
+            text = "withheld" if load is None else f"{figure(load)} kN/m"
             progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
             withheld = True
@@ -360,11 +360,11 @@ def format_safety(fos: dict) -> list[str]:
     '    load factor      [2.000, 2.100]  (collapse load / design load)'
     """
     def show(value, prefix=""):
-        return "none" if value is None else f"{prefix}{shown(value, 3)}"
+        return "none" if value is None else f"{prefix}{figure(value, 3)}"
 
     lines = []
     if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {shown(fos['design_load_kN_per_m'])} kN/m")
+        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m")
         load = fos.get("load", {})
         lines.append(f"    load factor      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
                      "(collapse load / design load)")
@@ -379,6 +379,6 @@ def format_safety(fos: dict) -> list[str]:
         res = partial["design_resistance_kN_per_m"]
         action = partial["action_kN_per_m"]
         lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {shown(action)} kN/m" if action is not None else ""))
+                     + (f", design action {figure(action)} kN/m" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines

@@ -372,3 +372,26 @@ def test_doctests() -> None:
 
     failures, _ = doctest.testmod(solver.outdir)
     assert failures == 0
+
+
+PROBE_SIGNALS = """\
+import os
+from solver.mesh import _start_gmsh
+
+_start_gmsh().finalize()
+r, w = os.pipe()
+os.close(r)
+try:
+    os.write(w, b"x")  # with SIGPIPE's default action back, the process dies here (status -13)
+except BrokenPipeError:
+    print("broken pipe reported")
+"""
+
+
+def test_starting_gmsh_keeps_every_signal_action(tmp_path: Path) -> None:
+    """gmsh.initialize resets signal actions at the C level (measured: SIGTERM, SIGHUP,
+    SIGPIPE); the mesh stage puts back every catchable one, so a closed pipe is still a
+    BrokenPipeError and not a silent death of the process."""
+    done = subprocess.run([sys.executable, "-c", PROBE_SIGNALS], capture_output=True, text=True, timeout=60)
+    assert done.returncode == 0, (done.returncode, done.stderr)
+    assert done.stdout.strip() == "broken pipe reported"

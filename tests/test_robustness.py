@@ -32,7 +32,7 @@ from solver.ground import material_arrays
 from solver.lower import deep_strata, lower_bound_program
 from solver.mesh import FAR_BASE, FAR_SIDE, build_mesh, plan_domain
 from solver.model import Case
-from solver.result import shown
+from solver.result import figure
 from solver.upper import upper_bound_program
 
 ELEMENTS = 400
@@ -231,5 +231,5 @@ def test_the_mesh_stage_refuses_what_gmsh_cannot_mesh() -> None:
 
 
 def test_numbers_are_shown_sensibly() -> None:
-    assert shown(1e308) == "1.000e+308" and len(shown(-1e300, 1)) < 12
-    assert shown(420.0) == "420.0"
+    assert figure(1e308) == "1.000e+308" and len(figure(-1e300, 1)) < 12
+    assert figure(420.0) == "420.0"
