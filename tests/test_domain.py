@@ -83,8 +83,12 @@ def test_a_wide_crust_mechanism_gives_way_to_the_soft_clay_below():
 def test_user_model_extent_is_used_and_checked():
     case = parse_case(crust_case(model_width=30.0, model_depth=12.0))
     assert extent(case) == (0.0, 15.0, 12.0)
-    with pytest.raises(CaseError, match=r"^analysis\.model_depth: 1\.5 is not allowed; must be > 2 "):
-        parse_case(crust_case(model_depth=1.5))  # the crust's interface at 2 m must be inside
+    # a base above the crust's interface at 2 m: the clay below is the lower bound's extension
+    # elements' (solver.lower.deep_strata); the upper bound's base is fixed, still an upper bound
+    shallow = plan_domain(parse_case(crust_case(model_depth=1.5)))
+    assert shallow.depth == 1.5 and shallow.interfaces == ()
+    with pytest.raises(CaseError, match=r"^analysis\.model_depth: 3000\.0 is not allowed; must be <= 2000 "):
+        parse_case(crust_case(model_depth=3000.0))  # 1000 footing widths
     with pytest.raises(CaseError, match=r"^analysis\.model_width: 1\.8 is not allowed; must be > 2 "):
         parse_case(crust_case(model_width=1.8))
     slope = {"footing": {"width": 2.0}, "ground": {"slope_angle": 30.0, "crest_setback": 1.0, "slope_height": 3.0},

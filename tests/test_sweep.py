@@ -259,7 +259,7 @@ def test_a_point_over_the_time_limit_is_stopped_and_the_sweep_goes_on(tmp_path):
     base = "\n".join([
         "[base.footing]", "width = 1.0",
         "[[base.layers]]", 'name = "clay"', 'model = "tresca"', "undrained_strength = 20.0", "unit_weight = 0.0",
-        "[base.analysis]", "elements = 400"])
+        "[base.analysis]", "elements = 400", "mesh = \"fixed\""])
     (tmp_path / "limit.toml").write_text(
         'point_time_limit_s = 4\n[vary]\n"analysis.elements" = [400000, 400]\n' + base + "\n")
     done = subprocess.run([sys.executable, "-m", "solver.cli", "sweep", "limit.toml", "--workers", "1",
