@@ -63,7 +63,7 @@ def random_case(seed: int, elements: int = 400) -> dict:
         ground["water_table"] = float(rng.choice([rng.uniform(0.0, 4.0) * width, rng.choice(tops),
                                                   footing.get("embedment", 0.0)]))
     return {"title": f"random layered case {seed}", "footing": footing, "ground": ground, "layers": layers,
-            "analysis": {"elements": elements}}
+            "analysis": {"elements": elements, "mesh": "fixed"}}
 
 
 def main(argv: list[str] | None = None) -> int:

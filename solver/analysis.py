@@ -15,7 +15,8 @@ from .certify import certify_lower, certify_upper, lower_stress_field, restore_v
 from .conic import solve, stronger_settings
 from .hand import hand_methods, information_only, where_it_falls
 from .lower import lower_bound_program
-from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
+from .ground import material_arrays, node_cohesion
+from .mesh import Mesh, build_mesh, far_edge_names, grow_domain, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .plausible import input_warnings
 from .result import MOVING_SPEED_FRACTION, BoundResult, Result
@@ -40,31 +41,32 @@ CLEAR_FRACTION = 1e-3  # upper bound: mechanism 'clear of the boundary' if |velo
 
 def analyse(case: Case, *, bounds: str | None = None, elements: int | None = None,
             backend: str | None = None, solver_settings: dict | None = None,
-            progress: bool = False, parallel: bool | None = None) -> Result:
+            progress=None, parallel: bool | None = None, adaptive: bool | None = None) -> Result:
     """Run the bounds the case asks for and return the certified Result.
 
-    ``parallel``: solve the two bounds at once, one per core (:func:`run_bounds`);
-    default: when this process may use two cores or more."""
+    ``adaptive`` (default: the case's ``[analysis] mesh``): refine until the target gap
+    or the time limit (solver.adapt); otherwise one mesh of ``elements`` per bound.
+    Either way a bound whose field reaches the edge of its domain is solved again on a
+    larger one (:func:`solve_fixed`, solver.adapt). ``progress``: a callable taking
+    one line per adaptive step. ``parallel``: solve the two bounds at once, one per
+    core (:func:`run_bounds`); default: when this process may use two cores or more."""
     parallel = two_cores_free() if parallel is None else parallel
+    adaptive = case.analysis.adaptive if adaptive is None else adaptive
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
     elements = elements or case.analysis.elements
     start = time.perf_counter()
     domain = plan_domain(case)
-    lower = upper = None
-    history = None
-    if case.analysis.target_gap is not None:
+    kinds = [k for k in ("lower", "upper") if bounds in (k, "both")]
+    history = refinement = None
+    if adaptive:
         from .adapt import refine_until  # adaptive refinement wraps run_bounds
-        lower, upper, history, timing = refine_until(case, bounds, elements, backend, domain, solver_settings,
-                                                     progress=progress, parallel=parallel)
+        lower, upper, history, timing, refinement = refine_until(
+            case, kinds, elements, backend, domain, solver_settings, progress=progress, parallel=parallel)
     else:
-        kinds = [k for k in ("lower", "upper") if bounds in (k, "both")]
-        done, solve_wall = run_bounds(case, [(k, elements, None) for k in kinds], backend, domain,
-                                      solver_settings, parallel)
+        done, timing = solve_fixed(case, kinds, elements, backend, domain, solver_settings, parallel)
         lower, upper = done.get("lower"), done.get("upper")
-        timing = {key: sum(b.timing[key] for b in (lower, upper) if b) for key in
-                  ("mesh_s", "assemble_s", "solve_s", "certify_s")}
-        timing["solve_wall_s"] = solve_wall
+        refinement = {"mesh": "fixed", "elements": elements}
     timing["total_s"] = time.perf_counter() - start
     notes = []
     if _crossed(lower, upper):
@@ -90,20 +92,28 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
         notes.append("the lower bound found no statically admissible stress field on this mesh; "
                      "that is a limit of the discretisation, not a proof that the ground fails: "
                      "try more elements")
-    if upper and upper.pressure_kPa is not None and upper.extra.get("mechanism_clear_of_boundary") is False:
-        notes.append("the upper-bound mechanism reaches the far boundary: the upper bound is still "
-                     "rigorous but may be loose")
+    for bound, what in ((lower, "the lower bound's stress field is at yield"),
+                        (upper, "the upper bound's mechanism moves")):
+        if bound and bound.pressure_kPa is not None and bound.extra.get("field_at_edge"):
+            notes.append(f"{what} at the {' and '.join(bound.extra['field_at_edge'])} edge of its model "
+                         f"({bound.extra['domain_width_m']:.3g} m wide, {bound.extra['domain_depth_m']:.3g} m "
+                         f"deep), and it was not solved on a larger one ({_why_at_edge(case, bound)}): it is still "
+                         "rigorous but may be " + ("low" if bound.kind == "lower" else "high"))
+    used = [b.mesh.domain for b in (lower, upper) if b is not None and b.mesh is not None] or [domain]
+    box = {"x_min_m": min(d.x_min for d in used), "x_max_m": max(d.x_max for d in used),
+           "depth_m": max(d.depth for d in used)}
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
                     footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
-                    domain={"half_domain_by_symmetry": domain.half, "width_m": domain.x_max - domain.x_min,
-                            "depth_m": domain.depth, "estimated_mechanism_width_m": domain.mechanism_width,
+                    domain={"half_domain_by_symmetry": domain.half, "width_m": box["x_max_m"] - box["x_min_m"],
+                            **box, "estimated_mechanism_width_m": domain.mechanism_width,
                             "estimated_mechanism_depth_m": domain.mechanism_depth,
-                            "x_min_m": domain.x_min, "x_max_m": domain.x_max,
+                            "planned_width_m": domain.x_max - domain.x_min, "planned_depth_m": domain.depth,
                             "slope_crest_x_m": domain.crest_x, "slope_toe_x_m": domain.toe_x,
                             "slope_height_m": domain.slope_height},
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
                     backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
+    result.refinement = refinement
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None
     result.hand_methods = [_hand_row(h, where_it_falls(h.pressure_kPa, lo, up)) for h in hand_methods(case)]
@@ -153,6 +163,73 @@ class Job(threading.Thread):
         return self.value
 
 
+MAX_GROWTHS = 3  # a bound's domain grows at most this many times (GROWTH^3 = 8 times the plan)
+
+
+def can_grow(case: Case, edges) -> set[str]:
+    """The edges among ``edges`` that may move: not those of a drawn site, nor those the
+    user fixed with [analysis] model_width / model_depth."""
+    if case.geometry is not None:
+        return set()
+    a = case.analysis
+    return {e for e in edges if (e == "base" and a.model_depth is None) or (e != "base" and a.model_width is None)}
+
+
+def _why_at_edge(case: Case, bound: BoundResult) -> str:
+    """Why a bound whose field reached the edge was not solved on a larger domain."""
+    if case.geometry is not None:
+        return "a drawn site keeps the extent of its drawing"
+    if not can_grow(case, bound.extra.get("field_at_edge", ())):
+        return "[analysis] model_width / model_depth fix that edge"
+    if bound.extra.get("domain_growths", 0) >= MAX_GROWTHS:
+        return f"the domain grew {MAX_GROWTHS} times already"
+    return "no time was left for a solve on a larger one"
+
+
+def next_domain(case: Case, bound: BoundResult):
+    """The larger domain a bound should be solved on again, or None: when its field
+    reached an edge that may grow, and it has grown fewer than MAX_GROWTHS times."""
+    edges = can_grow(case, bound.extra.get("field_at_edge", ()))
+    if not edges or bound.pressure_kPa is None or bound.extra.get("domain_growths", 0) >= MAX_GROWTHS:
+        return None
+    return grow_domain(case, bound.mesh.domain, edges)
+
+
+def solve_fixed(case: Case, kinds: list[str], elements: int, backend: str, domain, settings,
+                parallel: bool) -> tuple[dict[str, BoundResult], dict]:
+    """One mesh of ``elements`` triangles per bound; a bound whose field reaches the edge
+    of its domain is solved again on a larger one (:func:`next_domain`), and the better
+    certified value is kept (both are rigorous). Returns the bounds and the timing."""
+    timing = {"mesh_s": 0.0, "assemble_s": 0.0, "solve_s": 0.0, "certify_s": 0.0, "solve_wall_s": 0.0}
+    best: dict[str, BoundResult] = {}
+    requests = [(k, elements, None, domain) for k in kinds]
+    growths = dict.fromkeys(kinds, 0)
+    while requests:
+        done, wall = run_bounds(case, requests, backend, settings, parallel)
+        timing["solve_wall_s"] += wall
+        requests = []
+        for kind, bound in done.items():
+            for key in ("mesh_s", "assemble_s", "solve_s", "certify_s"):
+                timing[key] += bound.timing[key]
+            bound.extra["domain_growths"] = growths[kind]
+            if is_better(bound, best.get(kind)):
+                best[kind] = bound
+            grown = next_domain(case, bound)
+            if grown is not None:
+                growths[kind] += 1
+                requests.append((kind, elements, None, grown))
+    return best, timing
+
+
+def is_better(bound: BoundResult, than: BoundResult | None) -> bool:
+    """Whether ``bound`` is a tighter certified bound than ``than`` (or ``than`` has none)."""
+    if than is None or than.pressure_kPa is None:
+        return than is None or bound.pressure_kPa is not None
+    if bound.pressure_kPa is None:
+        return False
+    return bound.pressure_kPa > than.pressure_kPa if bound.kind == "lower" else bound.pressure_kPa < than.pressure_kPa
+
+
 def finish(jobs) -> None:
     """Wait for every started job. Before an error leaves the caller: a solve still running
     inside Clarabel when the interpreter exits is killed mid-call, which aborts the whole
@@ -162,10 +239,10 @@ def finish(jobs) -> None:
             job.join()
 
 
-def run_bounds(case: Case, requests: list, backend: str, domain, settings, parallel: bool
+def run_bounds(case: Case, requests: list, backend: str, settings, parallel: bool
                ) -> tuple[dict[str, BoundResult], float]:
-    """Run bounds given as (kind, elements, size_hint); returns them by kind and the
-    wall time (s) during which at least one of them was solving.
+    """Run bounds given as (kind, elements, size_hint, domain); returns them by kind and
+    the wall time (s) during which at least one of them was solving.
 
     With ``parallel`` each solve starts on a thread of its own as soon as its program is
     assembled, and the next bound is meshed meanwhile (gmsh stays on the calling thread:
@@ -174,7 +251,7 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
     shares nothing with the other."""
     jobs = []
     try:
-        for kind, elements, size_hint in requests:
+        for kind, elements, size_hint, domain in requests:
             t0 = time.perf_counter()
             mesh = build_mesh(case, order=1 if kind == "lower" else 2, elements=elements, domain=domain,
                               size_hint=size_hint)
@@ -189,7 +266,7 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
     finally:  # an error meshing the second bound must not leave the first one's solve running
         finish(job for _, _, _, job, _ in jobs)
     done = {}
-    for (kind, mesh, program, job, timing), (_, elements, size_hint) in zip(jobs, requests):
+    for (kind, mesh, program, job, timing), (_, elements, size_hint, domain) in zip(jobs, requests):
         solution = job.result()
         timing["solve_s"] = job.ended_at - job.started_at
         if kind == "lower" and solution.status == "infeasible" and mesh.fan:
@@ -207,6 +284,14 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
             solution = dataclasses.replace(again, iterations=solution.iterations + again.iterations,
                                            notes={**again.notes, "meshed_again_without_fans": "infeasible with fans"})
         done[kind] = _certified_bound(case, kind, mesh, program, solution, timing, backend, settings)
+        if (solution.linear_solver == "mkl" and not done[kind].certificate["passed"]
+                and "direct_solve_method" not in (settings or {})):
+            # MKL was the automatic choice: its answer failed the certificate, so qdldl solves it
+            # again (measured: MKL's residuals sit closer to the certificate's limits)
+            retry = solve(program, backend, settings={**(settings or {}), "direct_solve_method": "qdldl"})
+            retry.linear_solver = f"mkl, then qdldl (mkl: {done[kind].status})"
+            timing["solve_s"] += retry.solve_s
+            done[kind] = _certified_bound(case, kind, mesh, program, retry, timing, backend, settings)
     spans = sorted((job.started_at, job.ended_at) for _, _, _, job, _ in jobs)
     wall, reach = 0.0, -math.inf
     for begin, end in spans:  # length of the union of the solve intervals
@@ -268,6 +353,9 @@ def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timin
             extra = _mechanism_extent(mesh, fields["velocity"])
         else:
             fields = lower_stress_field(case, mesh, program, solution.x)
+            extra = _yield_at_far_boundary(case, mesh, program, solution.x, fields)
+    extra.update({"domain_width_m": mesh.domain.x_max - mesh.domain.x_min, "domain_depth_m": mesh.domain.depth,
+                  "linear_solver": solution.linear_solver})
     delta = math.radians(case.footing.load_inclination)
     if load is not None:
         extra.update({"vertical_kN_per_m": load * math.cos(delta), "horizontal_kN_per_m": load * math.sin(delta),
@@ -314,18 +402,62 @@ def _withhold(bound: BoundResult, reason: str) -> None:
         bound.extra.pop(key, None)
 
 
+EDGE_YIELD = 0.999  # lower bound: utilisation at which a node at the far boundary counts as at yield
+EDGE_RADIUS = 1e-2  # ... among nodes whose yield radius is at least this share of the median one
+#                     (a cohesionless soil's surface nodes sit at the cone's apex at any load)
+EDGE_HITS = 2  # ... and an edge counts as reached when at least this many of its triangles or strips
+#               have such a node. Measured (tests/test_domain.py's crust case, 1k and 4k triangles):
+#               where a larger model raised the bound by 3-20 %, 4 to 24 triangles on the edge had a
+#               node at utilisation >= 0.999; where it did not, none, or one triangle at the surface
+#               (sand, 1k triangles: 250.15 kPa on the plan, 250.70 on twice its width)
+
+
+def _yield_at_far_boundary(case: Case, mesh: Mesh, program, x: np.ndarray, fields: dict) -> dict:
+    """Lower bound: the far edges ("left", "right", "base") at which the stress field is at
+    yield, in triangles on that edge or at finite points of the extension elements beyond it:
+    there the model's extent, not the soil, limits the load the field can carry."""
+    names = far_edge_names(mesh)
+    far = names != ""
+    floor = EDGE_RADIUS * np.median(fields["radius_kPa"])
+    at_yield = (fields["utilisation"] >= EDGE_YIELD) & (fields["radius_kPa"] > floor)
+    hits = at_yield[mesh.boundary_element[far]].any(axis=1)  # per far edge: its triangle or its strip
+    strips = program.layout.get("strips", {}).get("strip")
+    if strips is not None and len(strips) == far.sum():  # one strip per far edge, in boundary order
+        mat = material_arrays(case)
+        e, k = mesh.boundary_element[far], mesh.boundary_local[far]
+        layer = mesh.layer[e]
+        for end, node in ((0, mesh.triangles[e, k]), (1, mesh.triangles[e, (k + 1) % 3])):
+            sigma = x[strips[:, end]]
+            c, phi = node_cohesion(mat, layer, -mesh.points[node, 1]), mat["phi"][layer]
+            radius = 2 * c * np.cos(phi) - (sigma[:, 0] + sigma[:, 1]) * np.sin(phi)
+            deviator = np.hypot(sigma[:, 0] - sigma[:, 1], 2 * sigma[:, 2])
+            hits |= (deviator >= EDGE_YIELD * radius) & (radius > floor)
+    names = names[far]
+    return {"field_at_edge": [str(n) for n in ("base", "left", "right") if hits[names == n].sum() >= EDGE_HITS]}
+
+
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
     """Where the soil moves: extent of nodes moving faster than MOVING_SPEED_FRACTION of the
-    footing (the pictures' frame and arrows use the same), and whether any node next to the
-    fixed far boundary moves faster than the much smaller CLEAR_FRACTION."""
+    footing (the pictures' frame and arrows use the same), whether any node next to the fixed
+    far boundary moves faster than the much smaller CLEAR_FRACTION, and next to which far edges."""
     speed = np.hypot(velocity[:, 0], velocity[:, 1])
     moving = speed > MOVING_SPEED_FRACTION
-    far_nodes = np.unique(mesh.boundary_edges[np.isin(mesh.boundary_kind, (FAR_SIDE, FAR_BASE))])
+    names = far_edge_names(mesh)
+    far_nodes = np.unique(mesh.boundary_edges[names != ""])
     near_far = np.zeros(len(mesh.points), dtype=bool)
     # nodes of elements touching the far boundary
     touching = np.isin(mesh.triangles, far_nodes).any(axis=1)
     near_far[mesh.triangles[touching].ravel()] = True
     near_far[far_nodes] = False
+    edges = []
+    for name in ("base", "left", "right"):
+        nodes = np.unique(mesh.boundary_edges[names == name])
+        near = np.isin(mesh.triangles, nodes).any(axis=1)
+        beside = np.zeros(len(mesh.points), dtype=bool)
+        beside[mesh.triangles[near].ravel()] = True
+        beside[nodes] = False
+        if len(nodes) and speed[beside].max(initial=0.0) >= CLEAR_FRACTION:
+            edges.append(name)
     B = mesh.footing_width
     depth = float(-mesh.points[moving, 1].min()) if moving.any() else 0.0
     half_width = float(np.abs(mesh.points[moving, 0]).max()) if moving.any() else 0.0
@@ -339,4 +471,5 @@ def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
             "mechanism_width_m": x_hi - x_lo, "mechanism_width_over_B": (x_hi - x_lo) / B,
             "mechanism_half_width_m": half_width, "mechanism_half_width_over_B": half_width / B,
             "max_speed_next_to_far_boundary": float(speed[near_far].max(initial=0.0)),
-            "mechanism_clear_of_boundary": bool(speed[near_far].max(initial=0.0) < CLEAR_FRACTION)}
+            "mechanism_clear_of_boundary": bool(speed[near_far].max(initial=0.0) < CLEAR_FRACTION),
+            "field_at_edge": edges}

@@ -201,10 +201,13 @@ ANALYSIS_KEYS = {
     "bounds": Key(str, choices=("lower", "upper", "both"), default="both"),
     "elements": Key(int, ge=200, le=400_000, default=4000),
     "backend": Key(str, choices=("clarabel", "cvxpy"), default="clarabel"),
-    "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=None),
-    "max_steps": Key(int, ge=1, le=20, default=6),
-    "time_limit_s": Key(float, "s", gt=0, le=86400, default=600.0),
+    "mesh": Key(str, choices=("adaptive", "fixed"), default="adaptive"),
+    "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=0.01),
+    "max_steps": Key(int, ge=1, le=20, default=8),
+    "time_limit_s": Key(float, "s", gt=0, le=86400, default=60.0),
     "velocity_jumps": Key(str, choices=("none", "all"), default="none"),
+    "model_width": Key(float, "m, the footing centred in it", gt=0, default=None),
+    "model_depth": Key(float, "m below the footing base", gt=0, default=None),
 }
 # Strengths: a positive one below 10 Pa (0.001 kPa/m for a gradient) is below anything
 # measurable and below what the certificates resolve against the weight and surcharge
@@ -257,6 +260,8 @@ NOT_WITH_GEOMETRY = (
     ("ground.slope_angle", 0.0, "left out with a [geometry] file: draw the slope instead"),
     ("ground.crest_setback", None, "left out with a [geometry] file: draw the slope instead"),
     ("ground.slope_height", None, "left out with a [geometry] file: draw the slope instead"),
+    ("analysis.model_width", None, "left out with a [geometry] file: the drawing gives the model's extent"),
+    ("analysis.model_depth", None, "left out with a [geometry] file: the drawing gives the model's extent"),
 )
 
 
@@ -460,7 +465,36 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
     case = Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
     _check_strata(case)
+    _check_model_extent(case)
     return case
+
+
+MAX_MODEL_WIDTHS = 1000  # [analysis] model_width and model_depth at most this many footing widths
+
+
+def _check_model_extent(case: Case) -> None:
+    """A model extent the user gives must hold the footing and the slope, and
+    be at most MAX_MODEL_WIDTHS footing widths."""
+    a, g, B = case.analysis, case.ground, case.footing.width
+    if a.model_width is not None:
+        toe = (B / 2 + g.crest_setback + g.slope_height / math.tan(math.radians(g.slope_angle))
+               if g.slope_angle > 0 else 0.0)
+        least, what = (2 * toe, "twice the distance from the footing's centre to the slope's toe") if toe \
+            else (B, "the footing width")
+        if a.model_width <= least:
+            raise _not_allowed("analysis.model_width", a.model_width, f"> {least:g} (m), {what}")
+    if a.model_depth is not None:
+        # Interfaces may lie below the model: the lower bound's extension elements carry the
+        # strata there (solver.lower.deep_strata); the upper bound holds the base fixed.
+        least = g.slope_height or 0.0
+        if a.model_depth <= least:
+            raise _not_allowed("analysis.model_depth", a.model_depth,
+                               f"> {least:g} (m below the footing base), so that the model holds the slope")
+    for key, value in (("model_width", a.model_width), ("model_depth", a.model_depth)):
+        if value is not None and value > MAX_MODEL_WIDTHS * B:
+            raise _not_allowed(f"analysis.{key}", value,
+                               f"<= {MAX_MODEL_WIDTHS * B:g} (m), {MAX_MODEL_WIDTHS} footing widths: no "
+                               "mechanism reaches that far, and a larger model only spreads the elements thinner")
 
 
 def _read_geometry(raw: Any, base_dir: str | pathlib.Path | None, parts: dict, layers: tuple[Layer, ...]):

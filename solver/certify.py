@@ -251,7 +251,6 @@ def velocity_rows(case: Case, mesh: Mesh, program: ConicProgram) -> tuple:
     tresca = phi[mesh.layer] == 0.0
     grad = corner_shape_gradients(mesh) * np.sqrt(2.0 * mesh.areas())[:, None, None, None]  # (n_el, 3, 6, 2)
     gx, gy = grad[..., 0], grad[..., 1]
-    zero = np.zeros_like(gx)
     cols = 2 * mesh.triangles[:, None, :]
     # (u, v) coefficients of L (ex + ey), L (ex - ey), L gxy at each corner
     strains = [(gx, gy), (gx, -gy), (gy, gx)]

@@ -27,7 +27,7 @@ from typing import Any
 
 from .case import CaseError, load_case, shown
 from .outdir import abandon_open_folders
-from .result import CAUTION
+from .result import CAUTION, refinement_line
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 
@@ -74,6 +74,9 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--elements", type=int, default=None, help="override [analysis] elements")
     run.add_argument("--backend", choices=("clarabel", "cvxpy"), default=None,
                      help="override [analysis] backend")
+    run.add_argument("--fixed-mesh", action="store_true",
+                     help="one mesh of --elements (or [analysis] elements) triangles per bound, no adaptive "
+                          "refinement (default: refine until [analysis] target_gap or time_limit_s)")
     run.add_argument("--serial", action="store_true",
                      help="solve the two bounds one after the other on one core "
                           "(default: at once, one per core, when two cores are free)")
@@ -139,7 +142,8 @@ def _solve_and_write(args, case, out_dir: Path, folder):
 
     def solve_case():
         result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend,
-                         progress=sys.stderr.isatty(), parallel=False if args.serial else None)
+                         progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True),
+                         parallel=False if args.serial else None, adaptive=False if args.fixed_mesh else None)
         if case.footing.design_load is not None or case.factors is not None:
             from .safety import factor_of_safety
 
@@ -314,6 +318,8 @@ def format_summary(result, path: Path | None = None) -> str:
         if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
             lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "
                          f"M about the centre [{extra_lo['moment_kNm_per_m']:.1f}, {extra_up['moment_kNm_per_m']:.1f}] kNm/m")
+    if getattr(result, "refinement", None):
+        lines.append(f"    mesh        {refinement_line(result.refinement, result.gap_percent)}")
     t = result.timing
     lines.append(f"    wall time   {t['total_s']:.1f} s (solving {t.get('solve_wall_s', t['solve_s']):.1f} s; "
                  f"the solves took {t['solve_s']:.1f} s together)")

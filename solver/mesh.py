@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .model import Case
+from .model import Case, continues
 
 # Boundary edge kinds (codes in Mesh.boundary_kind).
 FOOTING, GROUND, SYMMETRY, FAR_SIDE, FAR_BASE = range(5)
@@ -231,38 +231,39 @@ def is_symmetric(case: Case) -> bool:
 
 
 def plan_domain(case: Case, half: bool | None = None) -> Domain:
-    """Size the domain from B and the strongest friction angle below the base.
+    """Size the domain from the strata's strengths and the collapse mechanisms they allow.
 
-    The collapse zone is estimated from the Prandtl-Reissner mechanism
-    (active wedge, log-spiral fan, passive wedge; common practice):
-    r0 = B / (2 cos(45 + phi/2)), r1 = r0 exp(pi/2 tan phi), surface extent
-    beyond the edge 2 r1 cos(45 - phi/2), depth at most r1. The domain is made
-    twice that plus B so that neither bound is restricted by its boundary; the
-    result reports whether the upper-bound mechanism stayed clear of it.
-    A drawn site ([geometry] file) has the extent of its drawing (solver.sitefile).
+    Each candidate mechanism is a Prandtl-Reissner one (active wedge, log-spiral
+    fan, passive wedge; common practice) under an equivalent footing of width b
+    on top of one stratum, at its depth d: r0 = b / (2 cos(45 + phi/2)),
+    r1 = r0 exp(pi/2 tan phi); it reaches 2 r1 cos(45 - phi/2) beyond the
+    equivalent footing's edge and r1 below it (:func:`mechanism_candidates`).
+    The domain is twice the union of the candidates plus B, so that neither
+    bound is restricted by its boundary; it holds every interface between
+    strata that differ (below the mesh, the lower bound's extension elements
+    carry the last stratum only). The run checks afterwards whether either
+    bound's field reaches the edge and grows the domain if it does
+    (:func:`grow_domain`, solver.analysis).
+
+    ``[analysis] model_width`` and ``model_depth`` (m), when given, replace the
+    planned extent (the footing centred in the given width); such a domain
+    does not grow. A drawn site ([geometry] file) has the extent of its drawing
+    (solver.sitefile).
     """
     if case.geometry is not None:
         from .sitefile import plan_site_domain
         return plan_site_domain(case)
     B = case.footing.width
-    strata = case.strata()
-    phi = max(s.phi_rad for s in strata)
-    r0 = B / (2.0 * math.cos(math.pi / 4 + phi / 2))
-    r1 = r0 * math.exp(math.pi / 2 * math.tan(phi))
-    width = 2.0 * r1 * math.cos(math.pi / 4 - phi / 2)
-    depth = r1
+    candidates = mechanism_candidates(case)
+    reach = max(x for x, _ in candidates) - B / 2  # m beyond the footing edge
+    depth = max(d for _, d in candidates)
+    x_max = B / 2 + 2.0 * reach + B
     # Every interface (layers and the water table) within reach of a mechanism lies inside
     # the mesh; those below the model are carried by the lower bound's extension elements
-    # (solver.lower), so that a deep water table or a thick layer costs nothing.
-    interfaces = tuple(s.bottom for s in strata[:-1])
-    # A weak layer under a strong crust draws the mechanism down: reach past
-    # the deepest interface within the estimated zone (punching, common practice).
-    interfaces_near = [d for d in interfaces if d < 2.0 * depth + B]
-    if interfaces_near:
-        depth = max(depth, max(interfaces_near) + r0)
-        width = max(width, max(interfaces_near) + width)
-    x_max = B / 2 + 2.0 * width + B
-    model_depth = max(2.0 * depth + B, 1.25 * interfaces_near[-1] if interfaces_near else 0.0)
+    # (solver.lower.deep_strata), so that a deep water table or a thick layer costs nothing.
+    interfaces = tuple(s.bottom for s in case.strata()[:-1])
+    near = [d for d in case.required_interfaces() if d < 2.0 * depth + B]
+    model_depth = max(2.0 * depth + B, 1.25 * near[-1] if near else 0.0)
     slope = {}
     ground = case.ground
     if ground.slope_angle > 0:
@@ -271,7 +272,7 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         # footing's zone again, and below it by as much (common practice).
         crest = B / 2 + ground.crest_setback
         toe = crest + ground.slope_height / math.tan(math.radians(ground.slope_angle))
-        x_max = max(x_max, toe + 2.0 * width + B)
+        x_max = max(x_max, toe + 2.0 * reach + B)
         model_depth = max(model_depth, ground.slope_height + 2.0 * depth + B)
         slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
         half = False
@@ -280,10 +281,105 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     floor = model_depth - 0.2 * (model_depth - slope.get("slope_height", 0.0))
     model_depth = min([d for d in interfaces if floor < d <= model_depth], default=model_depth)
     half = is_symmetric(case) if half is None else half
-    x_min = 0.0 if half else -(B / 2 + 2.0 * width + B)
-    return Domain(half=half, x_min=x_min, x_max=x_max, depth=model_depth,
-                  interfaces=tuple(d for d in interfaces if d < model_depth),
-                  mechanism_width=width, mechanism_depth=depth, **slope)
+    x_min = 0.0 if half else -(B / 2 + 2.0 * reach + B)
+    analysis = case.analysis
+    if analysis.model_width is not None:
+        x_min, x_max = (0.0 if half else -analysis.model_width / 2), analysis.model_width / 2
+    if analysis.model_depth is not None:
+        model_depth = analysis.model_depth
+    return _domain(case, half, x_min, x_max, model_depth, reach, depth, slope)
+
+
+def _domain(case: Case, half: bool, x_min: float, x_max: float, depth: float, reach: float,
+            mechanism_depth: float, slope: dict) -> Domain:
+    """A Domain with the interfaces that lie inside it. A base within 5 % of its depth
+    below an interface is put on the interface: a thinner band under it would only cost
+    small triangles (a grown or user-given depth; the plan places its base the same way)."""
+    below = [s.bottom for s in case.strata()[:-1]]
+    depth = min([d for d in below if 0.95 * depth < d <= depth], default=depth)
+    interfaces = tuple(d for d in below if d < depth)
+    return Domain(half=half, x_min=x_min, x_max=x_max, depth=depth, interfaces=interfaces,
+                  mechanism_width=reach, mechanism_depth=mechanism_depth, **slope)
+
+
+SPREAD = 2.0  # a strong stratum spreads the load onto a weaker one below it by at most this much
+#               sideways per m of depth on each side (the mechanism under a crust 5 times as strong
+#               as the clay below it, H = B, reached about 1.9 m per m; tests/test_domain.py)
+
+
+def mechanism_candidates(case: Case) -> list[tuple[float, float]]:
+    """(x, depth) in m: how far from the footing centre and how deep each plausible
+    collapse mechanism reaches (Prandtl-Reissner extents, :func:`plan_domain`).
+
+    The footing's pressure is estimated from the top stratum alone, q0 (its
+    bearing capacity on a half-space of that stratum, :func:`_capacity_kPa`). A
+    deeper stratum k within reach of the mechanisms above it whose own capacity
+    q_k is lower is a candidate too: the stronger soil above spreads the load
+    onto it, over an equivalent footing of width b_k = B q0 / q_k (the width
+    that carries the footing's load at q_k), at most B + 2 SPREAD d_k. A
+    mechanism that would reach into a weaker stratum is dropped: the weaker
+    stratum's own candidate takes its place (a sand crust's wide mechanism
+    does not form over soft clay). The rough capacities only rank the strata;
+    the run checks the fields afterwards (solver.analysis)."""
+    B = case.footing.width
+    strata = case.strata()
+    overburden = case.overburden_kPa()
+    tops, capacity = [], []
+    for s in strata:
+        tops.append(overburden)
+        capacity.append(_capacity_kPa(s, B, overburden))
+        if math.isfinite(s.bottom):
+            overburden += s.unit_weight * (s.bottom - s.top)
+    q0 = capacity[0]
+    out: list[tuple[float, float, int]] = []
+    reach_depth = 0.0
+    for k, s in enumerate(strata):
+        if k > 0 and (continues(strata[k - 1], s) or s.top >= 2.0 * reach_depth + B or capacity[k] >= q0):
+            continue  # the same soil carried on, out of reach, or no weaker than the top
+        b = B if k == 0 else min(B * q0 / max(capacity[k], 1e-9), B + 2.0 * SPREAD * s.top)
+        r0 = b / (2.0 * math.cos(math.pi / 4 + s.phi_rad / 2))
+        r1 = r0 * math.exp(math.pi / 2 * math.tan(s.phi_rad))
+        x, depth = b / 2 + 2.0 * r1 * math.cos(math.pi / 4 - s.phi_rad / 2), s.top + r1
+        out.append((x, depth, k))
+        reach_depth = max(reach_depth, depth)
+    # a mechanism reaching a weaker stratum's top gives way to that stratum's own
+    kept = [(x, d) for x, d, k in out
+            if not any(j > k and strata[j].top < d and capacity[j] < capacity[k] for _, _, j in out)]
+    return kept or [(x, d) for x, d, _ in out]
+
+
+def _capacity_kPa(stratum, b: float, overburden: float) -> float:
+    """c Nc + p Nq + 0.5 gamma b N_gamma (kPa) of a strip of width b (m) on a half-space
+    of one stratum under an overburden p (kPa), c taken at b/2 below the stratum's
+    top; factors of EN 1997-1 Annex D (solver.hand.bearing_factors). Only to rank strata."""
+    from .hand import bearing_factors
+
+    f = bearing_factors("ec7", math.degrees(stratum.phi_rad))
+    c = stratum.c_top + stratum.c_gradient * b / 2
+    return c * f["Nc"] + overburden * f["Nq"] + 0.5 * stratum.unit_weight * b * f["Ngamma"]
+
+
+GROWTH = 2.0  # a domain whose edge a bound's field reaches grows by this factor that way
+
+
+def grow_domain(case: Case, domain: Domain, edges: set[str]) -> Domain:
+    """The domain made GROWTH times as wide beyond the footing edge toward each side in
+    ``edges`` ("left", "right") and/or GROWTH times as deep ("base"), for a bound whose
+    field reached those edges (solver.analysis)."""
+    B = case.footing.width
+    x_max = B / 2 + GROWTH * (domain.x_max - B / 2) if "right" in edges else domain.x_max
+    x_min = -(B / 2 + GROWTH * (-domain.x_min - B / 2)) if "left" in edges and not domain.half else domain.x_min
+    depth = GROWTH * domain.depth if "base" in edges else domain.depth
+    slope = ({"crest_x": domain.crest_x, "toe_x": domain.toe_x, "slope_height": domain.slope_height}
+             if domain.slope else {})
+    return _domain(case, domain.half, x_min, x_max, depth, domain.mechanism_width, domain.mechanism_depth, slope)
+
+
+def far_edge_names(mesh: Mesh) -> np.ndarray:
+    """(n_b,) name of the far edge each boundary edge lies on: "left", "right", "base" or ""."""
+    midpoint = mesh.points[mesh.boundary_edges[:, :2]].mean(axis=1)
+    side = np.where(midpoint[:, 0] > 0.5 * (mesh.domain.x_min + mesh.domain.x_max), "right", "left")
+    return np.where(mesh.boundary_kind == FAR_BASE, "base", np.where(mesh.boundary_kind == FAR_SIDE, side, ""))
 
 
 # Fan of triangles centred on each footing edge (lower bound). A fan of stress

@@ -22,7 +22,7 @@ from .case import CaseError, shown
 from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
                      save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
-from .result import CAUTION, figure
+from .result import CAUTION, figure, refinement_line
 
 REPORT_FILE = "report.html"
 
@@ -615,7 +615,8 @@ def _statistics(d: dict, run: Run) -> str:
     dom = d.get("domain") or {}
     extra = upper.get("extra") or {}
     timing = d.get("timing") or {}
-    kv = [("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
+    kv = [("mesh", esc(refinement_line(d["refinement"], d.get("gap_percent"))) if d.get("refinement") else "not recorded"),
+          ("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
           ("time with a solve running (the two bounds solve at once on two cores)",
            num(timing.get("solve_wall_s"), 2, "s")),
           ("half domain by symmetry", "yes" if dom.get("half_domain_by_symmetry") else "no"),

@@ -68,6 +68,9 @@ class Result:
     backend: str
     pore_pressure_at_base_kPa: float = 0.0  # pressures are effective; total adds this
     adapt_history: list[dict] | None = None  # adaptive refinement: one row per step
+    # how the mesh was chosen: {"mesh": "fixed", "elements"} or {"mesh": "adaptive", "target_gap_percent",
+    # "time_limit_s", "max_steps", "steps", "reached", "stopped", "why"} (solver.adapt.refine_until)
+    refinement: dict | None = None
     notes: list[str] = field(default_factory=list)
     input_warnings: list[str] = field(default_factory=list)  # values allowed but unusual (solver.plausible)
     hand_methods: list[dict] = field(default_factory=list)  # on the strength the bounds use, compared
@@ -107,11 +110,25 @@ class Result:
             data["hand_methods"] = self.hand_methods
         if self.hand_methods_as_given:
             data["hand_methods_as_given"] = self.hand_methods_as_given
+        if self.refinement is not None:
+            data["refinement"] = self.refinement
         if self.adapt_history is not None:
             data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:
             data["factor_of_safety"] = self.factor_of_safety
         return json_safe(data)
+
+
+def refinement_line(refinement: dict, gap_percent: float | None) -> str:
+    """One line: how the mesh was chosen and, when adaptive, whether the target gap was met and why not."""
+    if refinement.get("mesh") != "adaptive":
+        return "one fixed mesh per bound (adaptive refinement off: --fixed-mesh or [analysis] mesh = \"fixed\")"
+    target, steps = refinement["target_gap_percent"], refinement["steps"]
+    if refinement["reached"]:
+        return f"adaptive, target gap {target:g} % reached in {steps} step{'s' * (steps > 1)}"
+    gap = "no gap" if gap_percent is None else f"gap {gap_percent:.2f} %"
+    return (f"adaptive, target gap {target:g} % NOT reached ({gap} after {steps} step{'s' * (steps > 1)}); "
+            f"stopped by {refinement['why']}")
 
 
 def _bound_dict(bound: BoundResult | None) -> dict | None:

@@ -289,7 +289,8 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
         Its bounds at F = 1 (reused, not solved again).
     elements, backend : optional
         As given to :func:`solver.analysis.analyse` for the main run: every extra
-        solve uses the same mesh size and back end.
+        solve uses the same back end and one fixed mesh with as many triangles as
+        the main run's last mesh of that bound (``elements`` when it has none).
     tolerance : float
         Relative width hi/lo - 1 at which the search with each bound stops.
     solve : callable, optional
@@ -314,7 +315,10 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
         from .analysis import analyse
 
         def solve(case_F: Case, kind: str):
-            return getattr(analyse(case_F, bounds=kind, elements=elements, backend=backend), kind)
+            # one fixed mesh per solve, as fine as the main run's last one for this bound
+            main = getattr(result, kind)
+            size = main.elements if main is not None and main.elements else elements
+            return getattr(analyse(case_F, bounds=kind, elements=size, backend=backend, adaptive=False), kind)
 
     start = time.perf_counter()
     lo1 = result.lower.load_kN_per_m if result.lower else None

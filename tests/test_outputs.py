@@ -35,6 +35,7 @@ undrained_strength = 30.0
 unit_weight = 0.0
 [analysis]
 elements = 300
+mesh = "fixed"
 bounds = "upper"
 """
 # Would take far longer than any test's timeout: a check that came after the solve fails

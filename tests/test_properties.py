@@ -219,7 +219,7 @@ def certified_pressures(result) -> tuple[float, float]:
 @SOLVING
 @given(bracket_cases())
 def test_lower_bound_never_exceeds_upper_bound(case: Case) -> None:
-    lower, upper = certified_pressures(analyse(case, elements=ELEMENTS))
+    lower, upper = certified_pressures(analyse(case, elements=ELEMENTS, adaptive=False))
     assert lower <= upper * (1 + ROUND_OFF), (lower, upper)
 
 
@@ -281,8 +281,9 @@ def test_more_strength_never_lowers_either_bound(data: dict, tan_phi_factor: flo
 @SOLVING
 @given(level_ground_soils(), finite(0.5, 40))
 def test_heavier_surcharge_never_lowers_the_bracket(data: dict, added_kPa: float) -> None:
-    # Level ground, vertical central load, one mesh (the domain does not depend on the
-    # surcharge; it is passed anyway so the premise is explicit and checked).
+    # Level ground, vertical central load, one mesh: the planned domain may depend on the
+    # surcharge (plan_domain ranks the strata by rough bearing capacities, which it raises),
+    # so both cases are solved on the light case's domain, hence on the same meshes.
     # Lower bound: adding an isotropic compression of added_kPa everywhere to an admissible
     # field keeps equilibrium, meets the heavier surcharge on the ground and keeps the
     # deviator while raising the yield radius by 2 added sin(phi) >= 0, so the bound rises
@@ -294,7 +295,6 @@ def test_heavier_surcharge_never_lowers_the_bracket(data: dict, added_kPa: float
     heavy = parse_case({**data, "ground": {**data["ground"],
                                            "surcharge": data["ground"]["surcharge"] + added_kPa}})
     domain = plan_domain(light)
-    assert plan_domain(heavy) == domain
     light_lower, light_upper, light_meshes = bounds_on(light, domain)
     heavy_lower, heavy_upper, heavy_meshes = bounds_on(heavy, domain)
     assert_same_meshes(light_meshes, heavy_meshes)

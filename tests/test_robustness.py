@@ -44,7 +44,7 @@ def case_of(footing: dict | None = None, ground: dict | None = None, layers: lis
             elements: int = ELEMENTS) -> Case:
     return parse_case({"footing": {"width": 2.0, **(footing or {})}, "ground": ground or {},
                        "layers": layers or [{**SAND, "thickness": 1.0}, CLAY],
-                       "analysis": {"elements": elements}})
+                       "analysis": {"elements": elements, "mesh": "fixed"}})
 
 
 def bracket(case: Case, **kwargs) -> tuple[float, float]:
@@ -202,7 +202,7 @@ def test_an_error_while_the_other_bound_solves_is_one_line_not_an_abort(tmp_path
     # Before: the process aborted ("FATAL: exception not rethrown", exit 134) when the upper
     # bound's mesh failed while the lower bound was still inside the solver.
     (tmp_path / "clay.toml").write_text(
-        'footing = { width = 2.0 }\nanalysis = { elements = 3000 }\n'
+        'footing = { width = 2.0 }\nanalysis = { elements = 3000, mesh = "fixed" }\n'
         'layers = [{ name = "clay", model = "tresca", undrained_strength = 30.0, unit_weight = 18.0 }]\n')
     script = textwrap.dedent("""\
         import sys

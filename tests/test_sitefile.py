@@ -63,7 +63,7 @@ def certified(result) -> tuple[float, float]:
 @pytest.mark.parametrize("site", EXAMPLES)
 def test_example_site_brackets_its_collapse_load(site):
     case = load_case(MESHES / f"{site}.toml")
-    result = analyse(case, elements=600)
+    result = analyse(case, elements=600, adaptive=False)
     lower, upper = certified(result)
     assert 0 < lower <= upper * (1 + ROUND_OFF)
     assert abs(result.lower.elements / 600 - 1) < 0.1 and abs(result.upper.elements / 600 - 1) < 0.1
@@ -71,7 +71,7 @@ def test_example_site_brackets_its_collapse_load(site):
 
 def test_drawn_level_site_brackets_prandtl(tmp_path):
     """Weightless Tresca on level ground drawn as a site: (2 + pi) su inside the bracket."""
-    lower, upper = certified(analyse(drawn_case(tmp_path, PRANDTL_GEO), elements=1000))
+    lower, upper = certified(analyse(drawn_case(tmp_path, PRANDTL_GEO), elements=1000, adaptive=False))
     exact = (2.0 + math.pi) * CLAY["undrained_strength"]  # Prandtl (1920)
     assert lower <= exact * (1 + ROUND_OFF) and exact <= upper * (1 + ROUND_OFF)
     assert (upper - lower) / lower < 0.15  # a loose bracket at 1000 triangles would be a defect
@@ -84,13 +84,13 @@ def test_fixed_base_holds_the_soil_and_carries_at_least_the_far_field_load(tmp_p
     lower bound."""
     shallow = PRANDTL_GEO.replace("D = 8", "D = 1").replace('Physical Curve("far base")', 'Physical Curve("fixed")')
     fixed = drawn_case(tmp_path, shallow)
-    result = analyse(fixed, elements=800)
+    result = analyse(fixed, elements=800, adaptive=False)
     certified(result)
     mesh = result.upper.mesh
     assert np.count_nonzero(mesh.boundary_kind == FIXED) > 0 and not np.any(mesh.boundary_kind == FAR_BASE)
     on_rock = np.unique(mesh.boundary_edges[mesh.boundary_kind == FIXED])
     assert np.all(result.upper.fields["velocity"][on_rock] == 0.0)
-    half_space = analyse(drawn_case(tmp_path, PRANDTL_GEO), elements=800, bounds="lower").lower
+    half_space = analyse(drawn_case(tmp_path, PRANDTL_GEO), elements=800, bounds="lower", adaptive=False).lower
     assert half_space.certificate["passed"] and result.upper.pressure_kPa >= half_space.pressure_kPa
 
 
@@ -204,13 +204,13 @@ def test_lower_bound_mesh_splits_corner_triangles(tmp_path, monkeypatch):
     case = drawn_case(tmp_path, OVERHANG_GEO, layers=(clay,), ground={"surcharge": 20.0})
     mesh = build_mesh(case, order=1, elements=400)
     assert np.bincount(mesh.boundary_element, minlength=mesh.n_elements).max() == 1
-    assert analyse(case, elements=400, bounds="lower").lower.certificate["passed"]
+    assert analyse(case, elements=400, bounds="lower", adaptive=False).lower.certificate["passed"]
     unsplit = solver.sitefile.check_site
     monkeypatch.setattr(solver.sitefile, "check_site",
                         lambda *args, split_corners=False: unsplit(*args, split_corners=False))
     mesh = build_mesh(case, order=1, elements=400)
     assert np.bincount(mesh.boundary_element, minlength=mesh.n_elements).max() == 2  # the 60-degree corner
-    assert "infeasible" in analyse(case, elements=400, bounds="lower").lower.status
+    assert "infeasible" in analyse(case, elements=400, bounds="lower", adaptive=False).lower.status
 
 
 def test_case_round_trip_keeps_the_drawing():
@@ -259,7 +259,7 @@ def test_msh_file_is_taken_as_given(tmp_path, order):
     text = (MESHES / "bench-cut.toml").read_text(encoding="utf-8").replace("bench-cut.geo", "bench.msh")
     (tmp_path / "bench.toml").write_text(text, encoding="utf-8")
     case = load_case(tmp_path / "bench.toml")
-    result = analyse(case, elements=5000)  # ignored: a .msh is used as given
+    result = analyse(case, elements=5000, adaptive=False)  # ignored: a .msh is used as given
     lower, upper = certified(result)
     assert result.lower.elements == result.upper.elements == count
     assert 0 < lower <= upper * (1 + ROUND_OFF)

@@ -24,7 +24,7 @@ BASE = {"title": "Stiff clay over soft clay",
         "layers": [{"name": "stiff clay", "thickness": 0.5, "model": "tresca",
                     "undrained_strength": 40.0, "unit_weight": 0.0},
                    {"name": "soft clay", "model": "tresca", "undrained_strength": 20.0, "unit_weight": 0.0}],
-        "analysis": {"elements": 400}}
+        "analysis": {"elements": 400, "mesh": "fixed"}}
 
 
 def sweep_of(vary, **more):
@@ -65,7 +65,7 @@ def test_zip_ranges_and_unquoted_dotted_keys():
 def test_hash_follows_the_whole_case():
     a = sweep_of({"footing.width": [1.0, 2.0]})
     b = sweep_of({"footing.width": [2.0]})
-    c = parse_sweep({"base": {**BASE, "analysis": {"elements": 500}}, "vary": {"footing.width": [2.0]}})
+    c = parse_sweep({"base": {**BASE, "analysis": {"elements": 500, "mesh": "fixed"}}, "vary": {"footing.width": [2.0]}})
     assert a.points[1].sha256 == b.points[0].sha256
     assert c.points[0].sha256 != b.points[0].sha256
 
@@ -222,7 +222,7 @@ def test_cli_sweep_records_a_failed_point_and_goes_on(tmp_path):
         "undrained_strength = 40.0", "unit_weight = 0.0",
         "[[base.layers]]", 'name = "soft clay"', 'model = "tresca"', "undrained_strength = 20.0",
         "unit_weight = 0.0",
-        "[base.analysis]", "elements = 400"])
+        "[base.analysis]", "elements = 400", "mesh = \"fixed\""])
     (tmp_path / "clay-sweep.toml").write_text(
         'title = "Test sweep 粘土"\n[vary]\n"layers.1.undrained_strength" = [0.0, 20.0]\n'
         '[chart]\ndivide_by = "layers.0.undrained_strength"\nformats = ["png", "svg"]\n' + base + "\n")
@@ -277,7 +277,7 @@ def test_a_point_over_the_time_limit_is_stopped_and_the_sweep_goes_on(tmp_path):
     base = "\n".join([
         "[base.footing]", "width = 1.0",
         "[[base.layers]]", 'name = "clay"', 'model = "tresca"', "undrained_strength = 20.0", "unit_weight = 0.0",
-        "[base.analysis]", "elements = 400"])
+        "[base.analysis]", "elements = 400", "mesh = \"fixed\""])
     (tmp_path / "limit.toml").write_text(
         'point_time_limit_s = 4\n[vary]\n"analysis.elements" = [400000, 400]\n' + base + "\n")
     done = subprocess.run([sys.executable, "-m", "solver.cli", "sweep", "limit.toml", "--workers", "1",

@@ -614,7 +614,7 @@ def _run_one(entry: dict, elements: int) -> dict:
     notes: list[str] = []
     skipped = None
     try:
-        result = analyse(case, bounds="both", elements=elements)
+        result = analyse(case, bounds="both", elements=elements, adaptive=False)
         for kind in ("lower", "upper"):
             bound = getattr(result, kind)
             bounds[kind] = None if bound.pressure_kPa is None else bound.pressure_kPa / divisor
