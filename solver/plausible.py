@@ -17,7 +17,7 @@ import math
 from .model import WATER_UNIT_WEIGHT, Case
 
 FRICTION_ANGLE_LOW_DEG = 5.0  # drained friction angles of soils lie above this (common practice)
-FRICTION_ANGLE_HIGH_DEG = 50.0  # and below this, dense gravels included (common practice)
+FRICTION_ANGLE_HIGH_DEG = 45.0  # and below this, dense gravels included (common practice); the case check refuses above 50
 COHESION_HIGH_KPA = 100.0  # effective cohesion of soils rarely reaches this (common practice)
 UNDRAINED_LOW_KPA = 2.0  # below the softest clays that carry a footing (common practice)
 UNDRAINED_HIGH_KPA = 1000.0  # above hard clays (a few hundred kPa); more is rock or a unit slip
@@ -85,8 +85,10 @@ def input_warnings(case: Case) -> list[str]:
                        f"below the water table (saturated weight less {WATER_UNIT_WEIGHT:g})")
     f = case.footing
     if not WIDTH_RANGE_M[0] <= f.width <= WIDTH_RANGE_M[1]:
+        why = ("is the unit m, not cm or mm?" if f.width < WIDTH_RANGE_M[0] else
+               "that is a raft or an embankment rather than a strip footing; is the unit m?")
         out.append(f"footing.width = {f.width:g} m is unusual for a strip footing ({WIDTH_RANGE_M[0]:g} to "
-                   f"{WIDTH_RANGE_M[1]:g} m); is the unit m, not mm?")
+                   f"{WIDTH_RANGE_M[1]:g} m); {why}")
     if f.embedment > EMBEDMENT_WIDTHS * f.width:
         out.append(f"footing.embedment = {f.embedment:g} m is more than {EMBEDMENT_WIDTHS:g} B deep: the soil "
                    "above the base still counts only as a surcharge (its strength is ignored), which "
