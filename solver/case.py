@@ -27,7 +27,7 @@ import unicodedata
 from dataclasses import dataclass
 from typing import Any
 
-from solver.model import WATER_UNIT_WEIGHT, Analysis, Case, Factors, Footing, Ground, Layer
+from solver.model import WATER_UNIT_WEIGHT, Analysis, Case, Factors, Footing, Ground, Layer, ReportInfo
 
 MAX_FILE_BYTES = 1_000_000  # a case is a few dozen lines; anything this big is the wrong file
 
@@ -245,10 +245,17 @@ LAYER_KEYS = {
     "unit_weight": Key(float, "kN/m^3", ge=0, le=30),  # 30: sanity limit, catches N/m^3 or kg/m^3
     "saturated_unit_weight": Key(float, "kN/m^3", ge=WATER_UNIT_WEIGHT, le=30, default=None),
 }
+# [report]: text for the report's heading only (optional; nothing else reads it)
+REPORT_KEYS = {
+    "project": Key(str, "the project or job, printed in the report's heading", default=None),
+    "checked_by": Key(str, "the engineer who checks the result, printed in the report's heading",
+                      max_len=120, default=None),
+}
 # The tables holding one dataclass each: key in the file -> (dataclass, schema).
 TABLES = {"footing": (Footing, FOOTING_KEYS), "ground": (Ground, GROUND_KEYS),
-          "analysis": (Analysis, ANALYSIS_KEYS), "factors": (Factors, FACTORS_KEYS)}
-OPTIONAL_TABLES = ("factors",)  # absent: None in the Case
+          "analysis": (Analysis, ANALYSIS_KEYS), "factors": (Factors, FACTORS_KEYS),
+          "report": (ReportInfo, REPORT_KEYS)}
+OPTIONAL_TABLES = ("factors", "report")  # absent: None in the Case
 REQUIRED_TABLES = ("footing",)
 # [geometry]: the user's own drawing of the site (solver.sitefile); the path is relative to the case file.
 GEOMETRY_KEYS = {"file": Key(str, "a gmsh .geo script or .msh mesh", max_len=1000)}

@@ -118,6 +118,15 @@ class Factors:
 
 
 @dataclass(frozen=True)
+class ReportInfo:
+    """Optional ``[report]`` table: who and what the report is for; printed in its heading,
+    used nowhere else."""
+
+    project: str | None = None  # free text: the project or job the check belongs to
+    checked_by: str | None = None  # free text: the engineer who checks the result
+
+
+@dataclass(frozen=True)
 class Analysis:
     bounds: str = "both"  # "lower" | "upper" | "both"
     elements: int = 4000  # target number of triangles in each bound's mesh (adaptive: the first step's)
@@ -201,6 +210,7 @@ class Case:
     name: str = "case"  # short name for the output folder (the case file's stem)
     source_sha256: str = ""  # hash of the case file's bytes, for reports
     geometry: Geometry | None = None  # a drawn site; None: level layers as the keys describe
+    report: ReportInfo | None = None  # [report]: project and checker for the report's heading
 
     # -- derived quantities used by the geometry and the bounds -------------
 

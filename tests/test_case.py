@@ -119,6 +119,10 @@ EXPECTED_KEY = {
     "saturated_below_unit_weight.toml": "layers[1].saturated_unit_weight",
     "saturated_below_water.toml": "layers[1].saturated_unit_weight",
     "factors_unknown_key.toml": "factors.weight",
+    "report_project_empty.toml": "report.project",
+    "report_checked_by_two_lines.toml": "report.checked_by",
+    "report_unknown_key.toml": "report.checker",
+    "report_not_table.toml": "report",
     "factors_below_one.toml": "factors.friction",
     "factors_not_table.toml": "factors",
     # issue 12: values the check accepted before and that crashed, hung or misled later
