@@ -4,6 +4,7 @@ lower bound, second order for the upper)."""
 from __future__ import annotations
 
 import dataclasses
+import datetime
 import math
 import os
 import threading
@@ -19,7 +20,7 @@ from .ground import material_arrays, node_cohesion
 from .mesh import Mesh, build_mesh, far_edge_names, grow_domain, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .plausible import input_warnings
-from .result import MOVING_SPEED_FRACTION, BoundResult, Result
+from .result import MOVING_SPEED_FRACTION, BoundResult, Result, caveats
 from .upper import upper_bound_program
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
@@ -55,6 +56,7 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     bounds = bounds or case.analysis.bounds
     backend = backend or case.analysis.backend
     elements = elements or case.analysis.elements
+    run_date = datetime.datetime.now().astimezone().isoformat(timespec="seconds")
     start = time.perf_counter()
     domain = plan_domain(case)
     kinds = [k for k in ("lower", "upper") if bounds in (k, "both")]
@@ -114,11 +116,13 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                     backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
     result.refinement = refinement
+    result.run_date = run_date
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None
     result.hand_methods = [_hand_row(h, where_it_falls(h.pressure_kPa, lo, up)) for h in hand_methods(case)]
     # compared like with like above; the strength as typed, for information only
     result.hand_methods_as_given = [_hand_row(h, "information only") for h in information_only(case)]
+    result.caveats = caveats(case, result.to_dict())
     return result
 
 

@@ -152,7 +152,7 @@ def certify_lower(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     limits = dict.fromkeys(residuals, limit)
     passed = solution.status in USABLE and all(v <= limit for v in residuals.values())
     return {"passed": bool(passed), "tolerance_kPa": limit, "stress_scale_kPa": scale,
-            "load_kN_per_m": load, **residuals, **solution.notes,
+            "load_kN_per_m": load, **residuals, "limits": limits, **solution.notes,
             **({} if passed else {"reason": _reason(solution.status, residuals, limits)})}
 
 
@@ -227,7 +227,7 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
            "load_tolerance": LOAD_TOLERANCE, "load_kN_per_m": load, "objective_kN_per_m": objective,
            "recomputed_kN_per_m": recomputed, "dissipation_kN_per_m": factor * dissipation,
            "gravity_work_kN_per_m": factor * gravity, "surcharge_work_kN_per_m": factor * surcharge,
-           **residuals, **solution.notes}
+           **residuals, "limits": limits, **solution.notes}
     if ray:  # a direction, not a field of unit footing velocity: no load, only the sign of its energy
         out["energy_of_the_mechanism"] = out.pop("load_kN_per_m")
     if not passed:

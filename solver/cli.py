@@ -20,21 +20,25 @@ import os
 import signal
 import sys
 import threading
+import time
 import warnings
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
 
+from . import __version__
 from .case import CaseError, load_case, shown
 from .outdir import abandon_open_folders
-from .result import CAUTION, refinement_line
+from .result import CAUTION, refinement_line, wall_time_line
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 
 
 def main(argv: list[str] | None = None) -> int:
+    started = time.perf_counter()  # the command's wall time counts from here (solver.result.WallClock)
     parser = _parser()
     args = parser.parse_args(argv)
+    args.started = started
     try:
         with _stop_signals(), _library_warnings():
             return args.handler(args)
@@ -64,6 +68,7 @@ def _parser() -> argparse.ArgumentParser:
         prog="bearbound",
         description="Rigorous lower and upper bounds on the collapse load of a strip footing.",
         epilog=CAUTION)
+    parser.add_argument("--version", action="version", version=f"bearbound {__version__}")
     sub = parser.add_subparsers(dest="command", required=True)
 
     run = sub.add_parser("run", help="bracket the collapse load of a case file")
@@ -82,6 +87,8 @@ def _parser() -> argparse.ArgumentParser:
                           "(default: at once, one per core, when two cores are free)")
     run.add_argument("--no-pictures", action="store_true", help="skip the PNG and SVG pictures")
     run.add_argument("--no-report", action="store_true", help="skip report.html")
+    run.add_argument("--no-progress", action="store_true",
+                     help="print nothing while working (no step lines, no status line); the summary still prints")
     run.set_defaults(handler=_run)
 
     report = sub.add_parser("report", help="rebuild report.html from a finished run's folder, without solving")
@@ -125,40 +132,59 @@ def _run(args) -> int:
     if (clash := outputs_overwriting(args.case, out_dir)) is not None:
         raise CaseError(f"--out: {shown(out_dir, 200)} is not allowed; writing {clash.name} there would "
                         "overwrite the case file, choose another folder")
+    from .progress import Progress
+    from .result import WallClock
+
+    progress = Progress(enabled=not args.no_progress)
+    clock = WallClock(args.started)
     # The folder is checked, locked and staged before the solve: a folder that cannot be
     # written or that another run is writing is found now, not after minutes of solving.
-    with RunFolder(out_dir, RUN_FILES) as folder:
-        result = _solve_and_write(args, case, out_dir, folder)
-    print(format_summary(result, out_dir / "result.json"))
+    try:
+        with RunFolder(out_dir, RUN_FILES) as folder:
+            result, written = _solve_and_write(args, case, out_dir, folder, progress, clock)
+    finally:
+        progress.clear()
+    print(format_summary(result, [out_dir / p.name for p in written]))
     asked = [b for b in (result.lower, result.upper) if b is not None]
     return 0 if all(b.pressure_kPa is not None for b in asked) else 1
 
 
-def _solve_and_write(args, case, out_dir: Path, folder):
-    """Solve, write every output into the run's staging folder and swap it in."""
+def _solve_and_write(args, case, out_dir: Path, folder, progress, clock):
+    """Solve, write every output into the run's staging folder and swap it in; returns the
+    result and the files written (in the staging folder, by name as in the run folder)."""
     from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
     from .report import write_run_files
     from .result import write_result
 
     def solve_case():
-        result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend,
-                         progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True),
-                         parallel=False if args.serial else None, adaptive=False if args.fixed_mesh else None)
+        adaptive = case.analysis.adaptive and not args.fixed_mesh
+        progress.stage("solving the bounds" + (f", adaptive until a gap of {100 * case.analysis.target_gap:g} % "
+                                               f"or {case.analysis.time_limit_s:g} s" if adaptive else
+                                               " on one fixed mesh each"))
+        with clock.part("bounds"):
+            result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend,
+                             progress=progress.say, parallel=False if args.serial else None,
+                             adaptive=False if args.fixed_mesh else None)
+        progress.say(bracket_line(result))
         if case.footing.design_load is not None or case.factors is not None:
             from .safety import factor_of_safety
 
-            result.factor_of_safety = factor_of_safety(
-                case, result, elements=args.elements, backend=args.backend,
-                progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True),
-                parallel=False if args.serial else None)
+            progress.stage("factor of safety")
+            with clock.part("strength_search"):
+                result.factor_of_safety = factor_of_safety(
+                    case, result, elements=args.elements, backend=args.backend, progress=progress.say,
+                    parallel=False if args.serial else None,
+                    starting=lambda kind, what: progress.doing(kind, f"{kind} bound at {what}"))
+            progress.say(f"factor of safety: {result.factor_of_safety['wall_s']:.1f} s")
+        progress.stage("drawing the pictures" if not args.no_pictures else "writing the outputs")
         return result
 
-    result = _solve_interruptibly(solve_case, out_dir)
+    result = _solve_interruptibly(solve_case, out_dir, progress)
     with _interrupt_after_writing() as interrupted:
         try:
             write_result(result, folder.staging)
-            write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
-                            report=not args.no_report)
+            written = write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
+                                      report=not args.no_report, progress=progress, clock=clock)
             folder.publish()
         except OSError as error:  # the disk filled up, the folder was taken away: not a defect
             raise CaseError(f"--out: cannot write the outputs to {shown(out_dir, 200)} "
@@ -166,7 +192,21 @@ def _solve_and_write(args, case, out_dir: Path, folder):
     if interrupted:
         raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
                                 f"first and are whole in {shown(out_dir, 200)}")
-    return result
+    return result, written
+
+
+def bracket_line(result) -> str:
+    """The bracket in one line, as soon as the bounds are known (before the factor of safety
+    and the pictures)."""
+    from .result import figure
+
+    parts = []
+    for bound in (result.lower, result.upper):
+        if bound is not None:
+            parts.append(f"{bound.kind} {figure(bound.pressure_kPa, 2)} kPa" if bound.pressure_kPa is not None
+                         else f"{bound.kind} withheld")
+    gap = f", gap {result.gap_percent:.2f} %" if result.gap_percent is not None else ""
+    return f"bracket: {', '.join(parts)}{gap} ({result.timing['total_s']:.1f} s)"
 
 
 @contextlib.contextmanager
@@ -197,13 +237,14 @@ class _SolveAbandoned(KeyboardInterrupt):
     """Ctrl-C during the solve: the solve thread is left running and nothing was written."""
 
 
-def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
+def _solve_interruptibly(work: Callable[[], Any], out_dir: Path, progress=None) -> Any:
     """Run ``work`` (meshing and solving, no output) in a thread and wait for it.
 
     Python handles a signal only in the main thread, between bytecodes; a solve on
     the main thread would hold a Ctrl-C until Clarabel returns (tens of seconds on
     a fine mesh). Clarabel and gmsh release the GIL while they work, so the main
-    thread, waiting here, takes the Ctrl-C at once.
+    thread, waiting here, takes the Ctrl-C at once. While it waits it moves the
+    ``progress`` status line on.
     """
     from .analysis import Job
 
@@ -212,6 +253,8 @@ def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
     try:
         while job.is_alive():
             job.join(0.1)
+            if progress is not None:
+                progress.tick()
     except KeyboardInterrupt:
         raise _SolveAbandoned(f"interrupted while solving; nothing was written to {shown(out_dir, 200)}") from None
     return job.result()
@@ -296,8 +339,9 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
             signal.signal(s, handler)
 
 
-def format_summary(result, path: Path | None = None) -> str:
-    """The bracket, each bound's standing, and the hand methods beside it."""
+def format_summary(result, written: list[Path] | None = None) -> str:
+    """The bracket, what limits trust in it, each bound's standing, the whole wall time, the
+    factors of safety, the hand methods beside it and every file written."""
     B = result.footing_width_m
     lines = [f"{result.title}"] + [f"  WARNING: {w}" for w in getattr(result, "input_warnings", [])]
     lines.append("  collapse pressure under the footing, kPa (compression positive)")
@@ -318,11 +362,14 @@ def format_summary(result, path: Path | None = None) -> str:
         if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
             lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "
                          f"M about the centre [{extra_lo['moment_kNm_per_m']:.1f}, {extra_up['moment_kNm_per_m']:.1f}] kNm/m")
+    lines += [f"  CAVEAT: {c}" for c in getattr(result, "caveats", [])]
     if getattr(result, "refinement", None):
         lines.append(f"    mesh        {refinement_line(result.refinement, result.gap_percent)}")
     t = result.timing
-    lines.append(f"    wall time   {t['total_s']:.1f} s (solving {t.get('solve_wall_s', t['solve_s']):.1f} s; "
-                 f"the solves took {t['solve_s']:.1f} s together)")
+    if getattr(result, "wall_time_s", None):
+        lines.append(f"    wall time   {wall_time_line(result.wall_time_s)}")
+    lines.append(f"    solve time  {t.get('solve_wall_s', t['solve_s']):.1f} s with a solve running, of the bounds' "
+                 f"{t['total_s']:.1f} s (the solves took {t['solve_s']:.1f} s together)")
     if getattr(result, "factor_of_safety", None):
         from .safety import format_safety
 
@@ -335,10 +382,18 @@ def format_summary(result, path: Path | None = None) -> str:
     if getattr(result, "hand_methods_as_given", None):
         lines.append(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
         lines += _hand_lines([r for r in result.hand_methods_as_given if r["pressure_kPa"] is not None])
-    if path is not None:
-        lines.append(f"  written: {shown(path, 200)}")
+    if written:
+        lines.append("  files written:")
+        lines += [f"    {shown(path, 300)}" for path in _reading_order(written)]
     lines.append(f"  Caution: {CAUTION}")
     return "\n".join(lines)
+
+
+def _reading_order(paths: list[Path]) -> list[Path]:
+    """The report first, then result.json, the pictures (PNG before SVG), the exports, the copies."""
+    first = ("report.html", "result.json", "summary.csv", "fields.vtu")
+    return sorted(paths, key=lambda p: (first.index(p.name) if p.name in first else len(first),
+                                        p.suffix not in (".png", ".svg"), p.suffix != ".png", p.name))
 
 
 AS_GIVEN = "information only, not compared with the bracket (the bounds use the Davis-reduced strength)"

@@ -313,8 +313,9 @@ SUMMARY_COLUMNS = (
     "required_factor_of_safety_on_load", "required_factor_of_safety_on_load_met",
     "required_factor_of_safety_on_strength", "required_factor_of_safety_on_strength_met",
     "design_action_kN_per_m", "design_resistance_lower_kN_per_m", "design_resistance_upper_kN_per_m",
-    "design_resistance_covers_action", "input_warnings",
-    "lower_elements", "upper_elements", "wall_time_s", "software_version", "case_sha256",
+    "design_resistance_covers_action", "caveats", "input_warnings",
+    "lower_elements", "upper_elements", "wall_time_s", "bounds_wall_time_s", "run_date", "software_version",
+    "case_sha256",
 )
 
 
@@ -362,9 +363,12 @@ def summary_row(data: dict) -> dict:
         "design_resistance_upper_kN_per_m": resistance.get("upper"),
         "design_resistance_covers_action": {True: "yes", False: "no"}.get(partial.get("covered"),
                                                                            "" if not partial else "undecided"),
+        "caveats": "; ".join(data.get("caveats") or []) or None,
         "input_warnings": "; ".join(data.get("input_warnings") or []) or None,
         "lower_elements": lower.get("elements"), "upper_elements": upper.get("elements"),
-        "wall_time_s": data["timing"].get("total_s"),
+        # the whole command (the bounds alone for a result made without it, through the Python API)
+        "wall_time_s": (data.get("wall_time_s") or {}).get("total", data["timing"].get("total_s")),
+        "bounds_wall_time_s": data["timing"].get("total_s"), "run_date": data.get("run_date"),
         "software_version": data["software"]["version"], "case_sha256": data["case"]["sha256"],
     }
 

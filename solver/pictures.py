@@ -1411,12 +1411,18 @@ def draw_all(case: Case, data: dict, fields: dict[str, BoundFields]) -> dict[str
     return figures
 
 
-def write_pictures(figures: dict[str, Figure], out_dir: Path) -> list[Path]:
-    """Write each figure as <name>.png and <name>.svg into out_dir (atomically); returns the paths."""
+def write_pictures(figures: dict[str, Figure], out_dir: Path, progress=None) -> list[Path]:
+    """Write each figure as <name>.png and <name>.svg into out_dir (atomically); returns the paths.
+    ``progress`` (a solver.progress.Progress) counts the files on its bar."""
     paths = []
+    total = 2 * len(figures)
     for name, fig in figures.items():
         for fmt in ("png", "svg"):
+            if progress is not None:
+                progress.bar(f"{name}.{fmt}", len(paths), total)
             path = Path(out_dir) / f"{name}.{fmt}"
             write_bytes_atomic(path, figure_bytes(fig, fmt))
             paths.append(path)
+    if progress is not None:
+        progress.bar("pictures", total, total)
     return paths

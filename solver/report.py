@@ -22,7 +22,7 @@ from .case import CaseError, shown
 from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
                      save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
-from .result import CAUTION, figure, refinement_line
+from .result import CAUTION, WallClock, caveats, figure, refinement_line, wall_time_line, write_result
 
 REPORT_FILE = "report.html"
 
@@ -108,27 +108,47 @@ def load_run(out_dir: Path) -> Run:
 
 
 def write_run_files(result, case: Case, case_path: Path, out_dir: Path, *, pictures: bool = True,
-                    report: bool = True) -> list[Path]:
-    """After result.json: the case copy, fields.vtu, summary.csv, then (read back from those
-    files) the pictures and the report. Returns the paths written."""
+                    report: bool = True, progress=None, clock: WallClock | None = None) -> list[Path]:
+    """After result.json: the case copy, fields.vtu, the pictures and the report (read back
+    from those files), then summary.csv. Returns the paths written, result.json first.
+
+    ``progress``: a :class:`solver.progress.Progress` told of each picture and of the
+    report. ``clock``: the command's :class:`~solver.result.WallClock`; the pictures and
+    the report are timed on it, and result.json is written again with the whole split
+    (``wall_time_s``) before summary.csv and the report, which state it too."""
     from . import pictures as drawing
 
     out_dir = Path(out_dir)
-    written = [save_case_copy(case_path, case.source_sha256, out_dir)]
+    written = [out_dir / "result.json", save_case_copy(case_path, case.source_sha256, out_dir)]
     site = save_site_copy(getattr(case, "geometry", None), out_dir)
     written += [site] if site else []
     vtu = write_fields_vtu(bound_fields(result.lower), bound_fields(result.upper), out_dir)
     written += [vtu] if vtu else []
+    timed = clock is not None
+    clock = clock or WallClock()
+    run = images = None
+    if pictures or report:
+        run = load_run(out_dir)
+        with clock.part("pictures"):
+            figures = drawing.draw_all(run.case, run.data, run.fields)
+            if pictures:
+                written += drawing.write_pictures(figures, out_dir, progress)
+        if report:
+            if progress is not None:
+                progress.stage("writing the report")
+            with clock.part("report"):
+                images = _embedded(figures)
+                build_html(run, images)  # timed as the report is; built again below with the times in it
+    if timed:
+        result.wall_time_s = clock.split()
+        write_result(result, out_dir)
     data = json.loads((out_dir / "result.json").read_text(encoding="utf-8"))
     written.append(write_summary_csv(data, out_dir))
-    if not (pictures or report):
-        return written
-    run = load_run(out_dir)
-    figures = drawing.draw_all(run.case, run.data, run.fields)
-    if pictures:
-        written += drawing.write_pictures(figures, out_dir)
     if report:
-        written.append(write_report(run, figures))
+        run.data = data
+        path = out_dir / REPORT_FILE
+        write_bytes_atomic(path, build_html(run, images).encode("utf-8"))
+        written.append(path)
     return written
 
 
@@ -142,12 +162,16 @@ def rebuild_report(out_dir: Path) -> Path:
 
 def write_report(run: Run, figures: dict) -> Path:
     """Write out_dir/report.html (atomically) with the figures embedded as PNG."""
+    path = run.out_dir / REPORT_FILE
+    write_bytes_atomic(path, build_html(run, _embedded(figures)).encode("utf-8"))
+    return path
+
+
+def _embedded(figures: dict) -> dict[str, bytes]:
+    """The figures as PNG bytes, for embedding in the page."""
     from .pictures import figure_bytes
 
-    images = {name: figure_bytes(fig, "png") for name, fig in figures.items()}
-    path = run.out_dir / REPORT_FILE
-    write_bytes_atomic(path, build_html(run, images).encode("utf-8"))
-    return path
+    return {name: figure_bytes(fig, "png") for name, fig in figures.items()}
 
 
 # -- HTML ---------------------------------------------------------------------------
@@ -192,16 +216,25 @@ body { font-family: "DejaVu Sans", "Liberation Sans", Arial, sans-serif; font-si
 h1 { font-size: 17pt; margin: 0 0 2mm 0; }
 h2 { font-size: 12.5pt; margin: 7mm 0 2mm 0; border-bottom: 1.5px solid #444; padding-bottom: 1mm; }
 h3 { font-size: 11pt; margin: 4mm 0 1.5mm 0; }
-.sub { color: #333; margin: 0 0 3mm 0; }
-table { border-collapse: collapse; margin: 1.5mm 0 3mm 0; width: 100%; page-break-inside: avoid; }
+.sub { color: #333; margin: 0 0 1.5mm 0; }
+.meta { font-size: 9.5pt; margin: 0 0 3mm 0; }
+.meta span { margin-right: 5mm; white-space: nowrap; }
+table { border-collapse: collapse; margin: 1.5mm 0 3mm 0; width: 100%; }
+thead { display: table-header-group; }
+tr, figure, img, .verdict, li { page-break-inside: avoid; break-inside: avoid; }
 th, td { border: 1px solid #999; padding: 1mm 1.8mm; text-align: left; vertical-align: top; }
 th { background: #e8e8e8; font-weight: 600; }
 td.n { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 table.meta td:first-child, table.kv td:first-child { width: 38%; background: #f4f4f4; }
 .caution { border: 2.5px solid #111; padding: 2.5mm 3.5mm; margin: 3mm 0; background: #f2f2f2; }
 .caution strong { letter-spacing: 0.02em; }
-.bracket { font-size: 13pt; border: 1.5px solid #444; padding: 2.5mm 3.5mm; margin: 2mm 0 3mm 0; }
-.bracket .big { font-size: 15pt; font-weight: 700; }
+.result { display: flex; gap: 4mm; border: 2px solid #111; padding: 3mm 3.5mm; margin: 2mm 0 3mm 0;
+          page-break-inside: avoid; break-inside: avoid; }
+.result > div { flex: 1 1 0; min-width: 0; }
+.result .figures { flex: 1.1 1 0; }
+.result .caveats { border-left: 1.5px solid #444; padding-left: 3.5mm; }
+.result ul { margin: 1mm 0 0 0; }
+.result .big { font-size: 15pt; font-weight: 700; }
 tr.flag td { font-weight: 700; background: #dcdcdc; border-top: 2px solid #111; border-bottom: 2px solid #111; }
 .flagmark { font-weight: 700; }
 .small { font-size: 8.5pt; color: #333; }
@@ -209,18 +242,25 @@ tr.flag td { font-weight: 700; background: #dcdcdc; border-top: 2px solid #111; 
 .fail { font-weight: 700; text-decoration: underline; }
 .verdict { font-weight: 700; border-left: 4px solid #111; padding-left: 2.5mm; }
 .keep { page-break-inside: avoid; break-inside: avoid; }
-figure { margin: 3mm 0 5mm 0; page-break-inside: avoid; break-inside: avoid; }
+figure { margin: 3mm 0 5mm 0; }
 figure img { width: 100%; height: auto; border: 1px solid #ccc; }
 figcaption { font-size: 9pt; color: #222; margin-top: 1mm; }
 code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 8.5pt; word-break: break-all; }
 ul { margin: 1mm 0 3mm 0; padding-left: 6mm; }
 footer { margin-top: 8mm; font-size: 8.5pt; color: #333; border-top: 1px solid #999; padding-top: 2mm; }
-@page { size: A4; margin: 14mm 12mm; }
+/* Printed: A4, numbered pages where the browser supports page-margin boxes (README, "The report
+   on paper"); no forced page breaks, so that no page is left half empty: figures, table rows,
+   short tables and the result box are kept whole, long tables break between rows, and a heading
+   stays with what follows it. */
+@page { size: A4; margin: 14mm 12mm 16mm 12mm;
+        @bottom-right { content: "page " counter(page) " of " counter(pages); font: 8pt "DejaVu Sans", Arial, sans-serif; color: #333; }
+        @bottom-left { content: "bearbound report"; font: 8pt "DejaVu Sans", Arial, sans-serif; color: #333; } }
 @media print {
   body { margin: 0; padding: 0; max-width: none; font-size: 9.5pt; }
-  h2 { page-break-after: avoid; break-after: avoid; }
-  .pagebreak { page-break-before: always; break-before: page; }
-  th, tr.flag td, .caution { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
+  h2, h3 { page-break-after: avoid; break-after: avoid; }
+  figure img { max-height: 118mm; width: auto; max-width: 100%; }  /* two field pictures to a page */
+  figure.model img { max-height: 225mm; }
+  th, tr.flag td, .caution, .result { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
 }
 """
 
@@ -230,6 +270,8 @@ CSP = "default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'n
 def build_html(run: Run, images: dict[str, bytes]) -> str:
     """The report page as one string (see the module docstring)."""
     d, case = run.data, run.case
+    # result.json of an earlier version has no caveats: they are worked out from what it holds
+    limits = d["caveats"] if "caveats" in d else caveats(case, d)
     parts = [
         "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
         f'<meta http-equiv="Content-Security-Policy" content="{CSP}">',
@@ -237,11 +279,12 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         f"<title>{esc(d.get('title'))} &ndash; bearbound report</title>",
         f"<style>{STYLE}</style>", "</head>", "<body>",
         f"<h1>{esc(d.get('title'))}</h1>",
-        '<p class="sub">Strip footing: collapse load bracketed by finite-element limit analysis '
-        "(rigorous lower and upper bounds)</p>",
+        f'<p class="sub">{esc(subtitle(limits))}</p>',
+        _meta_line(d, case),
+        _result_box(d, case, limits),
         _caution(),
         _warnings(d),
-        _identity(d),
+        _identity(d, case),
         _bracket(d, case),
         _safety(d, case),
         _hand(d),
@@ -250,13 +293,84 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         _certificates(d),
         _statistics(d, run),
         _notes(run),
-        _caution(final=True),
+        '<div class="keep">' + _caution(final=True),
         f"<footer>bearbound {esc(d.get('software', {}).get('version'))}; case file SHA-256 "
         f'<span class="hash">{esc(d["case"].get("sha256"))}</span>. Pressures and loads are compression '
-        "positive; pressure = vertical component of the collapse load / B.</footer>",
+        "positive; pressure = vertical component of the collapse load / B.</footer></div>",
         "</body>", "</html>",
     ]
     return "\n".join(parts) + "\n"
+
+
+def subtitle(limits: list[str]) -> str:
+    """What the page brackets; "rigorous" only when nothing limits the bounds (:func:`caveats`).
+
+    >>> subtitle([])
+    'Strip footing: collapse load bracketed by finite-element limit analysis (rigorous lower and upper bounds)'
+    >>> "rigorous" in subtitle(["the upper bound is withheld"])
+    False
+    """
+    head = "Strip footing: collapse load bracketed by finite-element limit analysis"
+    if not limits:
+        return head + " (rigorous lower and upper bounds)"
+    return head + f" (lower and upper bounds, with {len(limits)} caveat{'s' * (len(limits) > 1)} beside the bracket)"
+
+
+def run_date_text(stamp: str | None) -> str:
+    """The run's date and time as people read it, with its offset from UTC.
+
+    >>> run_date_text("2025-03-04T09:05:00+01:00"), run_date_text(None)
+    ('2025-03-04 09:05 (UTC+01:00)', 'not recorded (a result of an earlier version)')
+    """
+    import datetime
+
+    if not stamp:
+        return "not recorded (a result of an earlier version)"
+    try:
+        when = datetime.datetime.fromisoformat(stamp)
+    except (TypeError, ValueError):
+        return str(stamp)
+    offset = when.strftime("%z")
+    zone = f" (UTC{offset[:3]}:{offset[3:]})" if offset else ""
+    return when.strftime("%Y-%m-%d %H:%M") + zone
+
+
+def _given(value: str | None) -> str:
+    return esc(value) if value else '<span class="small">not given</span>'
+
+
+def _meta_line(d: dict, case: Case) -> str:
+    """Project, checker and run date under the title: what a filed copy is looked up by."""
+    info = case.report
+    return ('<p class="meta">'
+            f"<span><strong>Project:</strong> {_given(info and info.project)}</span>"
+            f"<span><strong>Checked by:</strong> {_given(info and info.checked_by)}</span>"
+            f"<span><strong>Run:</strong> {esc(run_date_text(d.get('run_date')))}</span></p>")
+
+
+def _result_box(d: dict, case: Case, limits: list[str]) -> str:
+    """The bracket and the verdicts beside what limits trust in them, at the top of the page."""
+    lower, upper = d.get("lower") or {}, d.get("upper") or {}
+    lo, up, B = lower.get("pressure_kPa"), upper.get("pressure_kPa"), d.get("footing_width_m")
+    if lo is not None and up is not None:
+        head = (f'Collapse pressure <span class="big">{num(lo)} to {num(up)} kPa</span><br>'
+                f"gap {num(d.get('gap_percent'), 2)} %; collapse load {num(lo * B)} to {num(up * B)} kN/m "
+                f"(vertical component, B = {num(B, 2)} m)")
+    else:
+        sides = [f"{kind} bound {num(b.get('pressure_kPa'))} kPa" for kind, b in (("lower", lower), ("upper", upper))
+                 if b.get("pressure_kPa") is not None]
+        head = "<strong>No complete bracket.</strong> " + (esc("; ".join(sides)) if sides else "No bound certified.")
+    checks = ((d.get("factor_of_safety") or {}).get("checks") or [])
+    verdicts = "".join(f'<p class="verdict">{esc(c.get("verdict"))}</p>' for c in checks)
+    if limits:
+        right = (f"<strong>Read before using these numbers ({len(limits)}):</strong><ul>"
+                 + "".join(f"<li>{esc(c)}</li>" for c in limits) + "</ul>")
+    else:
+        right = ("<strong>No caveats:</strong> both bounds certified on the soil as given (associated flow), "
+                 f"the gap within the {esc(f'{100 * case.analysis.target_gap:g}')} % target, both fields clear of "
+                 "the model's edges, no water above the footing base.")
+    return (f'<div class="result"><div class="figures">{head}{verdicts}</div>'
+            f'<div class="caveats">{right}</div></div>')
 
 
 def _caution(final: bool = False) -> str:
@@ -276,18 +390,27 @@ def _warnings(d: dict) -> str:
             + "".join(f"<li>{esc(w)}</li>" for w in warnings) + "</ul></div>")
 
 
-def _identity(d: dict) -> str:
-    rows = [("Case", esc(d["case"].get("name"))),
+def _identity(d: dict, case: Case) -> str:
+    info = case.report
+    rows = [("Project", _given(info and info.project)), ("Checked by", _given(info and info.checked_by)),
+            ("Run made", esc(run_date_text(d.get("run_date")))),
+            ("Case", esc(d["case"].get("name"))),
             ("Case file SHA-256", f'<span class="hash">{esc(d["case"].get("sha256"))}</span>'),
             ("Software", f"bearbound {esc(d.get('software', {}).get('version'))}"),
             ("Conic solver back end", esc(d.get("backend")))]
+    if d.get("wall_time_s"):
+        rows.append(("Wall time of the whole run", esc(wall_time_line(d["wall_time_s"]))))
     return _kv("Run", rows, heading_level=2)
+
+
+KEEP_ROWS = 10  # a table of at most this many rows is printed whole, on one page
 
 
 def _kv(title: str | None, rows: list[tuple[str, str]], heading_level: int = 3, cls: str = "kv") -> str:
     head = f"<h{heading_level}>{esc(title)}</h{heading_level}>" if title else ""
     body = "".join(f"<tr><td>{k}</td><td>{v}</td></tr>" for k, v in rows)
-    return f'<div class="keep">{head}<table class="{cls}">{body}</table></div>'
+    keep = ' class="keep"' if len(rows) <= KEEP_ROWS else ""  # a long one may break between rows
+    return f'<div{keep}>{head}<table class="{cls}">{body}</table></div>'
 
 
 def _bracket(d: dict, case: Case) -> str:
@@ -298,8 +421,8 @@ def _bracket(d: dict, case: Case) -> str:
     f = case.footing
     inclined = f.load_inclination != 0 or f.eccentricity != 0
     if lo is not None and up is not None:
-        text = (f'<div class="bracket">Collapse pressure under the footing: <span class="big">'
-                f"{num(lo)} to {num(up)} kPa</span> (gap {num(d.get('gap_percent'), 2)} %)<br>"
+        text = (f'<p>Collapse pressure under the footing: <strong>'
+                f"{num(lo)} to {num(up)} kPa</strong> (gap {num(d.get('gap_percent'), 2)} %)<br>"
                 f"{'Vertical collapse load' if inclined else 'Collapse load'}: {num(lo * B)} to {num(up * B)} kN/m "
                 f"of footing, B = {num(B, 2)} m")
         if inclined:
@@ -310,10 +433,10 @@ def _bracket(d: dict, case: Case) -> str:
                      f"H = {num(ex_lo.get('horizontal_kN_per_m'))} to {num(ex_up.get('horizontal_kN_per_m'))} kN/m, "
                      f"M about the footing's centre = {num(ex_lo.get('moment_kNm_per_m'))} to "
                      f"{num(ex_up.get('moment_kNm_per_m'))} kNm/m")
-        out.append(text + "</div>")
+        out.append(text + "</p>")
     else:
-        out.append('<div class="bracket">No complete bracket: a bound was not asked for or is withheld '
-                   "(see the table).</div>")
+        out.append("<p><strong>No complete bracket:</strong> a bound was not asked for or is withheld "
+                   "(see the table).</p>")
     rows = []
     for kind, b in (("lower", lower), ("upper", upper)):
         if not b:
@@ -327,14 +450,15 @@ def _bracket(d: dict, case: Case) -> str:
                     f"<td class='n'>{num(b.get('load_kN_per_m'))}</td>"
                     f"<td class='n'>{num(extra.get('vertical_kN_per_m'))}</td>"
                     f"<td class='n'>{num(extra.get('horizontal_kN_per_m'))}</td>"
-                    f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td><td>{standing}</td>"
-                    f"<td class='small'>{esc(b.get('method'))}</td></tr>")
-    out.append("<table><tr><th>bound</th><th>pressure (kPa)</th><th>load (kN/m)</th><th>V (kN/m)</th>"
-               "<th>H (kN/m)</th><th>M (kNm/m)</th><th>standing</th><th>method</th></tr>"
+                    f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td><td>{standing}</td></tr>")
+    out.append('<table class="keep"><thead><tr><th>bound</th><th>pressure (kPa)</th><th>load (kN/m)</th>'
+               "<th>V (kN/m)</th><th>H (kN/m)</th><th>M (kNm/m)</th><th>standing</th></tr></thead>"
                + "".join(rows) + "</table>")
+    methods = "; ".join(f"{kind} bound: {esc(b.get('method'))}" for kind, b in (("lower", lower), ("upper", upper))
+                        if b.get("method"))
     out.append('<p class="small">Pressure: the vertical component of the collapse load over B. Load: the '
                "collapse load along its line of action; V and H its vertical and horizontal components, M its "
-               "moment about the footing's centre (V times the eccentricity), all at collapse.</p>")
+               f"moment about the footing's centre (V times the eccentricity), all at collapse. Methods: {methods}.</p>")
     if case.ground.water_table is not None:
         u = d.get("pore_pressure_at_base_kPa")
         text = f"Pore pressure at the footing base: <strong>{num(u, 1, 'kPa')}</strong>"
@@ -381,7 +505,8 @@ def _safety(d: dict, case: Case) -> str:
             return ((beyond and esc(beyond).replace("&gt;=", "&ge; ").replace("&lt;=", "&le; ")) or "") + \
                 num(found, 3) + mark
 
-        out.append("<table><tr><th>factor of safety</th><th>lower</th><th>upper</th><th>meaning</th></tr>"
+        out.append('<table class="keep"><thead><tr><th>factor of safety</th><th>lower</th><th>upper</th>'
+                   "<th>meaning</th></tr></thead>"
                    f"<tr><td>on load</td><td class='n'>{num(load.get('lower'), 3)}</td>"
                    f"<td class='n'>{num(load.get('upper'), 3)}</td><td>collapse load / design load, "
                    "from the bracket</td></tr>"
@@ -406,8 +531,8 @@ def _safety(d: dict, case: Case) -> str:
             rows = "".join(f"<tr><td>{esc(kind)}</td><td class='n'>{num(e.get('F'), 4)}</td>"
                            f"<td class='n'>{num(e.get('load_kN_per_m'))}</td><td>{esc(e.get('status'))}</td></tr>"
                            for kind, items in evaluations.items() for e in items)
-            out.append("<h3>Strength-reduction solves</h3><table><tr><th>bound</th><th>F</th>"
-                       "<th>collapse load (kN/m)</th><th>status</th></tr>" + rows + "</table>")
+            out.append("<h3>Strength-reduction solves</h3><table><thead><tr><th>bound</th><th>F</th>"
+                       "<th>collapse load (kN/m)</th><th>status</th></tr></thead>" + rows + "</table>")
     partial = fos.get("partial_factors")
     if partial:
         f = partial["factors"]
@@ -464,7 +589,7 @@ def _hand(d: dict) -> str:
                         f"<td class='small'>{factors}</td></tr>")
         return body, not_applicable
 
-    head = "<tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr>"
+    head = "<thead><tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr></thead>"
     body, not_applicable = table(rows, compared=True)
     out = ["<h2>Hand methods beside the bracket</h2>",
            "<p>Classical closed-form estimates of the same quantity as the bracket (the vertical component of "
@@ -494,8 +619,6 @@ def _hand(d: dict) -> str:
 
 
 FIGURE_CAPTIONS = {
-    "model": ("The model: ground profile (with the crest and toe of a slope), layers with their parameters, "
-              "water table, footing with its load, and mesh."),
     "mechanism": "Upper bound: the collapse mechanism (shear strain rate, velocities, extent).",
     "stress": "Lower bound: the stress field (yield utilisation, principal stress directions in the plastic zone).",
     "contact": ("Lower bound: the normal and shear stresses along the footing base, from its stress field (one "
@@ -503,24 +626,56 @@ FIGURE_CAPTIONS = {
 }
 
 
+def model_caption(case: Case, mesh: str | None) -> str:
+    """The model picture's caption, naming only what this model has; ``mesh``: the bound whose
+    mesh is drawn ("lower" or "upper"), None when none is.
+
+    >>> from solver.case import parse_case
+    >>> clay = parse_case({"footing": {"width": 2.0}, "layers": [
+    ...     {"name": "clay", "model": "tresca", "undrained_strength": 30, "unit_weight": 18}]})
+    >>> model_caption(clay, "lower")
+    'The model: level ground, the layer with its parameters, the footing with its load, and the mesh of the lower bound.'
+    """
+    g, f = case.ground, case.footing
+    if case.geometry is not None:
+        parts = ["the site as drawn (its outline and layers, each with its parameters)"]
+    else:
+        parts = ["the ground profile with the slope's crest and toe" if g.slope_angle > 0 else "level ground",
+                 "the layers with their parameters" if len(case.layers) > 1 else "the layer with its parameters"]
+    if f.embedment > 0:
+        parts.append("the soil above the footing base (carried as a surcharge)")
+    if g.surcharge > 0:
+        parts.append("the surcharge")
+    if g.water_table is not None:
+        parts.append("the water table")
+    load = [w for w, on in (("inclined", f.load_inclination != 0), ("eccentric", f.eccentricity != 0)) if on]
+    parts.append("the footing with its " + (" and ".join(load) + " " if load else "") + "load")
+    if mesh is not None:
+        parts.append(f"the mesh of the {mesh} bound")
+    return "The model: " + ", ".join(parts[:-1]) + ", and " + parts[-1] + "."
+
+
 def _pictures(run: Run, images: dict[str, bytes]) -> str:
     if not images:
         return ""
-    out = ['<h2 class="pagebreak">Pictures</h2>']
+    captions = {**FIGURE_CAPTIONS, "model": model_caption(
+        run.case, next((k for k in ("lower", "upper") if k in run.fields), None))}
+    out = ['<h2>Pictures</h2>']
     for name in ("model", "mechanism", "stress", "contact"):
         if name not in images:
             continue
         data = base64.b64encode(images[name]).decode("ascii")
-        out.append(f'<figure><img alt="{esc(FIGURE_CAPTIONS[name])}" src="data:image/png;base64,{data}">'
-                   f"<figcaption>{esc(FIGURE_CAPTIONS[name])} The same picture is in "
-                   f"{esc(name)}.png and {esc(name)}.svg when the run wrote pictures.</figcaption></figure>")
+        files = [f"{name}.{ext}" for ext in ("png", "svg") if (run.out_dir / f"{name}.{ext}").is_file()]
+        also = f" Also in {' and '.join(files)}." if files else ""
+        out.append(f'<figure class="{name}"><img alt="{esc(captions[name])}" src="data:image/png;base64,{data}">'
+                   f"<figcaption>{esc(captions[name])}{esc(also)}</figcaption></figure>")
     return "\n".join(out)
 
 
 def _inputs(case: Case, d: dict) -> str:
     f, g, a = case.footing, case.ground, case.analysis
     dom = d.get("domain") or {}
-    out = ['<h2 class="pagebreak">Inputs (restated from the case file)</h2>']
+    out = ['<h2>Inputs (restated from the case file)</h2>']
     side = "toward the slope (+x)" if g.slope_angle > 0 else "toward +x"
     out.append(_kv("Footing", [
         ("width B", num(f.width, 3, "m")), ("base", esc(f.base)), ("embedment Df", num(f.embedment, 3, "m")),
@@ -568,9 +723,9 @@ def _inputs(case: Case, d: dict) -> str:
         rows.append(f"<tr><td class='n'>{i}</td><td>{esc(layer.name)}</td><td class='n'>{num(top, 3, 'm')}</td>"
                     f"<td>{thickness}</td><td>{esc(layer.model)}</td><td>{strength}</td>"
                     f"<td>{dilation}</td><td>{num(layer.unit_weight, 2, 'kN/m³')}; saturated {saturated}</td></tr>")
-    out.append("<h3>Layers (top to bottom)</h3><table><tr><th>#</th><th>name</th><th>top below ground</th>"
+    out.append("<h3>Layers (top to bottom)</h3><table><thead><tr><th>#</th><th>name</th><th>top below ground</th>"
                "<th>thickness</th><th>model</th><th>strength</th><th>dilation angle &psi;&prime;</th>"
-               "<th>unit weight; saturated (below the water table)</th></tr>" + "".join(rows) + "</table>")
+               "<th>unit weight; saturated (below the water table)</th></tr></thead>" + "".join(rows) + "</table>")
     out.append(_kv("Analysis", [("bounds", esc(a.bounds)), ("target elements per bound", num(a.elements)),
                                 ("back end", esc(a.backend))]))
     if case.factors is not None:
@@ -583,25 +738,107 @@ def _inputs(case: Case, d: dict) -> str:
     return "\n".join(out)
 
 
+# What each residual of a certificate (solver.certify) measures, and its unit.
+RESIDUALS = {
+    "equilibrium_kPa": ("equilibrium with self-weight in every triangle (out-of-balance stress gradient times the "
+                        "triangle's size)", "kPa"),
+    "traction_jump_kPa": ("normal and shear traction continuous across every edge", "kPa"),
+    "boundary_traction_kPa": ("tractions on the ground surface (the surcharge), the symmetry line and a smooth "
+                              "base", "kPa"),
+    "yield_violation_kPa": ("stress outside the yield surface at any stress point", "kPa"),
+    "program_equality_kPa": ("the largest residual of any equality row of the conic program", "kPa"),
+    "program_cone_violation_kPa": ("the largest breach of any cone of the conic program", "kPa"),
+    "load_mismatch_kPa": ("load recomputed from the stresses against the solver's", "kPa"),
+    "velocity_boundary": ("velocities on the fixed boundary and under the rigid footing, relative to the largest "
+                          "velocity", ""),
+    "incompressibility": ("Tresca flow rule: no change of volume at any triangle corner, relative to the largest "
+                          "velocity", ""),
+    "flow_rule": ("Mohr-Coulomb flow rule at every triangle corner: the largest breach, strain rate times the "
+                  "triangle's size, the footing moving at 1", ""),
+    "load_mismatch": ("load recomputed from the velocities (dissipation less the work of weight and surcharge) "
+                      "against the solver's, relative", ""),
+    "energy_balance": ("energy of the mechanism of the ground alone, relative to the terms it sums (negative: "
+                       "it releases energy)", ""),
+}
+# Figures a certificate carries beside its residuals, in words (the tolerances are told with each residual).
+CERTIFICATE_FIGURES = {
+    "stress_scale_kPa": ("stress scale: the largest of the collapse pressure, each layer's strength a footing "
+                         "width below its top, the overburden and gamma B", "kPa"),
+    "load_kN_per_m": ("collapse load this bound certifies", "kN/m"),
+    "energy_of_the_mechanism": ("energy the mechanism of the ground alone releases (per unit velocity)", "kN/m"),
+    "objective_kN_per_m": ("the solver's objective", "kN/m"),
+    "recomputed_kN_per_m": ("the load recomputed from the velocities", "kN/m"),
+    "dissipation_kN_per_m": ("plastic dissipation", "kN/m"),
+    "gravity_work_kN_per_m": ("work done against the soil's weight", "kN/m"),
+    "surcharge_work_kN_per_m": ("work done against the surcharge", "kN/m"),
+    "work_rate_before": ("the load's work rate as solved, before the velocities were divided by it", ""),
+}
+TOLERANCE_KEYS = ("tolerance_kPa", "restored_tolerance", "flow_tolerance", "load_tolerance", "limits", "passed")
+
+
+def _allowed(cert: dict, limit: float, unit: str) -> str:
+    """A residual's limit and how it was set, from the certificate's own tolerances."""
+    unit = f" {unit}" if unit else ""
+    if limit < 0:
+        return f"at most {sci(limit)}{unit} (negative beyond the solver's tolerance)"
+    if limit == cert.get("tolerance_kPa") and cert.get("stress_scale_kPa"):
+        return f"{sci(limit)}{unit} (1e-6 &times; the stress scale, {sci(cert['stress_scale_kPa'])} kPa)"
+    if limit == cert.get("restored_tolerance"):
+        return f"{sci(limit)}{unit} (round-off, after the velocities were restored)"
+    if limit == cert.get("flow_tolerance"):
+        return f"{sci(limit)}{unit} (what the solver's own stopping test allows on this program)"
+    if limit == cert.get("load_tolerance"):
+        return f"{sci(limit)}{unit} ({esc(f'{100 * limit:g} %')})"
+    return f"{sci(limit)}{unit}"
+
+
+def certificate_rows(cert: dict) -> list[tuple[str, str]]:
+    """A certificate as rows in words: each residual with its value, what is allowed and whether it
+    passes; then the figures it carries; then anything else, as recorded."""
+    limits = cert.get("limits") or {}
+    rows = [("certificate", '<span class="pass">passes</span>' if cert.get("passed")
+             else f'<span class="fail">FAILS</span>: {esc(cert.get("reason", ""))}')]
+    for key, value in cert.items():
+        if key in RESIDUALS and isinstance(value, (int, float)):
+            words, unit = RESIDUALS[key]
+            shown_value = f"{sci(value)}{' ' + unit if unit else ''}"
+            if key in limits:
+                verdict = "passes" if value <= limits[key] else '<span class="fail">FAILS</span>'
+                text = f"{shown_value}, allowed {_allowed(cert, limits[key], unit)}: {verdict}"
+            else:  # result.json of an earlier version: the limits were not recorded per residual
+                text = f"{shown_value} (its limit is not recorded in this result.json)"
+            rows.append((esc(words), text))
+    for key, (words, unit) in CERTIFICATE_FIGURES.items():
+        if isinstance(cert.get(key), (int, float)) and not isinstance(cert.get(key), bool):
+            rows.append((esc(words), num(cert[key], 2, unit) if unit else sci(cert[key])))
+    restored = cert.get("restored")
+    if isinstance(restored, dict):
+        rows.append(("velocities restored before certifying (Tresca incompressibility projected to round-off)",
+                     f"breach {sci(restored.get('incompressibility_before'))} before, "
+                     f"{sci(restored.get('incompressibility_after'))} after; largest velocity change "
+                     f"{sci(restored.get('largest_velocity_change'))}; frictional corners held "
+                     f"{num(restored.get('frictional_corners_held'))}"))
+    done = set(RESIDUALS) | set(CERTIFICATE_FIGURES) | set(TOLERANCE_KEYS) | {"restored", "reason"}
+    for key, value in cert.items():
+        if key not in done:  # what the solve recorded besides (a second solve, a mesh without fans)
+            text = sci(value) if isinstance(value, (int, float)) and not isinstance(value, bool) else esc(value)
+            rows.append((esc(key.replace("_", " ")), text))
+    return rows
+
+
 def _certificates(d: dict) -> str:
-    out = ['<h2 class="pagebreak">Certificates</h2>',
-           '<p class="small">Residuals recomputed from each solution after the solve; a bound is used only '
-           "when all of them are within tolerance.</p>"]
+    out = ["<h2>Certificates</h2>",
+           '<p class="small">Residuals recomputed from each solution after the solve, each against its own '
+           "limit; a bound is used only when every one passes.</p>"]
     for kind in ("lower", "upper"):
         b = d.get(kind)
-        if not b:
-            continue
-        cert = b.get("certificate") or {}
-        passed = cert.get("passed")
-        rows = [(esc(k), sci(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else esc(v))
-                for k, v in cert.items() if k != "passed"]
-        rows.insert(0, ("passed", '<span class="pass">yes</span>' if passed else '<span class="fail">no</span>'))
-        out.append(_kv(f"{kind.capitalize()} bound", rows))
+        if b:
+            out.append(_kv(f"{kind.capitalize()} bound", certificate_rows(b.get("certificate") or {})))
     return "\n".join(out)
 
 
 def _statistics(d: dict, run: Run) -> str:
-    header = "<tr><th></th><th>lower bound</th><th>upper bound</th></tr>"
+    header = "<thead><tr><th></th><th>lower bound</th><th>upper bound</th></tr></thead>"
     keys = [("elements", "triangles"), ("variables", "variables"), ("equalities", "equality rows"),
             ("cones", "second-order cones (3-D)"), ("iterations", "interior-point iterations")]
     lower, upper = d.get("lower") or {}, d.get("upper") or {}
@@ -611,12 +848,12 @@ def _statistics(d: dict, run: Run) -> str:
         rows.append(f"<tr><td>{esc(key.replace('_s', ''))} time (s)</td>"
                     f"<td class='n'>{num((lower.get('timing') or {}).get(key), 2)}</td>"
                     f"<td class='n'>{num((upper.get('timing') or {}).get(key), 2)}</td></tr>")
-    out = ["<h2>Mesh and solver statistics</h2>", "<table>" + header + "".join(rows) + "</table>"]
+    out = ["<h2>Mesh and solver statistics</h2>", '<table class="keep">' + header + "".join(rows) + "</table>"]
     dom = d.get("domain") or {}
     extra = upper.get("extra") or {}
     timing = d.get("timing") or {}
     kv = [("mesh", esc(refinement_line(d["refinement"], d.get("gap_percent"))) if d.get("refinement") else "not recorded"),
-          ("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
+          ("wall time of the bounds (meshing, solving, certifying)", num(timing.get("total_s"), 2, "s")),
           ("time with a solve running (the two bounds solve at once on two cores)",
            num(timing.get("solve_wall_s"), 2, "s")),
           ("half domain by symmetry", "yes" if dom.get("half_domain_by_symmetry") else "no"),

@@ -5,10 +5,13 @@ Reports use the trade's convention: pressures and loads compression positive.
 """
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import os
 import tempfile
+import time
+from collections.abc import Iterator
 from dataclasses import dataclass, field, fields as dataclass_fields
 from pathlib import Path
 
@@ -79,6 +82,12 @@ class Result:
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
     # case gives a design load or partial factors; written to result.json only then
     factor_of_safety: dict | None = None
+    run_date: str | None = None  # when the run was made: ISO 8601, local time with its UTC offset
+    # what changes how far the numbers can be trusted (:func:`caveats`), shown beside the bracket
+    caveats: list[str] = field(default_factory=list)
+    # the whole command's wall time split (s): bounds, strength_search, pictures, report, other,
+    # total (solver.cli); None when the Result was made without the command (the Python API)
+    wall_time_s: dict | None = None
 
     @property
     def gap_percent(self) -> float | None:
@@ -92,6 +101,7 @@ class Result:
     def to_dict(self) -> dict:
         data = {
             "title": self.title,
+            "run_date": self.run_date,
             "case": {"name": self.case_name, "sha256": self.case_sha256},
             "software": {"name": "bearbound", "version": __version__},
             "footing_width_m": self.footing_width_m,
@@ -102,6 +112,7 @@ class Result:
             "domain": self.domain,
             "backend": self.backend,
             "pore_pressure_at_base_kPa": self.pore_pressure_at_base_kPa,
+            "caveats": self.caveats,
             "notes": self.notes,
             "input_warnings": self.input_warnings,
             "caution": CAUTION,
@@ -116,7 +127,64 @@ class Result:
             data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:
             data["factor_of_safety"] = self.factor_of_safety
+        if self.wall_time_s is not None:
+            data["wall_time_s"] = {k: round(v, 3) for k, v in self.wall_time_s.items()}
         return json_safe(data)
+
+
+class WallClock:
+    """The whole command's wall time (s), split into the parts a user waits for: the bounds
+    (meshing, solving and certifying, every adaptive step), the strength search (the factor
+    of safety on strength and the partial-factor check), the pictures (drawn, and written as
+    PNG and SVG), the report (its page with the pictures embedded) and the rest ("other":
+    start-up, reading the case, fields.vtu, summary.csv, the output folder).
+
+    >>> clock = WallClock()
+    >>> with clock.part("pictures"):
+    ...     pass
+    >>> split = clock.split()
+    >>> list(split), split["total"] >= split["pictures"] >= 0
+    (['bounds', 'strength_search', 'pictures', 'report', 'other', 'total'], True)
+    """
+
+    PARTS = ("bounds", "strength_search", "pictures", "report")
+
+    def __init__(self, started: float | None = None) -> None:
+        self.started = time.perf_counter() if started is None else started  # a perf_counter() reading
+        self.parts = dict.fromkeys(self.PARTS, 0.0)
+
+    @contextlib.contextmanager
+    def part(self, name: str) -> Iterator[None]:
+        start = time.perf_counter()
+        try:
+            yield
+        finally:
+            self.parts[name] += time.perf_counter() - start
+
+    def split(self) -> dict[str, float]:
+        """Every part, "other" and "total" (s), as of now."""
+        total = time.perf_counter() - self.started
+        return {**self.parts, "other": max(total - sum(self.parts.values()), 0.0), "total": total}
+
+
+WALL_PARTS = {"bounds": "bounds", "strength_search": "strength search", "pictures": "pictures",
+              "report": "report", "other": "other"}
+
+
+def wall_time_line(split: dict) -> str:
+    """The whole command's wall time in one line, its parts in words (a part that did not run,
+    such as the strength search of a case without a design load, is left out).
+
+    >>> wall_time_line({"bounds": 4.3, "strength_search": 14.8, "pictures": 2.0, "report": 0.4, "other": 0.9,
+    ...                 "total": 22.4})
+    '22.4 s: bounds 4.3 s, strength search 14.8 s, pictures 2.0 s, report 0.4 s, other 0.9 s'
+    >>> wall_time_line({"bounds": 4.3, "strength_search": 0.0, "pictures": 0.0, "report": 0.0, "other": 0.2,
+    ...                 "total": 4.5})
+    '4.5 s: bounds 4.3 s, other 0.2 s'
+    """
+    parts = ", ".join(f"{words} {split[key]:.1f} s" for key, words in WALL_PARTS.items()
+                      if split.get(key) or key in ("bounds", "other"))
+    return f"{split['total']:.1f} s: {parts}"
 
 
 def refinement_line(refinement: dict, gap_percent: float | None) -> str:
@@ -129,6 +197,50 @@ def refinement_line(refinement: dict, gap_percent: float | None) -> str:
     gap = "no gap" if gap_percent is None else f"gap {gap_percent:.2f} %"
     return (f"adaptive, target gap {target:g} % NOT reached ({gap} after {steps} step{'s' * (steps > 1)}); "
             f"stopped by {refinement['why']}")
+
+
+def caveats(case, data: dict) -> list[str]:
+    """What changes how far the bracket can be trusted, one plain sentence each, from a
+    result's data (result.json's dict) and its case: the Davis reduction, a field at the
+    model's edge, water above the footing base, a bound withheld or not asked for, the
+    target gap missed. Empty when the bounds are rigorous bounds of the case as given,
+    both certified and as close as asked. The report puts these beside the bracket and
+    never calls the bounds rigorous while any holds."""
+    out = []
+    for kind in ("lower", "upper"):
+        bound = data.get(kind)
+        if bound is None:
+            other = "upper" if kind == "lower" else "lower"
+            if data.get(other) is not None:
+                out.append(f"the {kind} bound was not asked for ([analysis] bounds = \"{other}\"): "
+                           f"one side only, no bracket")
+        elif bound.get("pressure_kPa") is None:
+            out.append(f"the {kind} bound is withheld ({bound.get('status')}): no bracket")
+    reduced = [layer for layer in case.layers if layer.dilation_angle is not None and not layer.is_tresca]
+    if reduced:
+        names = ", ".join(f"'{layer.name}' (psi = {layer.dilation_angle:g} degrees)" for layer in reduced)
+        out.append(f"Davis reduction: the bounds use a reduced strength c*, phi* for {names}; they are not "
+                   "rigorous bounds for the soil as given (non-associated flow), but the accepted approximation")
+    for kind, what, side in (("lower", "stress field is at yield", "low"), ("upper", "mechanism moves", "high")):
+        bound = data.get(kind) or {}
+        edges = (bound.get("extra") or {}).get("field_at_edge") or []
+        if bound.get("pressure_kPa") is not None and edges:
+            out.append(f"the {kind} bound's {what} at the {' and '.join(edges)} edge of its model: the model's "
+                       f"edge, not the soil, may limit it, so it may be {side}")
+    pore = data.get("pore_pressure_at_base_kPa") or 0.0
+    if pore > 0:
+        out.append(f"the water table is above the footing base: the pressures are effective; the total contact "
+                   f"pressure adds the pore pressure at the base, {pore:.1f} kPa")
+    refinement, gap = data.get("refinement") or {}, data.get("gap_percent")
+    if refinement.get("mesh") == "adaptive" and not refinement.get("reached") and gap is not None:
+        steps = refinement["steps"]
+        out.append(f"the target gap of {refinement['target_gap_percent']:g} % was not reached: gap {gap:.2f} % "
+                   f"after {steps} step{'s' * (steps > 1)}, stopped by {refinement['why']}")
+    elif refinement.get("mesh") == "fixed" and gap is not None and gap > 100 * case.analysis.target_gap:
+        out.append(f"the gap, {gap:.2f} %, is wider than the target {100 * case.analysis.target_gap:g} % "
+                   "([analysis] target_gap): one fixed mesh per bound was solved; the adaptive run (without "
+                   "--fixed-mesh) or more elements narrow it")
+    return out
 
 
 def _bound_dict(bound: BoundResult | None) -> dict | None:

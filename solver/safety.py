@@ -97,7 +97,8 @@ Solver = Callable[[Case, str], Any]  # (case, "lower" | "upper") -> BoundResult
 
 def search_strength(kind: str, case: Case, design_load: float, load_at_1: float | None,
                     solve: Solver, tolerance: float = STRENGTH_TOLERANCE,
-                    progress: Callable[[str], None] | None = None) -> dict:
+                    progress: Callable[[str], None] | None = None,
+                    starting: Callable[[str, str], None] | None = None) -> dict:
     """Bracket the factor of safety on strength F with one bound: secant estimates, then bisection.
 
     Parameters
@@ -112,6 +113,9 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         None when it was withheld (then nothing is proven and nothing is solved).
     solve : callable
         ``solve(case_F, kind)`` returns a BoundResult (``load_kN_per_m`` None when withheld).
+    progress, starting : callable, optional
+        ``progress(line)`` after each solve, with its outcome; ``starting(kind, "F = ...")``
+        before it (a terminal shows what runs meanwhile).
 
     Returns
     -------
@@ -148,6 +152,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
     def trial(F: float) -> float | None:
         nonlocal solves
         solves += 1
+        if starting:
+            starting(kind, f"F = {F:.4f}")
         bound = solve(reduce_strength(case, F), kind)
         load = bound.load_kN_per_m
         evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
@@ -277,7 +283,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
 def factor_of_safety(case: Case, result, *, elements: int | None = None, backend: str | None = None,
                      tolerance: float = STRENGTH_TOLERANCE,
                      progress: Callable[[str], None] | None = None, solve: Solver | None = None,
-                     parallel: bool | None = None) -> dict | None:
+                     parallel: bool | None = None,
+                     starting: Callable[[str, str], None] | None = None) -> dict | None:
     """Factors of safety on load and on strength, the checks and the partial-factor check
     for a finished Result.
 
@@ -296,6 +303,9 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     solve : callable, optional
         ``solve(case, kind) -> BoundResult``; default: :func:`solver.analysis.analyse`
         with that bound alone.
+    progress, starting : callable, optional
+        ``progress(line)`` after each solve of the search; ``starting(kind, what)`` before
+        every extra solve ("F = 1.2345", "design strengths").
     parallel : bool, optional
         Search with the two bounds at once, one thread each (their solves share the
         cores; meshing takes turns); default: when two cores are free. The values
@@ -337,7 +347,8 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
             from .analysis import two_cores_free
             parallel = two_cores_free()
         found_by_kind = _run_each(lambda k, load: search_strength(k, case, design_load, load, solve, tolerance,
-                                                                  progress), asked, parallel and len(asked) > 1)
+                                                                  progress, starting),
+                                  asked, parallel and len(asked) > 1)
         for kind in ("lower", "upper"):
             if kind not in found_by_kind:
                 strength["search"][kind] = "not asked for"
@@ -356,7 +367,12 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
         out["on_strength"] = strength
         out["checks"] = safety_checks(case, lo1, up1, out["on_load"], strength)
     if case.factors is not None:
-        out["partial_factors"] = partial_factor_check(case, result, design_load, solve)
+        def announced(case_design: Case, kind: str):
+            if starting:
+                starting(kind, "design strengths")
+            return solve(case_design, kind)
+
+        out["partial_factors"] = partial_factor_check(case, result, design_load, announced)
     out["wall_s"] = time.perf_counter() - start
     return out
 

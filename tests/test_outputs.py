@@ -191,7 +191,8 @@ def test_an_error_while_writing_leaves_the_earlier_run_whole(
 
     monkeypatch.setattr(solver.report, "write_run_files", fails_half_way)
     (tmp_path / "clay.toml").write_text(QUICK.replace("30.0", "35.0"), encoding="utf-8")
-    assert solver.cli.main(["run", "clay.toml", "--no-pictures"]) == 2
+    capsys.readouterr()
+    assert solver.cli.main(["run", "clay.toml", "--no-pictures", "--no-progress"]) == 2
     err = capsys.readouterr().err
     assert err == ("bearbound: --out: cannot write the outputs to out/clay (No space left on device); anything "
                    "there before is unchanged\n")
@@ -213,7 +214,8 @@ def test_sigterm_while_writing_finishes_every_output_first(
 
     monkeypatch.setattr(solver.report, "write_run_files", terminated_write)
     before = signal.getsignal(signal.SIGTERM)
-    assert solver.cli.main(["run", "clay.toml", "--no-pictures"]) == 130
+    capsys.readouterr()
+    assert solver.cli.main(["run", "clay.toml", "--no-pictures", "--no-progress"]) == 130
     assert signal.getsignal(signal.SIGTERM) is before  # restored
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "finished first" in err
@@ -224,7 +226,7 @@ def test_sigterm_while_writing_finishes_every_output_first(
 
 def test_sigterm_while_solving_stops_at_once_and_writes_nothing(tmp_path: Path) -> None:
     (tmp_path / "slow.toml").write_text(SLOW, encoding="utf-8")
-    run = subprocess.Popen([sys.executable, "-m", "solver.cli", "run", "slow.toml"], cwd=tmp_path,
+    run = subprocess.Popen([sys.executable, "-m", "solver.cli", "run", "slow.toml", "--no-progress"], cwd=tmp_path,
                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     time.sleep(3.0)  # past start-up and gmsh's start (which resets SIGTERM's action), inside the solve
     assert run.poll() is None, "the run ended before it could be stopped"

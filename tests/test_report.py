@@ -2,10 +2,13 @@
 without solving), fields.vtu, summary.csv, the case copy, the command-line flags, and the
 report in a real headless browser where one is installed."""
 import csv
+import datetime
 import json
 import shutil
 import subprocess
 import sys
+import time
+from dataclasses import replace
 from html.parser import HTMLParser
 
 import numpy as np
@@ -14,6 +17,7 @@ import pytest
 from solver.analysis import analyse
 from solver.case import parse_case
 from solver.export import bound_fields, read_fields_vtu, write_fields_vtu
+from solver.report import esc
 
 # A case file is data: every string below must reach the report as text, never as markup,
 # and the spreadsheet cell must not become a formula.
@@ -52,6 +56,9 @@ mesh = "fixed"
 
 PLAIN_CASE = """
 title = "Test strip on uniform clay"
+[report]
+project = "Quay <wall> 7"
+checked_by = "A. Checker"
 [footing]
 width = 2.0
 [[layers]]
@@ -76,7 +83,9 @@ def hostile_run(tmp_path_factory):
     case = folder / "rail.toml"
     case.write_text(HOSTILE_CASE)
     before = case.read_bytes()
+    start = time.perf_counter()
     done = bearbound("run", str(case), cwd=folder)
+    (folder / "elapsed_s.txt").write_text(f"{time.perf_counter() - start}")  # the command, seen from outside
     assert done.returncode == 0, done.stderr
     return folder, folder / "out" / "rail", before, done
 
@@ -195,9 +204,10 @@ def test_report_command_refuses_a_missing_or_altered_run(hostile_run, tmp_path):
 def test_flags_skip_pictures_and_report_and_reruns_give_the_same_numbers(tmp_path):
     case = tmp_path / "clay.toml"
     case.write_text(PLAIN_CASE)
-    first = bearbound("run", str(case), "--no-pictures", "--no-report", "--out", "a", cwd=tmp_path)
+    first = bearbound("run", str(case), "--no-pictures", "--no-report", "--no-progress", "--out", "a", cwd=tmp_path)
     second = bearbound("run", str(case), "--no-pictures", "--out", "b", cwd=tmp_path)
     assert first.returncode == second.returncode == 0, first.stderr + second.stderr
+    assert first.stderr == "" and "bearbound: bracket:" in second.stderr  # --no-progress prints nothing
     assert {p.name for p in (tmp_path / "a").iterdir()} == {"result.json", "case.toml", "fields.vtu",
                                                             "summary.csv"}
     assert {p.name for p in (tmp_path / "b").iterdir()} == {"result.json", "case.toml", "fields.vtu",
@@ -211,6 +221,10 @@ def test_flags_skip_pictures_and_report_and_reruns_give_the_same_numbers(tmp_pat
     assert "WARNING: layers[1].unit_weight = 0" in first.stdout
     page = (tmp_path / "b" / "report.html").read_text(encoding="utf-8")
     assert "Check these inputs" in page and "layers[1].unit_weight = 0" in page
+    # [report] project and checker head the report, escaped like every text from the case file
+    heading = page[page.index("<h1>"):page.index('<div class="result">')]
+    assert "<strong>Project:</strong> Quay &lt;wall&gt; 7" in heading
+    assert "<strong>Checked by:</strong> A. Checker" in heading
     assert (tmp_path / "a" / "fields.vtu").read_bytes() == (tmp_path / "b" / "fields.vtu").read_bytes()
 
 
@@ -371,3 +385,151 @@ def test_report_says_not_found_with_the_reason_and_prints_the_verdicts():
     assert "<td class='n'>not found</td>" in page and "1.000" not in page
     assert "withheld at F = 2.142" in page
     assert page.count('class="verdict"') == 2 and "undecided by the bracket" in page
+
+
+# -- what the report puts first ---------------------------------------------------------
+
+def test_result_box_opens_the_report_with_the_bracket_and_every_caveat(hostile_run):
+    _, out, _, _ = hostile_run
+    data = json.loads((out / "result.json").read_text())
+    page = (out / "report.html").read_text(encoding="utf-8")
+    box = page[page.index('<div class="result">'):page.index('<div class="caution">')]
+    assert page.index('<div class="result">') < page.index("<h2>")  # before every section
+    assert f"{data['lower']['pressure_kPa']:.1f} to {data['upper']['pressure_kPa']:.1f}" in box
+    assert 'class="verdict"' in box and "is carried" in box  # the design load's verdict beside it
+    # 600 triangles on one fixed mesh: the gap is wider than the 1 % target, and the report says so
+    assert data["gap_percent"] > 1 and any("wider than the target 1 %" in c for c in data["caveats"])
+    for caveat in data["caveats"]:
+        assert esc(caveat) in box
+    subtitle = page[page.index('<p class="sub">'):page.index("</p>", page.index('<p class="sub">'))]
+    assert "rigorous" not in subtitle and "caveat" in subtitle
+
+
+def test_subtitle_says_rigorous_only_without_caveats(hostile_run):
+    from solver.report import build_html, load_run
+
+    _, out, _, _ = hostile_run
+    run = load_run(out)
+    run.data = {**run.data, "caveats": []}
+    page = build_html(run, images={})
+    assert "(rigorous lower and upper bounds)" in page and "No caveats" in page
+
+
+def test_caveats_name_everything_that_limits_trust():
+    from solver.result import caveats
+
+    sand = {"name": "sand", "model": "mohr-coulomb", "friction_angle": 32.0, "unit_weight": 19.0, "thickness": 2.0}
+    clay = {"name": "clay", "model": "tresca", "undrained_strength": 40.0, "unit_weight": 18.0}
+    plain = parse_case({"footing": {"width": 2.0}, "layers": [sand, clay]})
+    good = {"lower": {"pressure_kPa": 300.0, "extra": {"field_at_edge": []}},
+            "upper": {"pressure_kPa": 302.0, "extra": {"field_at_edge": []}}, "gap_percent": 0.67,
+            "pore_pressure_at_base_kPa": 0.0, "refinement": {"mesh": "fixed", "elements": 600}}
+    assert caveats(plain, good) == []
+    davis = parse_case({"footing": {"width": 2.0}, "layers": [{**sand, "dilation_angle": 5.0}, clay]})
+    assert ["Davis" in c and "not rigorous bounds for the soil as given" in c for c in caveats(davis, good)] == [True]
+    at_edge = {**good, "upper": {"pressure_kPa": 302.0, "extra": {"field_at_edge": ["right", "base"]}}}
+    assert caveats(plain, at_edge) == ["the upper bound's mechanism moves at the right and base edge of its model: "
+                                       "the model's edge, not the soil, may limit it, so it may be high"]
+    wet = {**good, "pore_pressure_at_base_kPa": 9.81}
+    assert "the pressures are effective" in caveats(plain, wet)[0] and "9.8 kPa" in caveats(plain, wet)[0]
+    withheld = {**good, "upper": {"pressure_kPa": None, "status": "withheld: certificate failed"}, "gap_percent": None}
+    assert caveats(plain, withheld) == ["the upper bound is withheld (withheld: certificate failed): no bracket"]
+    one_side = {**good, "upper": None, "gap_percent": None}
+    assert "not asked for" in caveats(plain, one_side)[0]
+    missed = {**good, "gap_percent": 1.4, "refinement": {"mesh": "adaptive", "target_gap_percent": 1.0, "steps": 3,
+                                                         "reached": False, "why": "the time limit"}}
+    assert caveats(plain, missed) == ["the target gap of 1 % was not reached: gap 1.40 % after 3 steps, stopped by "
+                                      "the time limit"]
+    wide = {**good, "gap_percent": 3.2}
+    assert "wider than the target 1 %" in caveats(plain, wide)[0]
+
+
+def test_run_date_project_and_checker_in_the_report(hostile_run):
+    from solver.report import build_html, load_run, run_date_text
+    from solver.model import ReportInfo
+
+    _, out, _, _ = hostile_run
+    data = json.loads((out / "result.json").read_text())
+    made = datetime.datetime.fromisoformat(data["run_date"])
+    assert made.tzinfo is not None and abs((datetime.datetime.now(made.tzinfo) - made).total_seconds()) < 3600
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert esc(run_date_text(data["run_date"])) in page
+    assert "<strong>Project:</strong> <span class=\"small\">not given</span>" in page  # the case gives none
+    run = load_run(out)
+    run.case = replace(run.case, report=ReportInfo(project="Berth 4 <crane rail>", checked_by="J. Doe"))
+    page = build_html(run, images={})
+    assert "Berth 4 &lt;crane rail&gt;" in page and "Checked by</td><td>J. Doe" in page
+
+
+def test_certificates_read_as_words_with_their_limits(hostile_run):
+    _, out, _, _ = hostile_run
+    page = (out / "report.html").read_text(encoding="utf-8")
+    data = json.loads((out / "result.json").read_text())
+    section = page[page.index("<h2>Certificates</h2>"):page.index("<h2>Mesh and solver statistics</h2>")]
+    cert = data["lower"]["certificate"]
+    assert cert["limits"]["equilibrium_kPa"] == cert["tolerance_kPa"]
+    words = (f"{cert['equilibrium_kPa']:.3g} kPa, allowed {cert['tolerance_kPa']:.3g} kPa (1e-6 &times; the stress "
+             f"scale, {cert['stress_scale_kPa']:.3g} kPa): passes")
+    assert "equilibrium with self-weight in every triangle" in section and words in section
+    assert "Mohr-Coulomb flow rule at every triangle corner" in section
+    assert "what the solver's own stopping test allows" in section
+    assert section.count(": passes") == len(cert["limits"]) + len(data["upper"]["certificate"]["limits"])
+    for raw in ("equilibrium_kPa", "tolerance_kPa", "flow_rule", "load_mismatch", "{'"):
+        assert raw not in section, raw
+
+
+def test_model_caption_names_only_what_the_model_has():
+    from solver.report import model_caption
+
+    dry = parse_case({"footing": {"width": 1.0}, "layers": [
+        {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]})
+    assert model_caption(dry, "lower") == ("The model: level ground, the layer with its parameters, the footing "
+                                           "with its load, and the mesh of the lower bound.")
+    wet = parse_case(SLOPE_CASE)
+    caption = model_caption(wet, None)
+    assert caption == ("The model: the ground profile with the slope's crest and toe, the layers with their "
+                       "parameters, the water table, and the footing with its inclined and eccentric load.")
+
+
+def test_printed_report_numbers_its_pages_and_forces_no_page_break(hostile_run):
+    _, out, _, _ = hostile_run
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert '@bottom-right { content: "page " counter(page) " of " counter(pages)' in page
+    assert "page-break-before: always" not in page and "break-before: page" not in page
+    assert page.count("<thead>") >= 3  # long tables repeat their header on each page they run over
+
+
+# -- the whole command, as the terminal shows it ------------------------------------------
+
+def test_whole_wall_time_is_split_the_same_in_result_json_terminal_and_report(hostile_run):
+    from solver.result import wall_time_line
+
+    folder, out, _, done = hostile_run
+    split = json.loads((out / "result.json").read_text())["wall_time_s"]
+    assert list(split) == ["bounds", "strength_search", "pictures", "report", "other", "total"]
+    assert all(split[k] > 0 for k in split)  # this run searched, drew and wrote a report
+    assert sum(split[k] for k in split if k != "total") == pytest.approx(split["total"], abs=0.01)
+    # the whole command: more than the bounds and the search, less than the time seen from outside
+    elapsed = float((folder / "elapsed_s.txt").read_text())
+    assert split["bounds"] + split["strength_search"] < split["total"] <= elapsed
+    assert elapsed - split["total"] < 5.0  # only the interpreter's start is outside the clock
+    line = wall_time_line(split)
+    assert f"wall time   {line}" in done.stdout
+    assert esc(line) in (out / "report.html").read_text(encoding="utf-8")
+    row = next(csv.DictReader((out / "summary.csv").open(encoding="utf-8")))
+    assert float(row["wall_time_s"]) == split["total"] and float(row["bounds_wall_time_s"]) < split["total"]
+
+
+def test_terminal_shows_the_bracket_first_then_the_search_and_lists_every_file(hostile_run):
+    folder, out, _, done = hostile_run
+    lines = done.stderr.splitlines()
+    assert "\r" not in done.stderr + done.stdout  # not a terminal: lines only, no status line redrawn
+    assert all(line.startswith("bearbound: ") for line in lines)
+    bracket = next(i for i, line in enumerate(lines) if line.startswith("bearbound: bracket: lower "))
+    search = [i for i, line in enumerate(lines) if "strength reduction" in line]
+    assert search and bracket < min(search)  # the bracket is printed as soon as it is known
+    assert lines.index("bearbound: drawing the pictures") > max(search)
+    listed = done.stdout[done.stdout.index("files written:"):].splitlines()[1:-1]
+    paths = [folder / line.strip() for line in listed]
+    assert sorted(p.name for p in paths) == sorted(p.name for p in out.iterdir())  # every file, each once
+    assert all(p.is_file() for p in paths) and paths[0].name == "report.html"
