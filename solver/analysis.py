@@ -102,16 +102,9 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                          f"deep), and it was not solved on a larger one ({_why_at_edge(case, bound)}): it is still "
                          "rigorous but may be " + ("low" if bound.kind == "lower" else "high"))
     used = [b.mesh.domain for b in (lower, upper) if b is not None and b.mesh is not None] or [domain]
-    box = {"x_min_m": min(d.x_min for d in used), "x_max_m": max(d.x_max for d in used),
-           "depth_m": max(d.depth for d in used)}
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
                     footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
-                    domain={"half_domain_by_symmetry": domain.half, "width_m": box["x_max_m"] - box["x_min_m"],
-                            **box, "estimated_mechanism_width_m": domain.mechanism_width,
-                            "estimated_mechanism_depth_m": domain.mechanism_depth,
-                            "planned_width_m": domain.x_max - domain.x_min, "planned_depth_m": domain.depth,
-                            "slope_crest_x_m": domain.crest_x, "slope_toe_x_m": domain.toe_x,
-                            "slope_height_m": domain.slope_height},
+                    domain=domain_record(domain, used),
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
                     backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
@@ -124,6 +117,18 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     result.hand_methods_as_given = [_hand_row(h, "information only") for h in information_only(case)]
     result.caveats = caveats(case, result.to_dict())
     return result
+
+
+def domain_record(planned, used: list) -> dict:
+    """result.json's "domain": the box holding every domain ``used`` (each bound's, grown or
+    not) and what was ``planned`` (solver.mesh.Domain, m)."""
+    box = {"x_min_m": min(d.x_min for d in used), "x_max_m": max(d.x_max for d in used),
+           "depth_m": max(d.depth for d in used)}
+    return {"half_domain_by_symmetry": planned.half, "width_m": box["x_max_m"] - box["x_min_m"], **box,
+            "estimated_mechanism_width_m": planned.mechanism_width,
+            "estimated_mechanism_depth_m": planned.mechanism_depth,
+            "planned_width_m": planned.x_max - planned.x_min, "planned_depth_m": planned.depth,
+            "slope_crest_x_m": planned.crest_x, "slope_toe_x_m": planned.toe_x, "slope_height_m": planned.slope_height}
 
 
 def _hand_row(h, where: str) -> dict:

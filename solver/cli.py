@@ -32,6 +32,7 @@ from .outdir import abandon_open_folders
 from .result import CAUTION, refinement_line, wall_time_line
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
+PREVIEW_FILE_NAME = "preview.png"  # solver.export.PREVIEW_FILE, without importing numpy to build the parser
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -91,6 +92,19 @@ def _parser() -> argparse.ArgumentParser:
                      help="print nothing while working (no step lines, no status line); the summary still prints")
     run.set_defaults(handler=_run)
 
+    init = sub.add_parser("init", help="write a commented starter case file (an invented scenario) to edit")
+    init.add_argument("file", type=Path, nargs="?", default=Path("site.toml"),
+                      help="the case file to write (default site.toml); never one that exists")
+    init.set_defaults(handler=_init)
+
+    preview = sub.add_parser("preview", help="draw the model a case file describes, without solving")
+    preview.add_argument("case", type=Path, help="case file (TOML)")
+    preview.add_argument("--out", type=Path, default=None,
+                         help=f"folder for {PREVIEW_FILE_NAME} (default out/<case name>, the run's folder)")
+    preview.add_argument("--mesh", action="store_true",
+                         help="mesh the model as a run's first step does and draw the mesh too (a few seconds)")
+    preview.set_defaults(handler=_preview)
+
     report = sub.add_parser("report", help="rebuild report.html from a finished run's folder, without solving")
     report.add_argument("folder", type=Path, help="output folder of a finished run (out/<case>)")
     report.set_defaults(handler=_report)
@@ -127,7 +141,7 @@ def _run(args) -> int:
     from .outdir import RunFolder, folder_name
 
     out_dir = args.out or Path("out") / folder_name(case.name, "case")
-    from .export import RUN_FILES, outputs_overwriting
+    from .export import FOLDER_FILES, PREVIEW_FILE, outputs_overwriting
 
     if (clash := outputs_overwriting(args.case, out_dir)) is not None:
         raise CaseError(f"--out: {shown(out_dir, 200)} is not allowed; writing {clash.name} there would "
@@ -140,7 +154,7 @@ def _run(args) -> int:
     # The folder is checked, locked and staged before the solve: a folder that cannot be
     # written or that another run is writing is found now, not after minutes of solving.
     try:
-        with RunFolder(out_dir, RUN_FILES) as folder:
+        with RunFolder(out_dir, FOLDER_FILES, loose=(PREVIEW_FILE,)) as folder:
             result, written = _solve_and_write(args, case, out_dir, folder, progress, clock)
     finally:
         progress.clear()
@@ -429,6 +443,39 @@ def _hand(args) -> int:
         print(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
         print("\n".join(_hand_lines(rows(information_only(case)))))
     print(f"  Caution: {CAUTION}")
+    return 0
+
+
+def _init(args) -> int:
+    from .outdir import write_new_file
+    from .starter import starter_text
+
+    path = write_new_file(args.file, starter_text().encode("utf-8"), where="init")
+    print(f"written: {shown(path, 300)} (a starter case, an invented scenario: replace its values with "
+          f"your own, then `bearbound preview {shown(path, 300)}` and `bearbound run {shown(path, 300)}`)")
+    return 0
+
+
+def _preview(args) -> int:
+    case = load_case(args.case)
+    from .export import FOLDER_FILES, PREVIEW_FILE, outputs_overwriting, write_bytes_atomic
+    from .outdir import check_folder, folder_name, locked_folder
+
+    out_dir = args.out or Path("out") / folder_name(case.name, "case")
+    if (clash := outputs_overwriting(args.case, out_dir)) is not None:
+        raise CaseError(f"--out: {shown(out_dir, 200)} is not allowed; writing {clash.name} there would "
+                        "overwrite the case file, choose another folder")
+    check_folder(Path(os.path.abspath(out_dir)), out_dir, "--out", FOLDER_FILES, loose=(PREVIEW_FILE,))
+    from .preview import preview_png
+
+    png = preview_png(case, mesh=args.mesh)  # drawn before the folder is taken: nothing half-written
+    with locked_folder(out_dir) as folder:  # a run swapping the folder meanwhile would lose it
+        path = Path(out_dir) / PREVIEW_FILE
+        try:
+            write_bytes_atomic(folder / PREVIEW_FILE, png)
+        except OSError as error:
+            raise CaseError(f"--out: cannot write {shown(path, 200)} ({shown(error.strerror or error, 100)})") from None
+    print(f"written: {shown(path, 300)} (the model as the case file describes it; nothing was solved)")
     return 0
 
 

@@ -31,10 +31,12 @@ from .case import CaseError, open_regular, shown
 LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
 PICTURE_NAMES = ("model", "mechanism", "stress", "contact")
-OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
+OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html", "preview.png") + tuple(
     f"{name}.{ext}" for name in PICTURE_NAMES for ext in ("png", "svg"))  # the case file must be none of these
 SITE_COPY = "site"  # a drawn site's file is copied as site.geo / site.msh
+PREVIEW_FILE = "preview.png"  # `bearbound preview`, into the run's folder; a run replaces it with the rest
 RUN_FILES = OUTPUT_NAMES + (CASE_COPY, f"{SITE_COPY}.geo", f"{SITE_COPY}.msh")  # every file a run writes
+FOLDER_FILES = RUN_FILES + (PREVIEW_FILE,)  # every file bearbound leaves in a run's folder
 
 
 @dataclass

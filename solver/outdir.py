@@ -14,7 +14,10 @@
   whole new one, never a mixture. Whatever happens, leaving the ``with`` block
   removes the staging folder, the replaced run and the lock.
 * :func:`locked_folder` takes the same lock alone, for outputs that are added to a
-  folder rather than replacing it (a sweep's points, a rebuilt report).
+  folder rather than replacing it (a sweep's points, a rebuilt report, a preview);
+  :func:`check_folder` refuses such a folder when it holds anything but bearbound's files.
+* :func:`write_new_file` writes one new file (``bearbound init``'s case file) whole or
+  not at all, and never over an existing one.
 
 Every refusal is a CaseError naming ``--out`` (exit status 2).
 """
@@ -51,6 +54,33 @@ def folder_name(stem: str, default: str) -> str:
     kept = kept.encode("utf-8")[:MAX_NAME_BYTES].decode("utf-8", errors="ignore")
     kept = kept.lstrip(". ").rstrip(" ")
     return kept or default
+
+
+def write_new_file(path: Path, data: bytes, where: str) -> Path:
+    """Write ``data`` to ``path``, which must not exist: into a staging file beside it first,
+    then linked into place, which fails if the name was taken meanwhile; so the file is
+    whole or absent, and an existing file is never touched. Every refusal is one CaseError
+    line naming ``where``."""
+    path = Path(path)
+    if path.exists() or path.is_symlink():
+        raise _refuse(where, path, "it already exists; choose a new file name or move that file away")
+    try:
+        fd, staging = tempfile.mkstemp(prefix=f".{path.name}.new-", dir=path.parent)
+    except OSError as error:
+        raise _refuse(where, path, f"cannot write in {shown(path.parent)} ({_reason(error)})") from None
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+        os.chmod(staging, 0o666 & ~_umask())  # mkstemp makes it private; a case file is not
+        os.link(staging, path)
+    except FileExistsError:
+        raise _refuse(where, path, "it already exists; choose a new file name or move that file away") from None
+    except OSError as error:
+        raise _refuse(where, path, f"cannot write it ({_reason(error)})") from None
+    finally:
+        with contextlib.suppress(OSError):
+            os.unlink(staging)
+    return path
 
 
 def abandon_open_folders() -> None:
@@ -149,6 +179,41 @@ def _staging_folders(target: Path) -> list[Path]:
     return []
 
 
+def _ours(entry: Path, known: frozenset[str]) -> bool:
+    """One of bearbound's files (``known``), or a temporary file one left (``.<file>.<random>``)."""
+    if entry.is_symlink() or not entry.is_file():
+        return False
+    name = entry.name
+    return name in known or (name.startswith(".") and any(name.startswith(f".{k}.") for k in known))
+
+
+def check_folder(path: Path, shown_as: Path, where: str, known: Iterable[str], marker: str = "result.json",
+                 loose: Iterable[str] = ()) -> None:
+    """Refuse (CaseError) a folder that is a file, cannot be read, or holds anything but
+    ``known`` files; those other than ``loose`` ones only beside ``marker`` (an earlier run's
+    files, not your own case.toml alone). A folder that does not exist passes."""
+    known, loose = frozenset(known), frozenset(loose)
+    if not path.exists():
+        if path.is_symlink():
+            raise _refuse(where, shown_as, "it is a link to nothing; must be a folder")
+        return
+    if not path.is_dir():
+        raise _refuse(where, shown_as, "it is a file; must be a folder (new, empty, or an earlier run's)")
+    try:
+        entries = list(path.iterdir())
+    except OSError as error:
+        raise _refuse(where, shown_as, f"cannot read it ({_reason(error)})") from None
+    foreign = sorted(e.name for e in entries if not _ours(e, known))
+    unproven = [e.name for e in entries if not _ours(e, loose)]
+    if not foreign and unproven and not (path / marker).is_file():  # e.g. your own case.toml alone
+        foreign = sorted(unproven)
+    if foreign:
+        more = f" and {len(foreign) - 1} more" if len(foreign) > 1 else ""
+        raise _refuse(where, shown_as, f"it holds {shown(foreign[0])}{more}, which is not an earlier "
+                                       "run's; a run replaces the whole folder, so choose a new or "
+                                       "empty folder or an earlier run's")
+
+
 class RunFolder:
     """A run's output folder (see the module docstring). Use as a context manager:
 
@@ -161,11 +226,13 @@ class RunFolder:
     (['clay'], ['result.json'])
     """
 
-    def __init__(self, out_dir: Path, known: Iterable[str], where: str = "--out", marker: str = "result.json") -> None:
+    def __init__(self, out_dir: Path, known: Iterable[str], where: str = "--out", marker: str = "result.json",
+                 loose: Iterable[str] = ()) -> None:
         self.shown_as = Path(out_dir)
         self.where = where
         self.known = frozenset(known)
         self.marker = marker  # the file every finished run leaves: a folder without it is no earlier run's
+        self.loose = frozenset(loose)  # known files that may be there without an earlier run (a preview)
         self.path = _target(self.shown_as, where, replaced=True)  # final place, absolute
         self.staging: Path | None = None
         self._created: list[Path] = []  # folders made for this run, removed again if it writes nothing
@@ -193,33 +260,7 @@ class RunFolder:
         self._cleanup()
 
     def _check_existing(self) -> None:
-        path = self.path
-        if not path.exists():
-            if path.is_symlink():
-                raise _refuse(self.where, self.shown_as, "it is a link to nothing; must be a folder")
-            return
-        if not path.is_dir():
-            raise _refuse(self.where, self.shown_as, "it is a file; must be a folder (new, empty, or an "
-                                                     "earlier run's)")
-        try:
-            entries = list(path.iterdir())
-        except OSError as error:
-            raise _refuse(self.where, self.shown_as, f"cannot read it ({_reason(error)})") from None
-        foreign = sorted(e.name for e in entries if not self._ours(e))
-        if not foreign and entries and not (path / self.marker).is_file():  # e.g. your own case.toml alone
-            foreign = sorted(e.name for e in entries)
-        if foreign:
-            more = f" and {len(foreign) - 1} more" if len(foreign) > 1 else ""
-            raise _refuse(self.where, self.shown_as, f"it holds {shown(foreign[0])}{more}, which is not an earlier "
-                                                     "run's; a run replaces the whole folder, so choose a new or "
-                                                     "empty folder or an earlier run's")
-
-    def _ours(self, entry: Path) -> bool:
-        """An earlier run's file, or a temporary file one left (``.<file>.<random>``)."""
-        if entry.is_symlink() or not entry.is_file():
-            return False
-        name = entry.name
-        return name in self.known or (name.startswith(".") and any(name.startswith(f".{k}.") for k in self.known))
+        check_folder(self.path, self.shown_as, self.where, self.known, self.marker, self.loose)
 
     def _make_parents(self) -> None:
         missing = [p for p in reversed(self.path.parents) if not p.exists()]

@@ -855,11 +855,13 @@ def _top(case: Case, x_lo: float, x_hi: float, site: DrawnSite | None = None) ->
 
 
 def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: BoundFields | None,
-                 mechanism: dict | None = None) -> Figure:
+                 mechanism: dict | None = None, show_mesh: bool = True, title: str = "The model") -> Figure:
     """The model: layers, ground profile, water table, footing and load, mesh (whole model and detail).
 
     ``mechanism`` (result.json's upper-bound "extra") is read for the detail view only when
-    there is no upper-bound velocity field to measure the moving soil from."""
+    there is no upper-bound velocity field to measure the moving soil from. ``show_mesh``
+    False leaves the mesh's lines out (a drawn site still takes its outline from the mesh);
+    ``title`` heads the picture, before the case's title."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
     profile = Profile.of(case, domain)
@@ -869,13 +871,14 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
     tops = (max(Df, site.y_top if site else 0.0) + 0.3 * B, _top(case, x_lo, x_hi, site))
     with rc_context(STYLE):
         kind = "lower" if lower is not None else "upper"
+        drawn_mesh = mesh_fields if show_mesh else None
         mesh_label = (f"mesh of the {kind} bound: {mesh_fields.n_elements} triangles"
-                      + (" on the half x \u2265 0, mirrored" if half else "")) if mesh_fields else "no mesh"
+                      + (" on the half x \u2265 0, mirrored" if half else "")) if drawn_mesh else "no mesh"
         footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
         load = Line2D([], [], color="black", linewidth=1.8, marker=">", markersize=4, label=_load_label(case))
-        handles = (_site_handles(case) if site else _ground_handles(case, profile)) + [footing, load,
-                                                    Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6,
-                                                           label=mesh_label)]
+        handles = (_site_handles(case) if site else _ground_handles(case, profile)) + [footing, load]
+        if drawn_mesh:
+            handles.append(Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6, label=mesh_label))
         whole = _plot_size(profile.x_max - profile.x_min, profile.depth + tops[0])
         detail = _plot_size(x_hi - x_lo, vd + tops[1])
         column = _Column([("title0", TITLE_IN), ("whole", whole[1]), ("xlabel0", XLABEL_IN),
@@ -894,8 +897,8 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
                              marks_within=(lo, hi) if ax is axes[1] else None)
             _draw_footing(ax, B, Df, stem=STEM * B)
             _mark_slope(ax, profile, lo, hi, labels=ax is axes[1])
-            if mesh_fields is not None:
-                _mesh_lines(ax, corner_triangulation(mesh_fields, half), lw)
+            if drawn_mesh is not None:
+                _mesh_lines(ax, corner_triangulation(drawn_mesh, half), lw)
             ax.set_xlim(lo, hi)
             ax.set_ylim(-down, top)
             _axes_labels(ax)
@@ -903,7 +906,7 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
         _draw_load(ax1, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
         ax0.add_patch(Rectangle((x_lo, -vd), x_hi - x_lo, vd + tops[1], fill=False, edgecolor="black",
                                 linestyle=":", linewidth=1.0, zorder=7))
-        ax0.set_title(textwrap.shorten(f"The model: {plain(case.title)}", TITLE_CHARS, placeholder=" ..."),
+        ax0.set_title(textwrap.shorten(f"{title}: {plain(case.title)}", TITLE_CHARS, placeholder=" ..."),
                       loc="left")
         ax1.set_title("Detail near the footing (dotted frame above)", loc="left")
         lax = column.axes("legend", PAGE_WIDTH_IN - 0.2, left_in=0.1)
