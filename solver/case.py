@@ -126,6 +126,7 @@ FOOTING_KEYS = {
     "load_inclination": Key(float, "degrees from vertical", gt=-90, lt=90, default=0.0),
     "eccentricity": Key(float, "m", default=0.0),
     "design_load": Key(float, "kN/m", gt=0, default=None),
+    "shape": Key(str, choices=("strip", "circular"), default="strip"),  # circular: width = diameter
 }
 GROUND_KEYS = {
     "surcharge": Key(float, "kPa", ge=0, default=0.0),
@@ -192,6 +193,22 @@ NOT_WITH_GEOMETRY = (
     ("ground.slope_angle", 0.0, "left out with a [geometry] file: draw the slope instead"),
     ("ground.crest_setback", 0.0, "left out with a [geometry] file: draw the slope instead"),
     ("ground.slope_height", None, "left out with a [geometry] file: draw the slope instead"),
+    ("footing.shape", "strip", "'strip' with a [geometry] file: this version analyses a drawn site "
+                               "as a strip footing only"),
+)
+# Keys a circular (axisymmetric) footing does not take in this version: (key path, value when
+# not given, what is allowed and why). A slope, an inclined or an eccentric load is not axisymmetric.
+NOT_WITH_CIRCLE = (
+    ("footing.load_inclination", 0.0, "0 (degrees) with shape = 'circular': this version analyses a "
+                                      "circular footing under a central vertical load only"),
+    ("footing.eccentricity", 0.0, "0 (m) with shape = 'circular': this version analyses a circular "
+                                  "footing under a central vertical load only"),
+    ("ground.slope_angle", 0.0, "0 (degrees) with shape = 'circular': a slope beside a circle is not "
+                                "axisymmetric"),
+    ("footing.design_load", None, "left out with shape = 'circular': this version gives factors of "
+                                  "safety for strip footings only"),
+    ("analysis.velocity_jumps", "none", "'none' with shape = 'circular': velocity jumps are built for "
+                                        "strip footings only"),
 )
 
 
@@ -361,6 +378,7 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
                            f"< {total:g} (m), the total thickness of the layers, so that the "
                            "footing base sits in soil (or leave out the last layer's thickness)")
     _check_consistency(parts["footing"], parts["ground"], layers)
+    _check_circle(parts)
     return Case(title=name if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
 
@@ -382,6 +400,20 @@ def _read_geometry(raw: Any, base_dir: str | pathlib.Path | None, parts: dict, l
     from .sitefile import read_site  # imports gmsh
 
     return read_site(path, layers, parts["footing"].width, where="geometry.file")
+
+
+def _check_circle(parts: dict) -> None:
+    """Refuse what a circular footing does not take in this version (NOT_WITH_CIRCLE)."""
+    if parts["footing"].shape != "circular":
+        return
+    for key, unset, why in NOT_WITH_CIRCLE:
+        table, field_name = key.split(".")
+        value = getattr(parts[table], field_name)
+        if value != unset:
+            raise _not_allowed(key, value, why)
+    if parts["factors"] is not None:
+        raise CaseError("factors: not allowed with shape = 'circular'; leave [factors] out: this "
+                        "version gives factors of safety for strip footings only")
 
 
 def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ...]) -> None:

@@ -23,14 +23,16 @@ from .model import Case
 # Boundary edge kinds (codes in Mesh.boundary_kind).
 FOOTING, GROUND, SYMMETRY, FAR_SIDE, FAR_BASE = range(5)
 FIXED = 5  # a drawn site's rigid boundary (solver.sitefile): no velocity (upper), any traction (lower)
-BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base", "fixed")
+AXIS = 6  # the axis r = 0 of an axisymmetric (circular) case: no radial velocity, no shear
+BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base", "fixed", "axis")
 
 _GMSH_LOCK = threading.Lock()  # gmsh keeps one global model per process
 
 
 @dataclass(frozen=True)
 class Domain:
-    """Extent of the meshed region, m. ``half``: only x >= 0 is meshed (symmetric case)."""
+    """Extent of the meshed region, m. ``half``: only x >= 0 is meshed (symmetric case).
+    ``axisymmetric``: x is the radius r of a circular footing's case and x = 0 its axis."""
 
     half: bool
     x_min: float
@@ -42,6 +44,7 @@ class Domain:
     crest_x: float | None = None  # m: the ground falls away from (crest_x, 0) ...
     toe_x: float | None = None  # ... to (toe_x, -slope_height), level beyond
     slope_height: float = 0.0  # m
+    axisymmetric: bool = False
 
     @property
     def slope(self) -> bool:
@@ -272,9 +275,12 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
         half = False
     half = is_symmetric(case) if half is None else half
+    axisymmetric = case.footing.shape == "circular"  # the meridian half-plane r >= 0
+    half = half or axisymmetric
     x_min = 0.0 if half else -(B / 2 + 2.0 * width + B)
     return Domain(half=half, x_min=x_min, x_max=x_max, depth=model_depth,
-                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth, **slope)
+                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth,
+                  axisymmetric=axisymmetric, **slope)
 
 
 # Fan of triangles centred on each footing edge (lower bound). A fan of stress
@@ -783,7 +789,7 @@ def _assemble_mesh(points: np.ndarray, triangles: np.ndarray, domain: Domain, ca
     kind[np.abs(midpoint[:, 1] + domain.depth) < tol] = FAR_BASE
     kind[np.abs(midpoint[:, 0] - domain.x_max) < tol] = FAR_SIDE
     if domain.half:
-        kind[np.abs(midpoint[:, 0]) < tol] = SYMMETRY
+        kind[np.abs(midpoint[:, 0]) < tol] = AXIS if domain.axisymmetric else SYMMETRY
     else:
         kind[np.abs(midpoint[:, 0] - domain.x_min) < tol] = FAR_SIDE
     if domain.slope:

@@ -1,0 +1,377 @@
+"""Lower bound of a circular footing (axisymmetric): a Mesh of 3-node triangles in the
+meridian half-plane -> one sparse conic program.
+
+Coordinates: r = x >= 0 (the mesh's x, the axis at r = 0), z = y upward. Stresses,
+tension positive: sigma_r, sigma_z, tau_rz and the hoop stress sigma_theta, which
+is a principal stress. The parts follow the published formulations (triangles with
+a stress discontinuity on every edge, Sloan 1988; the hoop stress as a fourth
+stress, Khatri & Kumar 2009 and Tang, Toh & Phoon 2014; Mohr-Coulomb as
+second-order cones, Makrodimopoulos & Martin 2006); the stress field, its exact
+equilibrium and the far field are worked out here.
+
+* Why not linear stresses: with sigma_r, sigma_z, tau linear in (r, z), pointwise
+  equilibrium (both equations times r) forces tau = A r and d tau/dz = 0 in every
+  triangle, which leaves 6 free values per triangle against about 6 traction
+  continuity rows per triangle: the field is fixed by its boundary values and the
+  footing carries only the surcharge (measured). So the field is written through
+  the weighted stresses S = r sigma, which are linear in each triangle (plus a
+  particular part for self-weight):
+      S_r = r sigma_r, T = r tau, S_z = r sigma_z = L_z + gamma r z  (S_r, T, L_z linear),
+      sigma_theta = dS_r/dr + dT/dz   (constant in the triangle),
+      dT/dr + dL_z/dz = 0             (one row per triangle).
+  Then, exactly and everywhere in the triangle (r > 0),
+      d sigma_r/dr + d tau/dz + (sigma_r - sigma_theta)/r = (dS_r/dr + dT/dz - sigma_theta)/r = 0,
+      d tau/dr + d sigma_z/dz + tau/r - gamma = (dT/dr + dS_z/dz - gamma r)/r = 0.
+  The variables are the nodal values of S / r_c (kPa; r_c the centroid's radius).
+  The certificate recomputes both equations from sigma = S/r at interior points of
+  every triangle.
+* Yield. The yield set {(sigma, c)} is a convex cone, so sigma(x) obeys
+  Mohr-Coulomb with c(x) exactly when (S, r sigma_theta) obeys it with r c (r > 0).
+  (S, r sigma_theta, r c) is a quadratic polynomial in the triangle; written in the
+  Bernstein basis (nonnegative, summing to one) its value at every point is a
+  convex combination of its six Bernstein coefficients, so yield at those six
+  control points (vertices and edge midpoints, with the coefficients of r sigma_theta
+  and of r c computed exactly) gives yield everywhere. Where gamma = 0 and c is
+  uniform in the triangle the polynomial is linear and the three vertices suffice.
+* Mohr-Coulomb over all three principal pairs (:func:`mohr_coulomb_rows`). With
+  p = (sigma_r + sigma_z)/2, R = ||((sigma_r - sigma_z)/2, tau)||, s = sin(phi),
+  k = c cos(phi), the in-plane principal stresses are p +- R and
+      sigma_max (1 + s) - sigma_min (1 - s) <= 2k   over all pairs
+  is exactly three second-order cones on the same deviator:
+      2R         <= 2k - 2p s                                   (in-plane pair)
+      (1 - s) 2R <= 4k - 2(1 + s) sigma_theta + (1 - s) 2p      (hoop largest)
+      (1 + s) 2R <= 4k - (1 + s) 2p + 2(1 - s) sigma_theta      (hoop smallest)
+  (the other pairs are implied: the condition grows with sigma_max and falls
+  with sigma_min).
+* The axis. At r = 0 the strength r c of the weighted field is 0 and r sigma_theta
+  is 0, where Mohr-Coulomb admits only S = 0: so S = 0 at every node on the axis
+  (rows, not cones: that cone has no interior). The field sigma = S/r then stays
+  bounded, and the cylinder r = eps round the axis carries a force of order eps:
+  nothing more is needed there.
+* Traction continuity across every edge at both ends (S . n is linear along an
+  edge; the self-weight part gamma r z is the same on both sides within a stratum,
+  and strata meet on level edges where it is linear), ground tractions equal the
+  surcharge, a smooth footing carries no shear, the contact carries no tension.
+* Beyond the mesh (r > R_far or z < -D), a field admissible to infinity
+  (:func:`_far_field`): beside the mesh, r-independent columns (sigma_z
+  geostatic, tau = 0, sigma_theta = sigma_r = the mesh's on the far side, linear
+  in z); under the mesh, a semi-infinite column below each base edge (tau = 0,
+  r sigma_r linear in r and continuous from column to column, sigma_theta =
+  d(r sigma_r)/dr, sigma_z the mesh's on the base edge, all growing with depth at
+  the rates (g, -gamma, 0, g), g one variable); below the far side, a corner
+  region with sigma_r = sigma_theta. Every piece meets both equilibrium equations
+  exactly, tractions are continuous across every ray, and yield holds at the
+  finite points and along the rate (the recession condition), so everywhere. A
+  truncated domain with prescribed far tractions would not do: global equilibrium
+  would force the footing load to zero.
+
+The objective is minus the footing load Q = -2 pi integral(sigma_z r dr) over the
+footing (kN). Rows are written over "stress slots" (the scaled stress state at
+each control point, and at each far-field point) and mapped to the variables by
+one sparse product.
+"""
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+
+from .conic import ConicProgram, assemble, drop_empty_equalities, drop_repeated_equalities
+from .ground import material_arrays, node_cohesion, surcharge_on_edges
+from .lower import _Rows, _straight_boundary_ends, traction_coefficients
+from .mesh import FAR_BASE, FAR_SIDE, FOOTING, GROUND, Mesh
+from .model import Case
+
+SR, SZ, TRZ, ST = 0, 1, 2, 3  # sigma_r, sigma_z, tau_rz, sigma_theta
+# Control points of a triangle: its corners, then the midpoints of edges 0-1, 1-2, 2-0,
+# as barycentric weights; a linear function's Bernstein coefficient is its value there.
+CONTROL = np.array([[1, 0, 0], [0, 1, 0], [0, 0, 1], [.5, .5, 0], [0, .5, .5], [.5, 0, .5]])
+EDGE_PAIRS = ((0, 1), (1, 2), (2, 0))
+
+
+def snapped_normals(mesh: Mesh, element: np.ndarray, local: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Outward unit normals and lengths (m) of edges, with a component below 1e-12 set to 0:
+    an edge vertical or level to round-off (a fan ray at -90 degrees) is treated as
+    exactly so, so that rows which are then multiples of one another are recognised."""
+    normal, length = mesh.edge_normals(element, local)
+    normal = np.where(np.abs(normal) < 1e-12, 0.0, normal)
+    return normal / np.hypot(normal[:, 0], normal[:, 1])[:, None], length
+
+
+def product_coefficients(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """(..., 6) Bernstein coefficients (at CONTROL) of the product of two linear functions
+    given by their corner values (..., 3): a_i b_i at corner i, (a_i b_j + a_j b_i)/2 on edge ij.
+
+    >>> product_coefficients(np.array([0.0, 1.0, 2.0]), np.array([1.0, 1.0, 1.0])).tolist()
+    [0.0, 1.0, 2.0, 0.5, 1.5, 1.0]
+    """
+    edges = [(a[..., i] * b[..., j] + a[..., j] * b[..., i]) / 2 for i, j in EDGE_PAIRS]
+    return np.concatenate([a * b, np.stack(edges, axis=-1)], axis=-1)
+
+
+def control_state_map(case: Case, mesh: Mesh) -> dict:
+    """The stress state at every control point of every triangle, scaled by 1/r_c.
+
+    ``coeff`` (n_el, 6, 4, 9) and ``const`` (n_el, 6, 4, kPa): the Bernstein coefficients
+    of (S_r, S_z, T, r sigma_theta) / r_c over the triangle's variables, (S_r, L_z, T)/r_c
+    at its three corners (variable 3 i + stress); ``strength`` (n_el, 6): those of r c / r_c
+    (kPa); ``radius`` (n_el, 6): r at the control points (m); ``linear`` (n_el,): True where
+    the state is linear (gamma = 0 and uniform c), so that its corners suffice; ``rc``
+    (n_el,): the centroids' radii (m)."""
+    mat = material_arrays(case)
+    p = mesh.corner_coordinates()
+    r, z = p[..., 0], p[..., 1]
+    rc = r.mean(axis=1)
+    grad = mesh.shape_gradients()  # (n_el, 3, 2)
+    n_el = mesh.n_elements
+    coeff = np.zeros((n_el, 6, 4, 9))
+    for stress in (SR, SZ, TRZ):
+        coeff[:, :, stress, stress::3] = CONTROL[None]  # a linear function's value at the point
+    # sigma_theta = dS_r/dr + dT/dz is constant in the triangle: r sigma_theta / r_c at each point
+    radius = r @ CONTROL.T
+    coeff[:, :, ST, SR::3] = radius[:, :, None] * grad[:, None, :, 0]
+    coeff[:, :, ST, TRZ::3] = radius[:, :, None] * grad[:, None, :, 1]
+    gamma = mat["gamma"][mesh.layer]
+    const = np.zeros((n_el, 6, 4))
+    const[:, :, SZ] = gamma[:, None] * product_coefficients(r, z) / rc[:, None]
+    c = node_cohesion(mat, mesh.layer[:, None], -z)
+    strength = product_coefficients(r, c) / rc[:, None]
+    linear = (gamma == 0.0) & (mat["c_gradient"][mesh.layer] == 0.0)
+    return {"coeff": coeff, "const": const, "strength": strength, "radius": radius, "linear": linear,
+            "rc": rc}
+
+
+def mohr_coulomb_rows(cone: _Rows, slots: np.ndarray, c, phi, eq: _Rows) -> None:
+    """The three Mohr-Coulomb cones (module docstring) on stress slots (n, 4), s = b - A x;
+    where c = 0 and phi = 0 the cones have no interior and their equalities
+    sigma_r = sigma_z, tau = 0, sigma_theta = sigma_r are written instead."""
+    n = len(slots)
+    c = np.broadcast_to(np.asarray(c, float), (n,))
+    phi = np.broadcast_to(np.asarray(phi, float), (n,))
+    apex = (c == 0.0) & (phi == 0.0)
+    for stresses, coefficients in (((SR, SZ), (1.0, -1.0)), ((TRZ,), (1.0,)), ((ST, SR), (1.0, -1.0))):
+        r = eq.block(int(apex.sum()))
+        eq.add(r[:, None], slots[apex][:, list(stresses)], np.array(coefficients))
+    s, k = np.sin(phi[~apex]), (c * np.cos(phi))[~apex]
+    live = slots[~apex]
+    m = len(live)
+    # (factor of k, weight on the deviator, coefficient of sigma_r + sigma_z and of sigma_theta in s0)
+    for k_factor, weight, sum_part, hoop in ((2.0, 1.0, -s, None),
+                                             (4.0, 1.0 - s, 1.0 - s, -2.0 * (1.0 + s)),
+                                             (4.0, 1.0 + s, -(1.0 + s), 2.0 * (1.0 - s))):
+        r = cone.count + 3 * np.arange(m)
+        cone.count += 3 * m
+        rhs = np.zeros((m, 3))
+        rhs[:, 0] = k_factor * k
+        cone.rhs.append(rhs.ravel())
+        cone.add(r, live[:, SR], -sum_part)
+        cone.add(r, live[:, SZ], -sum_part)
+        if hoop is not None:
+            cone.add(r, live[:, ST], -hoop)
+        cone.add(r + 1, live[:, SR], -weight)
+        cone.add(r + 1, live[:, SZ], weight)
+        cone.add(r + 2, live[:, TRZ], -2.0 * weight)
+
+
+def geostatic_sigma_z(case: Case, depth) -> np.ndarray:
+    """kPa, tension positive: the vertical stress of level ground at depths (m below the base)."""
+    mat = material_arrays(case)
+    bottom = np.minimum(mat["bottom"], 1e300)
+    inside = np.clip(np.asarray(depth, float)[..., None] - mat["top"], 0.0, bottom - mat["top"])
+    return -case.overburden_kPa() - np.sum(mat["gamma"] * inside, axis=-1)
+
+
+def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
+    """Assemble the axisymmetric lower-bound program (vectorised; one COO assembly)."""
+    if mesh.order != 1 or not mesh.domain.axisymmetric:
+        raise ValueError("the axisymmetric lower bound needs a first-order mesh of the meridian half-plane")
+    n_el = mesh.n_elements
+    mat = material_arrays(case)
+    smooth = case.footing.base == "smooth"
+    state = control_state_map(case, mesh)
+    rc = state["rc"]
+    slot = np.arange(24 * n_el).reshape(n_el, 6, 4)  # stress slot of (element, control point, stress)
+    far = _far_field(case, mesh, state, slot)
+    S, s0, n_var = far["S"], far["s0"], far["n_var"]
+    eq, cone, nonneg = _Rows(), _Rows(), _Rows()
+    r_node = mesh.points[mesh.triangles, 0]  # (n_el, 3)
+
+    # 1. Equilibrium, dT/dr + dL_z/dz = 0, in every triangle (rows over the variables,
+    #    times the triangle's size L = sqrt(2 area), over r_c).
+    grad = mesh.shape_gradients() * np.sqrt(2.0 * mesh.areas())[:, None, None]
+    var = 9 * np.arange(n_el)[:, None] + 3 * np.arange(3)[None, :]
+    r = np.broadcast_to(eq.block(n_el)[:, None], var.shape)
+    direct = [(r, var + TRZ, grad[:, :, 0]), (r, var + SZ, grad[:, :, 1])]
+
+    # 2. S = 0 at every node on the axis.
+    axis_slots = slot[:, :3, :3][r_node == 0.0]  # (n, 3): S_r, S_z, T
+    r = eq.block(axis_slots.size)
+    eq.add(r, axis_slots.ravel(), 1.0)
+
+    # 3. Traction continuity across every interior edge, at both ends (rows in S / r there;
+    #    on the axis both sides are 0 already).
+    e1, k1, e2, k2 = mesh.interior_edges()
+    normal, _ = snapped_normals(mesh, e1, k1)
+    if np.any((mat["gamma"][mesh.layer[e1]] != mat["gamma"][mesh.layer[e2]]) & (normal[:, 0] != 0.0)):
+        raise RuntimeError("axisymmetric lower bound: strata of different weight meet on an edge that is not level")
+    redundant = _straight_boundary_ends(mesh, e1, k1)
+    dropped = []
+    for end, (a, b) in enumerate([(k1, (k2 + 1) % 3), ((k1 + 1) % 3, k2)]):
+        radius = r_node[e1, a]
+        live = radius > 0.0
+        ratio1 = np.where(live, rc[e1] / np.where(live, radius, 1.0), 0.0)[:, None]
+        ratio2 = np.where(live, rc[e2] / np.where(live, radius, 1.0), 0.0)[:, None]
+        for which, coefficient in enumerate(traction_coefficients(normal)):
+            r = eq.block(len(e1))
+            eq.add(r[:, None], slot[e1, a, :3], coefficient * ratio1)
+            eq.add(r[:, None], slot[e2, b, :3], -coefficient * ratio2)
+            dropped.append(r[redundant[end] == which])
+
+    # 4. Boundary tractions: ground (S_z = -q r, T = 0), smooth footing and far boundary (T = 0:
+    #    the far field carries no shear); all these edges are level or vertical.
+    be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
+    ground = kind == GROUND
+    q_edge = surcharge_on_edges(case, mesh, ground)
+    shear_free = ground | ((kind == FOOTING) & smooth) | np.isin(kind, (FAR_SIDE, FAR_BASE))
+    for end in (bk, (bk + 1) % 3):
+        r = eq.block(int(ground.sum()), -q_edge)
+        eq.add(r, slot[be[ground], end[ground], SZ], rc[be[ground]] / r_node[be[ground], end[ground]])
+        r = eq.block(int(shear_free.sum()))
+        eq.add(r, slot[be[shear_free], end[shear_free], TRZ], 1.0)
+
+    # 5. Yield at every control point off the axis and at every point of the far field.
+    points = state["radius"] > 0.0
+    points[state["linear"], 3:] = False
+    phi = np.broadcast_to(mat["phi"][mesh.layer][:, None], (n_el, 6))
+    yield_slots = np.concatenate([slot[points], far["yield_slots"]])
+    yield_c = np.concatenate([state["strength"][points], far["yield_c"]])
+    yield_phi = np.concatenate([phi[points], far["yield_phi"]])
+    mohr_coulomb_rows(cone, yield_slots, yield_c, yield_phi, eq)
+
+    # 6. No tension under the footing: -S_z >= 0 at every contact node.
+    foot = kind == FOOTING
+    fe, fk = be[foot], bk[foot]
+    ends = np.column_stack([fk, (fk + 1) % 3])
+    contact = np.unique(slot[fe[:, None], ends, SZ])
+    nonneg.add(nonneg.block(len(contact)), contact, 1.0)
+
+    # 7. Map slots to variables, merge repeated rows, drop empty ones.
+    n_zero, n_nonneg = eq.count, nonneg.count
+    n_rows = n_zero + n_nonneg + cone.count
+    rows = eq.rows + [r + n_zero for r in nonneg.rows] + [r + n_zero + n_nonneg for r in cone.rows]
+    A_slots = assemble(rows, eq.cols + nonneg.cols + cone.cols, eq.vals + nonneg.vals + cone.vals,
+                       n_rows, S.shape[0])
+    A_direct = assemble(*[[part[i] for part in direct] for i in range(3)], n_rows, n_var)
+    b = np.concatenate(eq.rhs + nonneg.rhs + cone.rhs) - A_slots @ s0
+    A = (A_slots @ S + A_direct).tocsr()
+    keep = np.ones(n_rows, dtype=bool)
+    keep[np.concatenate(dropped)] = False
+    A, b, n_zero = A[keep].tocsc(), b[keep], n_zero - int((~keep[:n_zero]).sum())
+    A, b, n_zero = drop_repeated_equalities(A, b, n_zero)
+    A, b, n_zero = drop_empty_equalities(A, b, n_zero, scale=max(case.overburden_kPa(), 1.0))
+
+    # minimise -Q = 2 pi integral(S_z dr) over the footing (z = 0, S_z = r_c x its slot)
+    ra, rb = mesh.points[mesh.triangles[fe[:, None], ends], 0].T
+    objective_slots = np.zeros(S.shape[0])
+    np.add.at(objective_slots, slot[fe[:, None], ends, SZ].ravel(),
+              np.repeat(np.pi * rc[fe] * np.abs(rb - ra), 2))
+    return ConicProgram(c=np.asarray(S.T @ objective_slots).ravel(), A=A, b=b, n_zero=n_zero,
+                        n_nonneg=n_nonneg, n_soc=cone.count // 3,
+                        objective_constant=float(objective_slots @ s0), kind="lower",
+                        layout={"S": S, "s0": s0, "slot": slot, "yield_slots": yield_slots,
+                                "yield_c": yield_c, "yield_phi": yield_phi})
+
+
+def _far_field(case: Case, mesh: Mesh, state: dict, slot: np.ndarray) -> dict:
+    """The slot map S (slots -> variables) with offsets s0, the far field included.
+
+    Variables: (S_r, L_z, T)/r_c at the three corners of every triangle; sigma_r at
+    every far-base node off the axis (kPa, shared by the columns on either side; on
+    the axis r sigma_r = 0); g, the rate of sigma_r and sigma_theta with depth below
+    the base (kPa/m). Far-field slots, each a point where yield is checked (stresses,
+    unscaled): both ends of every far-side edge (sigma_r = sigma_theta = the mesh's,
+    sigma_z geostatic, tau = 0), both ends off the axis of every base edge
+    (sigma_theta = d(r sigma_r)/dr on that edge, sigma_z the mesh's), the far corner,
+    and the rate (g, -gamma, 0, g), whose strength is c's rate with depth.
+    """
+    n_el = mesh.n_elements
+    mat = material_arrays(case)
+    rc = state["rc"]
+    be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
+    element_var = 9 * np.arange(n_el)[:, None] + np.arange(9)
+    rows = [np.broadcast_to(slot[..., None], state["coeff"].shape)]
+    cols = [np.broadcast_to(element_var[:, None, None, :], state["coeff"].shape)]
+    vals = [state["coeff"]]
+    offsets = [(slot, state["const"])]
+    n_slots = 24 * n_el
+
+    base = np.flatnonzero(kind == FAR_BASE)
+    base_nodes = np.unique(mesh.boundary_edges[base])
+    base_nodes = base_nodes[mesh.points[base_nodes, 0] > 0.0]
+    n_var = 9 * n_el
+    sigma_r = np.full(len(mesh.points), -1)  # its variable at far-base nodes; -1 none
+    sigma_r[base_nodes] = n_var + np.arange(len(base_nodes))
+    n_var += len(base_nodes)
+    rate = n_var  # g, kPa/m
+    n_var += 1
+    last = len(mat["phi"]) - 1
+    D = mesh.domain.depth
+
+    def new_slots(n: int) -> np.ndarray:
+        nonlocal n_slots
+        out = n_slots + np.arange(4 * n).reshape(n, 4)
+        n_slots += 4 * n
+        return out
+
+    def add(target, column, value) -> None:
+        target, column, value = np.broadcast_arrays(target, column, np.asarray(value, float))
+        use = column >= 0
+        rows.append(target[use]), cols.append(column[use]), vals.append(value[use])
+
+    yield_slots, yield_c, yield_phi = [], [], []
+    # beside the mesh: r-independent columns on each far-side edge, both ends
+    side = np.flatnonzero(kind == FAR_SIDE)
+    e = be[side]
+    for end in (bk[side], (bk[side] + 1) % 3):
+        s = new_slots(len(side))
+        node = mesh.triangles[e, end]
+        depth = -mesh.points[node, 1]
+        for stress in (SR, ST):  # sigma_r = S_r / R there
+            add(s[:, stress], element_var[e, 3 * end + SR], rc[e] / mesh.points[node, 0])
+        offsets.append((s[:, SZ], geostatic_sigma_z(case, depth)))
+        yield_slots.append(s), yield_c.append(node_cohesion(mat, mesh.layer[e], depth))
+        yield_phi.append(mat["phi"][mesh.layer[e]])
+    # under the mesh: a column below each base edge, both ends off the axis
+    e, k = be[base], bk[base]
+    P, Q = mesh.triangles[e, k], mesh.triangles[e, (k + 1) % 3]
+    rP, rQ = mesh.points[P, 0], mesh.points[Q, 0]
+    for end, node, r_end in ((k, P, rP), ((k + 1) % 3, Q, rQ)):
+        live = r_end > 0.0
+        s = new_slots(int(live.sum()))
+        el, en, ne, re = e[live], end[live], node[live], r_end[live]
+        add(s[:, SR], sigma_r[ne], 1.0)
+        # sigma_theta = d(r sigma_r)/dr, constant along the edge
+        add(s[:, ST], sigma_r[Q[live]], (rQ / (rQ - rP))[live])
+        add(s[:, ST], sigma_r[P[live]], (-rP / (rQ - rP))[live])
+        # sigma_z = S_z / r of the triangle above, at the node
+        add(s[:, SZ], element_var[el, 3 * en + SZ], rc[el] / re)
+        offsets.append((s[:, SZ], state["const"][el, en, SZ] * rc[el] / re))
+        yield_slots.append(s), yield_c.append(np.full(len(s), node_cohesion(mat, last, D)))
+        yield_phi.append(np.full(len(s), mat["phi"][last]))
+    # the far corner (r >= R_far, z <= -D) and the rate with depth below the base
+    corner_node = base_nodes[np.argmax(mesh.points[base_nodes, 0])]
+    s = new_slots(2)
+    add(s[0, [SR, ST]], sigma_r[corner_node], 1.0)
+    add(s[1, [SR, ST]], rate, 1.0)
+    offsets.append((s[0, SZ], geostatic_sigma_z(case, D)))
+    offsets.append((s[1, SZ], -mat["gamma"][last]))
+    yield_slots.append(s)
+    yield_c.append(np.array([node_cohesion(mat, last, D), mat["c_gradient"][last]]))
+    yield_phi.append(np.full(2, mat["phi"][last]))
+
+    s0 = np.zeros(n_slots)
+    for target, value in offsets:
+        s0[np.ravel(target)] = np.ravel(value)
+    flat = lambda parts: np.concatenate([np.ravel(p) for p in parts])  # noqa: E731
+    S = sp.coo_matrix((flat(vals), (flat(rows), flat(cols))), shape=(n_slots, n_var)).tocsr()
+    return {"S": S, "s0": s0, "n_var": n_var, "yield_slots": np.concatenate(yield_slots),
+            "yield_c": np.concatenate(yield_c), "yield_phi": np.concatenate(yield_phi)}
