@@ -108,36 +108,45 @@ def product_coefficients(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     return np.concatenate([a * b, np.stack(edges, axis=-1)], axis=-1)
 
 
+def bernstein_index() -> np.ndarray:
+    """(3, 3): the control point of e_i + e_k (corner i when i = k, else the edge's midpoint)."""
+    index = np.diag(np.arange(3))
+    for k, (i, j) in enumerate(EDGE_PAIRS):
+        index[i, j] = index[j, i] = 3 + k
+    return index
+
+
+ALPHA = bernstein_index()
+
+
 def control_state_map(case: Case, mesh: Mesh) -> dict:
     """The stress state at every control point of every triangle, scaled by 1/r_c.
 
-    ``coeff`` (n_el, 6, 4, 9) and ``const`` (n_el, 6, 4, kPa): the Bernstein coefficients
-    of (S_r, S_z, T, r sigma_theta) / r_c over the triangle's variables, (S_r, L_z, T)/r_c
-    at its three corners (variable 3 i + stress); ``strength`` (n_el, 6): those of r c / r_c
-    (kPa); ``radius`` (n_el, 6): r at the control points (m); ``linear`` (n_el,): True where
-    the state is linear (gamma = 0 and uniform c), so that its corners suffice; ``rc``
-    (n_el,): the centroids' radii (m)."""
+    The variables of a triangle are the Bernstein coefficients of (S_r, S_z, T) / r_c,
+    variable 3 a + stress at control point a. ``coeff`` (n_el, 6, 4, 18): the
+    Bernstein coefficients of (S_r, S_z, T, r sigma_theta) / r_c over them, with
+    sigma_theta = dS_r/dr + dT/dz linear (its corner values from the gradient of a
+    quadratic at a corner, 2 sum_k b_(i+k) grad l_k); ``strength`` (n_el, 6): those of
+    r c / r_c (kPa); ``radius`` (n_el, 6): r at the control points (m); ``rc`` (n_el,): the
+    centroids' radii (m); ``hoop`` (n_el, 3, 18): sigma_theta / r_c at the corners."""
     mat = material_arrays(case)
     p = mesh.corner_coordinates()
     r, z = p[..., 0], p[..., 1]
     rc = r.mean(axis=1)
     grad = mesh.shape_gradients()  # (n_el, 3, 2)
     n_el = mesh.n_elements
-    coeff = np.zeros((n_el, 6, 4, 9))
+    coeff = np.zeros((n_el, 6, 4, 18))
     for stress in (SR, SZ, TRZ):
-        coeff[:, :, stress, stress::3] = CONTROL[None]  # a linear function's value at the point
-    # sigma_theta = dS_r/dr + dT/dz is constant in the triangle: r sigma_theta / r_c at each point
-    radius = r @ CONTROL.T
-    coeff[:, :, ST, SR::3] = radius[:, :, None] * grad[:, None, :, 0]
-    coeff[:, :, ST, TRZ::3] = radius[:, :, None] * grad[:, None, :, 1]
-    gamma = mat["gamma"][mesh.layer]
-    const = np.zeros((n_el, 6, 4))
-    const[:, :, SZ] = gamma[:, None] * product_coefficients(r, z) / rc[:, None]
+        coeff[:, np.arange(6), stress, 3 * np.arange(6) + stress] = 1.0
+    hoop = np.zeros((n_el, 3, 18))
+    for i in range(3):
+        for k in range(3):
+            hoop[:, i, 3 * ALPHA[i, k] + SR] += 2.0 * grad[:, k, 0]
+            hoop[:, i, 3 * ALPHA[i, k] + TRZ] += 2.0 * grad[:, k, 1]
+    coeff[:, :, ST, :] = np.swapaxes(product_coefficients(r[:, None, :], np.swapaxes(hoop, 1, 2)), 1, 2)
     c = node_cohesion(mat, mesh.layer[:, None], -z)
-    strength = product_coefficients(r, c) / rc[:, None]
-    linear = (gamma == 0.0) & (mat["c_gradient"][mesh.layer] == 0.0)
-    return {"coeff": coeff, "const": const, "strength": strength, "radius": radius, "linear": linear,
-            "rc": rc}
+    return {"coeff": coeff, "strength": product_coefficients(r, c) / rc[:, None], "radius": r @ CONTROL.T,
+            "rc": rc, "hoop": hoop}
 
 
 def mohr_coulomb_rows(cone: _Rows, slots: np.ndarray, c, phi, eq: _Rows) -> None:
@@ -188,70 +197,69 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     mat = material_arrays(case)
     smooth = case.footing.base == "smooth"
     state = control_state_map(case, mesh)
-    rc = state["rc"]
+    rc, radius = state["rc"], state["radius"]
     slot = np.arange(24 * n_el).reshape(n_el, 6, 4)  # stress slot of (element, control point, stress)
     far = _far_field(case, mesh, state, slot)
     S, s0, n_var = far["S"], far["s0"], far["n_var"]
     eq, cone, nonneg = _Rows(), _Rows(), _Rows()
-    r_node = mesh.points[mesh.triangles, 0]  # (n_el, 3)
 
-    # 1. Equilibrium, dT/dr + dL_z/dz = 0, in every triangle (rows over the variables,
-    #    times the triangle's size L = sqrt(2 area), over r_c).
-    grad = mesh.shape_gradients() * np.sqrt(2.0 * mesh.areas())[:, None, None]
-    var = 9 * np.arange(n_el)[:, None] + 3 * np.arange(3)[None, :]
-    r = np.broadcast_to(eq.block(n_el)[:, None], var.shape)
-    direct = [(r, var + TRZ, grad[:, :, 0]), (r, var + SZ, grad[:, :, 1])]
+    # 1. Equilibrium: dT/dr + dS_z/dz = gamma r at the three corners (a linear identity),
+    #    rows over the variables, times the triangle's size L = sqrt(2 area), over r_c.
+    L = np.sqrt(2.0 * mesh.areas())
+    gamma = mat["gamma"][mesh.layer]
+    grad = mesh.shape_gradients()
+    direct = []
+    for i in range(3):
+        r = eq.block(n_el, gamma * radius[:, i] * L / rc)
+        for k in range(3):
+            first = 18 * np.arange(n_el) + 3 * ALPHA[i, k]
+            direct += [(r, first + TRZ, 2.0 * L * grad[:, k, 0]), (r, first + SZ, 2.0 * L * grad[:, k, 1])]
 
-    # 2. S = 0 at every node on the axis.
-    axis_slots = slot[:, :3, :3][r_node == 0.0]  # (n, 3): S_r, S_z, T
-    r = eq.block(axis_slots.size)
-    eq.add(r, axis_slots.ravel(), 1.0)
+    # 2. S = 0 at every control point on the axis.
+    axis_slots = slot[:, :, :3][radius == 0.0]  # (n, 3): S_r, S_z, T
+    eq.add(eq.block(axis_slots.size), axis_slots.ravel(), 1.0)
 
-    # 3. Traction continuity across every interior edge, at both ends (rows in S / r there;
-    #    on the axis both sides are 0 already).
+    # 3. Traction continuity across every interior edge: its three Bernstein coefficients
+    #    (rows in S / r at the control points; on the axis both sides are 0 already).
     e1, k1, e2, k2 = mesh.interior_edges()
     normal, _ = snapped_normals(mesh, e1, k1)
-    if np.any((mat["gamma"][mesh.layer[e1]] != mat["gamma"][mesh.layer[e2]]) & (normal[:, 0] != 0.0)):
-        raise RuntimeError("axisymmetric lower bound: strata of different weight meet on an edge that is not level")
-    redundant = _straight_boundary_ends(mesh, e1, k1)
+    redundant = _straight_boundary_ends(mesh, e1, k1) + [np.full(len(e1), -1)]
     dropped = []
-    for end, (a, b) in enumerate([(k1, (k2 + 1) % 3), ((k1 + 1) % 3, k2)]):
-        radius = r_node[e1, a]
-        live = radius > 0.0
-        ratio1 = np.where(live, rc[e1] / np.where(live, radius, 1.0), 0.0)[:, None]
-        ratio2 = np.where(live, rc[e2] / np.where(live, radius, 1.0), 0.0)[:, None]
+    for end, (a, b) in enumerate([(k1, (k2 + 1) % 3), ((k1 + 1) % 3, k2), (3 + k1, 3 + k2)]):
+        at = radius[e1, a]
+        inverse = np.where(at > 0.0, 1.0 / np.where(at > 0.0, at, 1.0), 0.0)[:, None]
         for which, coefficient in enumerate(traction_coefficients(normal)):
             r = eq.block(len(e1))
-            eq.add(r[:, None], slot[e1, a, :3], coefficient * ratio1)
-            eq.add(r[:, None], slot[e2, b, :3], -coefficient * ratio2)
+            eq.add(r[:, None], slot[e1, a, :3], coefficient * rc[e1, None] * inverse)
+            eq.add(r[:, None], slot[e2, b, :3], -coefficient * rc[e2, None] * inverse)
             dropped.append(r[redundant[end] == which])
 
-    # 4. Boundary tractions: ground (S_z = -q r, T = 0), smooth footing and far boundary (T = 0:
-    #    the far field carries no shear); all these edges are level or vertical.
+    # 4. Boundary tractions, at the edges' three control points: ground (S_z = -q r,
+    #    T = 0), smooth footing and the far boundary (T = 0: the far field carries no
+    #    shear); all these edges are level or vertical.
     be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
     ground = kind == GROUND
     q_edge = surcharge_on_edges(case, mesh, ground)
     shear_free = ground | ((kind == FOOTING) & smooth) | np.isin(kind, (FAR_SIDE, FAR_BASE))
-    for end in (bk, (bk + 1) % 3):
-        r = eq.block(int(ground.sum()), -q_edge)
-        eq.add(r, slot[be[ground], end[ground], SZ], rc[be[ground]] / r_node[be[ground], end[ground]])
-        r = eq.block(int(shear_free.sum()))
-        eq.add(r, slot[be[shear_free], end[shear_free], TRZ], 1.0)
+    ge = be[ground]
+    for point in (bk, (bk + 1) % 3, 3 + bk):
+        gp = point[ground]
+        eq.add(eq.block(len(ge), -q_edge), slot[ge, gp, SZ], rc[ge] / radius[ge, gp])
+        eq.add(eq.block(int(shear_free.sum())), slot[be[shear_free], point[shear_free], TRZ], 1.0)
 
     # 5. Yield at every control point off the axis and at every point of the far field.
-    points = state["radius"] > 0.0
-    points[state["linear"], 3:] = False
+    points = radius > 0.0
     phi = np.broadcast_to(mat["phi"][mesh.layer][:, None], (n_el, 6))
     yield_slots = np.concatenate([slot[points], far["yield_slots"]])
     yield_c = np.concatenate([state["strength"][points], far["yield_c"]])
     yield_phi = np.concatenate([phi[points], far["yield_phi"]])
     mohr_coulomb_rows(cone, yield_slots, yield_c, yield_phi, eq)
 
-    # 6. No tension under the footing: -S_z >= 0 at every contact node.
+    # 6. No tension under the footing: -S_z >= 0 at the footing edges' control points.
     foot = kind == FOOTING
     fe, fk = be[foot], bk[foot]
-    ends = np.column_stack([fk, (fk + 1) % 3])
-    contact = np.unique(slot[fe[:, None], ends, SZ])
+    on_foot = np.column_stack([fk, (fk + 1) % 3, 3 + fk])
+    contact = np.unique(slot[fe[:, None], on_foot, SZ])
     nonneg.add(nonneg.block(len(contact)), contact, 1.0)
 
     # 7. Map slots to variables, merge repeated rows, drop empty ones.
@@ -269,11 +277,12 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     A, b, n_zero = drop_repeated_equalities(A, b, n_zero)
     A, b, n_zero = drop_empty_equalities(A, b, n_zero, scale=max(case.overburden_kPa(), 1.0))
 
-    # minimise -Q = 2 pi integral(S_z dr) over the footing (z = 0, S_z = r_c x its slot)
-    ra, rb = mesh.points[mesh.triangles[fe[:, None], ends], 0].T
+    # minimise -Q = 2 pi integral(S_z dr) over the footing: a quadratic's integral is the
+    # mean of its Bernstein coefficients times the length
+    ra, rb = mesh.points[mesh.triangles[fe[:, None], on_foot[:, :2]], 0].T
     objective_slots = np.zeros(S.shape[0])
-    np.add.at(objective_slots, slot[fe[:, None], ends, SZ].ravel(),
-              np.repeat(np.pi * rc[fe] * np.abs(rb - ra), 2))
+    np.add.at(objective_slots, slot[fe[:, None], on_foot, SZ].ravel(),
+              np.repeat(2.0 * np.pi * rc[fe] * np.abs(rb - ra) / 3.0, 3))
     return ConicProgram(c=np.asarray(S.T @ objective_slots).ravel(), A=A, b=b, n_zero=n_zero,
                         n_nonneg=n_nonneg, n_soc=cone.count // 3,
                         objective_constant=float(objective_slots @ s0), kind="lower",
@@ -284,33 +293,37 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
 def _far_field(case: Case, mesh: Mesh, state: dict, slot: np.ndarray) -> dict:
     """The slot map S (slots -> variables) with offsets s0, the far field included.
 
-    Variables: (S_r, L_z, T)/r_c at the three corners of every triangle; sigma_r at
-    every far-base node off the axis (kPa, shared by the columns on either side; on
-    the axis r sigma_r = 0); g, the rate of sigma_r and sigma_theta with depth below
-    the base (kPa/m). Far-field slots, each a point where yield is checked (stresses,
-    unscaled): both ends of every far-side edge (sigma_r = sigma_theta = the mesh's,
-    sigma_z geostatic, tau = 0), both ends off the axis of every base edge
-    (sigma_theta = d(r sigma_r)/dr on that edge, sigma_z the mesh's), the far corner,
-    and the rate (g, -gamma, 0, g), whose strength is c's rate with depth.
+    Variables: the Bernstein coefficients of (S_r, S_z, T)/r_c of every triangle;
+    along the far base, sigma_r at every node off the axis and the middle Bernstein
+    coefficient of r sigma_r on every edge, over r there (kPa; r sigma_r is quadratic
+    on each edge and continuous, 0 on the axis); g, the rate of sigma_r and
+    sigma_theta with depth below the base (kPa/m). Far-field slots, each a point
+    where yield is checked (the stresses, or the Bernstein coefficients of r sigma
+    over r): the three control points of every far-side edge (sigma_r = sigma_theta
+    = the mesh's, sigma_z geostatic, tau = 0), of every base edge off the axis
+    (sigma_theta = d(r sigma_r)/dr, sigma_z the mesh's), the far corner, and the rate
+    (g, -gamma, 0, g), whose strength is c's rate with depth.
     """
     n_el = mesh.n_elements
     mat = material_arrays(case)
-    rc = state["rc"]
+    rc, radius = state["rc"], state["radius"]
     be, bk, kind = mesh.boundary_element, mesh.boundary_local, mesh.boundary_kind
-    element_var = 9 * np.arange(n_el)[:, None] + np.arange(9)
+    element_var = 18 * np.arange(n_el)[:, None] + np.arange(18)
     rows = [np.broadcast_to(slot[..., None], state["coeff"].shape)]
     cols = [np.broadcast_to(element_var[:, None, None, :], state["coeff"].shape)]
     vals = [state["coeff"]]
-    offsets = [(slot, state["const"])]
+    offsets = []
     n_slots = 24 * n_el
 
     base = np.flatnonzero(kind == FAR_BASE)
     base_nodes = np.unique(mesh.boundary_edges[base])
     base_nodes = base_nodes[mesh.points[base_nodes, 0] > 0.0]
-    n_var = 9 * n_el
-    sigma_r = np.full(len(mesh.points), -1)  # its variable at far-base nodes; -1 none
-    sigma_r[base_nodes] = n_var + np.arange(len(base_nodes))
+    n_var = 18 * n_el
+    node_var = np.full(len(mesh.points), -1)  # sigma_r at far-base nodes; -1: none (on the axis, 0)
+    node_var[base_nodes] = n_var + np.arange(len(base_nodes))
     n_var += len(base_nodes)
+    middle_var = n_var + np.arange(len(base))
+    n_var += len(base)
     rate = n_var  # g, kPa/m
     n_var += 1
     last = len(mat["phi"]) - 1
@@ -328,39 +341,45 @@ def _far_field(case: Case, mesh: Mesh, state: dict, slot: np.ndarray) -> dict:
         rows.append(target[use]), cols.append(column[use]), vals.append(value[use])
 
     yield_slots, yield_c, yield_phi = [], [], []
-    # beside the mesh: r-independent columns on each far-side edge, both ends
+    # beside the mesh: r-independent columns on each far-side edge, at its three control points
     side = np.flatnonzero(kind == FAR_SIDE)
-    e = be[side]
-    for end in (bk[side], (bk[side] + 1) % 3):
+    e, k = be[side], bk[side]
+    z_end = mesh.points[mesh.triangles[e[:, None], np.column_stack([k, (k + 1) % 3])], 1]
+    for point, depth in ((k, -z_end[:, 0]), ((k + 1) % 3, -z_end[:, 1]), (3 + k, -z_end.mean(axis=1))):
         s = new_slots(len(side))
-        node = mesh.triangles[e, end]
-        depth = -mesh.points[node, 1]
-        for stress in (SR, ST):  # sigma_r = S_r / R there
-            add(s[:, stress], element_var[e, 3 * end + SR], rc[e] / mesh.points[node, 0])
+        for stress in (SR, ST):  # sigma_r = S_r / R
+            add(s[:, stress], element_var[e, 3 * point + SR], rc[e] / radius[e, point])
         offsets.append((s[:, SZ], geostatic_sigma_z(case, depth)))
         yield_slots.append(s), yield_c.append(node_cohesion(mat, mesh.layer[e], depth))
         yield_phi.append(mat["phi"][mesh.layer[e]])
-    # under the mesh: a column below each base edge, both ends off the axis
+    # under the mesh: a column below each base edge, at its control points off the axis;
+    # F = r sigma_r has Bernstein coefficients (rP fP, rM fM, rQ fQ), r F' = r x (linear F')
     e, k = be[base], bk[base]
     P, Q = mesh.triangles[e, k], mesh.triangles[e, (k + 1) % 3]
     rP, rQ = mesh.points[P, 0], mesh.points[Q, 0]
-    for end, node, r_end in ((k, P, rP), ((k + 1) % 3, Q, rQ)):
-        live = r_end > 0.0
-        s = new_slots(int(live.sum()))
-        el, en, ne, re = e[live], end[live], node[live], r_end[live]
-        add(s[:, SR], sigma_r[ne], 1.0)
-        # sigma_theta = d(r sigma_r)/dr, constant along the edge
-        add(s[:, ST], sigma_r[Q[live]], (rQ / (rQ - rP))[live])
-        add(s[:, ST], sigma_r[P[live]], (-rP / (rQ - rP))[live])
-        # sigma_z = S_z / r of the triangle above, at the node
-        add(s[:, SZ], element_var[el, 3 * en + SZ], rc[el] / re)
-        offsets.append((s[:, SZ], state["const"][el, en, SZ] * rc[el] / re))
-        yield_slots.append(s), yield_c.append(np.full(len(s), node_cohesion(mat, last, D)))
-        yield_phi.append(np.full(len(s), mat["phi"][last]))
+    rM = (rP + rQ) / 2
+    span = rQ - rP
+    # d0 = 2 (F_M - F_P)/span, d1 = 2 (F_Q - F_M)/span: (column, coefficient) pairs
+    d0 = [(middle_var, 2 * rM / span), (node_var[P], -2 * rP / span)]
+    d1 = [(node_var[Q], 2 * rQ / span), (middle_var, -2 * rM / span)]
+    hoop = {0: [(col, rP * v) for col, v in d0],  # Bernstein coefficients of r F'
+            1: [(col, rQ * v) for col, v in d1],
+            2: [(col, rP * v / 2) for col, v in d1] + [(col, rQ * v / 2) for col, v in d0]}
+    for which, point, r_at, own in ((0, k, rP, node_var[P]), (1, (k + 1) % 3, rQ, node_var[Q]),
+                                     (2, 3 + k, rM, middle_var)):
+        live = r_at > 0.0
+        s = np.full((len(base), 4), -1)
+        s[live] = new_slots(int(live.sum()))
+        add(s[live, SR], own[live], 1.0)
+        for col, value in hoop[which]:
+            add(s[live, ST], col[live], value[live] / r_at[live])
+        add(s[live, SZ], element_var[e, 3 * point + SZ][live], (rc[e] / np.where(live, r_at, 1.0))[live])
+        yield_slots.append(s[live]), yield_c.append(np.full(int(live.sum()), node_cohesion(mat, last, D)))
+        yield_phi.append(np.full(int(live.sum()), mat["phi"][last]))
     # the far corner (r >= R_far, z <= -D) and the rate with depth below the base
     corner_node = base_nodes[np.argmax(mesh.points[base_nodes, 0])]
     s = new_slots(2)
-    add(s[0, [SR, ST]], sigma_r[corner_node], 1.0)
+    add(s[0, [SR, ST]], node_var[corner_node], 1.0)
     add(s[1, [SR, ST]], rate, 1.0)
     offsets.append((s[0, SZ], geostatic_sigma_z(case, D)))
     offsets.append((s[1, SZ], -mat["gamma"][last]))
