@@ -11,18 +11,35 @@ import time
 import numpy as np
 
 from .certify import certify_lower, certify_upper, lower_stress_field, upper_velocity_field
+from .certify_axisym import (certify_lower_axisym, certify_upper_axisym, lower_stress_field_axisym,
+                             upper_velocity_field_axisym)
 from .conic import solve
 from .hand import hand_methods, where_it_falls
 from .lower import lower_bound_program
+from .lower_axisym import lower_bound_program_axisym
 from .mesh import FAR_BASE, FAR_SIDE, Mesh, build_mesh, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .result import BoundResult, Result
 from .upper import upper_bound_program
+from .upper_axisym import upper_bound_program_axisym
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
 UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
                 "(Makrodimopoulos & Martin 2006, 2007); far boundary fixed")
+LOWER_METHOD_AXISYM = ("axisymmetric: weighted stresses r sigma quadratic in each triangle, in exact pointwise "
+                       "equilibrium with the hoop stress, discontinuities on every edge, Mohr-Coulomb over all "
+                       "three principal pairs at Bernstein control points; a far field admissible to infinity")
+UPPER_METHOD_AXISYM = ("axisymmetric: 6-node triangles, weighted velocities (r u_r, r u_z) quadratic and continuous, "
+                       "3D flow rule at the Bernstein coefficients of r^2 times the strain rate, dissipation exact "
+                       "(phi > 0) or bounded from above (Tresca); far boundary fixed")
+# (program, certificate, fields) of each bound, by footing shape
+STAGES = {("strip", "lower"): (lower_bound_program, certify_lower, lower_stress_field, LOWER_METHOD),
+          ("strip", "upper"): (upper_bound_program, certify_upper, upper_velocity_field, UPPER_METHOD),
+          ("circular", "lower"): (lower_bound_program_axisym, certify_lower_axisym, lower_stress_field_axisym,
+                                  LOWER_METHOD_AXISYM),
+          ("circular", "upper"): (upper_bound_program_axisym, certify_upper_axisym, upper_velocity_field_axisym,
+                                  UPPER_METHOD_AXISYM)}
 UPPER_JUMPS = ("; except that the velocity may jump across every interior edge (after Sloan & Kleeman 1995), "
                "flow rule and dissipation of each jump bounded through its Bernstein coefficients")
 SLOPE_UNSTABLE = ("the slope is not stable under its own weight: the collapse load is zero or negative "
@@ -83,7 +100,8 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
         notes.append("the upper-bound mechanism reaches the far boundary: the upper bound is still "
                      "rigorous but may be loose")
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
-                    footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
+                    footing_width_m=case.footing.width, footing_shape=case.footing.shape,
+                    lower=lower, upper=upper, timing=timing,
                     domain={"half_domain_by_symmetry": domain.half, "width_m": domain.x_max - domain.x_min,
                             "depth_m": domain.depth, "estimated_mechanism_width_m": domain.mechanism_width,
                             "estimated_mechanism_depth_m": domain.mechanism_depth,
@@ -155,7 +173,7 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
         if kind == "upper" and uses_velocity_jumps(case):
             mesh = open_velocity_jumps(mesh)
         t1 = time.perf_counter()
-        program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
+        program = STAGES[case.footing.shape, kind][0](case, mesh)
         t2 = time.perf_counter()
         job = Job(solve, program, backend, settings=settings)
         job.start() if parallel and len(requests) > 1 else job.run()
@@ -176,30 +194,33 @@ def run_bounds(case: Case, requests: list, backend: str, domain, settings, paral
 def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict) -> BoundResult:
     """Certify a solved bound and package it (fields, load components, timings)."""
     t3 = time.perf_counter()
-    certificate = (certify_lower if kind == "lower" else certify_upper)(case, mesh, program, solution)
+    _, certify, field_of, method = STAGES[case.footing.shape, kind]
+    certificate = certify(case, mesh, program, solution)
     timing["certify_s"] = time.perf_counter() - t3
-    load = certificate.get("load_kN_per_m") if certificate["passed"] else None
+    strip = case.footing.shape == "strip"
+    load = certificate.get("load_kN_per_m" if strip else "load_kN") if certificate["passed"] else None
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
     if load is not None and load <= 0.0:
         load, status = None, "withheld: the collapse load is zero or negative"
     extra, fields = {}, {}
     if solution.x is not None:
+        fields = field_of(case, mesh, program, solution.x)
         if kind == "upper":
-            fields = upper_velocity_field(case, mesh, program, solution.x)
             extra = _mechanism_extent(mesh, fields["velocity"])
-        else:
-            fields = lower_stress_field(case, mesh, program, solution.x)
     delta = math.radians(case.footing.load_inclination)
-    if load is not None:
+    if load is not None and strip:
         extra.update({"vertical_kN_per_m": load * math.cos(delta), "horizontal_kN_per_m": load * math.sin(delta),
                       "moment_kNm_per_m": load * math.cos(delta) * case.footing.eccentricity})
+    elif load is not None:
+        extra["vertical_kN"] = load
     return BoundResult(
-        kind=kind, pressure_kPa=None if load is None else load * math.cos(delta) / case.footing.width,
-        load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
+        kind=kind, pressure_kPa=None if load is None else load * math.cos(delta) / case.footing.bearing_area,
+        load_kN_per_m=load if strip else None, load_kN=None if strip else load, status=status,
+        certificate=certificate, elements=mesh.n_elements,
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
         timing=timing,
-        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD + (UPPER_JUMPS if mesh.jumps is not None else ""),
+        method=method + (UPPER_JUMPS if mesh.jumps is not None else ""),
         extra=extra, mesh=mesh, fields=fields)
 
 

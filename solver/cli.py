@@ -191,7 +191,7 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
 
 def format_summary(result, path: Path | None = None) -> str:
     """The bracket, each bound's standing, and the hand methods beside it."""
-    B = result.footing_width_m
+    area = result.bearing_area
     lines = [f"{result.title}", "  collapse pressure under the footing, kPa (compression positive)"]
     for bound in (result.lower, result.upper):
         if bound is None:
@@ -205,7 +205,7 @@ def format_summary(result, path: Path | None = None) -> str:
     up = result.upper.pressure_kPa if result.upper else None
     if lo is not None and up is not None:
         lines.append(f"    bracket     [{lo:.2f}, {up:.2f}] kPa, gap {result.gap_percent:.2f} %; "
-                     f"vertical collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
+                     f"vertical collapse load [{lo * area:.1f}, {up * area:.1f}] {result.load_unit}")
         extra_lo, extra_up = result.lower.extra, result.upper.extra
         if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
             lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "

@@ -13,26 +13,29 @@ equilibrium and the far field are worked out here.
   equilibrium (both equations times r) forces tau = A r and d tau/dz = 0 in every
   triangle, which leaves 6 free values per triangle against about 6 traction
   continuity rows per triangle: the field is fixed by its boundary values and the
-  footing carries only the surcharge (measured). So the field is written through
-  the weighted stresses S = r sigma, which are linear in each triangle (plus a
-  particular part for self-weight):
-      S_r = r sigma_r, T = r tau, S_z = r sigma_z = L_z + gamma r z  (S_r, T, L_z linear),
-      sigma_theta = dS_r/dr + dT/dz   (constant in the triangle),
-      dT/dr + dL_z/dz = 0             (one row per triangle).
+  footing carries only the surcharge (measured). Weighted stresses S = r sigma
+  linear per triangle do better on weightless soil but keep the hoop stress
+  constant in each triangle, which cannot follow self-weight (sand under its own
+  weight was infeasible). So the field is written through weighted stresses that
+  are quadratic in each triangle:
+      S_r = r sigma_r, S_z = r sigma_z, T = r tau   (quadratic),
+      sigma_theta = dS_r/dr + dT/dz                  (linear),
+      dT/dr + dS_z/dz = gamma r                      (linear: three rows per triangle).
   Then, exactly and everywhere in the triangle (r > 0),
       d sigma_r/dr + d tau/dz + (sigma_r - sigma_theta)/r = (dS_r/dr + dT/dz - sigma_theta)/r = 0,
       d tau/dr + d sigma_z/dz + tau/r - gamma = (dT/dr + dS_z/dz - gamma r)/r = 0.
-  The variables are the nodal values of S / r_c (kPa; r_c the centroid's radius).
-  The certificate recomputes both equations from sigma = S/r at interior points of
+  The geostatic field (S_r = K gamma r z, S_z = gamma r z) lies in this space. The
+  variables are the Bernstein coefficients of S / r_c (kPa; r_c the centroid's
+  radius): 18 per triangle, 6 left free by equilibrium and continuity. The
+  certificate recomputes both equations from sigma = S/r at interior points of
   every triangle.
 * Yield. The yield set {(sigma, c)} is a convex cone, so sigma(x) obeys
   Mohr-Coulomb with c(x) exactly when (S, r sigma_theta) obeys it with r c (r > 0).
   (S, r sigma_theta, r c) is a quadratic polynomial in the triangle; written in the
   Bernstein basis (nonnegative, summing to one) its value at every point is a
   convex combination of its six Bernstein coefficients, so yield at those six
-  control points (vertices and edge midpoints, with the coefficients of r sigma_theta
-  and of r c computed exactly) gives yield everywhere. Where gamma = 0 and c is
-  uniform in the triangle the polynomial is linear and the three vertices suffice.
+  control points (the coefficients of r sigma_theta and of r c computed exactly as
+  products of linear functions) gives yield everywhere.
 * Mohr-Coulomb over all three principal pairs (:func:`mohr_coulomb_rows`). With
   p = (sigma_r + sigma_z)/2, R = ||((sigma_r - sigma_z)/2, tau)||, s = sin(phi),
   k = c cos(phi), the in-plane principal stresses are p +- R and
@@ -48,15 +51,15 @@ equilibrium and the far field are worked out here.
   (rows, not cones: that cone has no interior). The field sigma = S/r then stays
   bounded, and the cylinder r = eps round the axis carries a force of order eps:
   nothing more is needed there.
-* Traction continuity across every edge at both ends (S . n is linear along an
-  edge; the self-weight part gamma r z is the same on both sides within a stratum,
-  and strata meet on level edges where it is linear), ground tractions equal the
-  surcharge, a smooth footing carries no shear, the contact carries no tension.
+* Traction continuity across every edge: S . n is quadratic along an edge, so its
+  three Bernstein coefficients match; ground tractions equal the surcharge, a
+  smooth footing carries no shear, the contact carries no tension (each at the
+  edge's three coefficients, which bound the quadratic).
 * Beyond the mesh (r > R_far or z < -D), a field admissible to infinity
   (:func:`_far_field`): beside the mesh, r-independent columns (sigma_z
-  geostatic, tau = 0, sigma_theta = sigma_r = the mesh's on the far side, linear
-  in z); under the mesh, a semi-infinite column below each base edge (tau = 0,
-  r sigma_r linear in r and continuous from column to column, sigma_theta =
+  geostatic, tau = 0, sigma_theta = sigma_r = the mesh's on the far side,
+  quadratic in z); under the mesh, a semi-infinite column below each base edge (tau = 0,
+  r sigma_r quadratic in r and continuous from column to column, sigma_theta =
   d(r sigma_r)/dr, sigma_z the mesh's on the base edge, all growing with depth at
   the rates (g, -gamma, 0, g), g one variable); below the far side, a corner
   region with sigma_r = sigma_theta. Every piece meets both equilibrium equations
@@ -287,7 +290,7 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
                         n_nonneg=n_nonneg, n_soc=cone.count // 3,
                         objective_constant=float(objective_slots @ s0), kind="lower",
                         layout={"S": S, "s0": s0, "slot": slot, "yield_slots": yield_slots,
-                                "yield_c": yield_c, "yield_phi": yield_phi})
+                                "yield_c": yield_c, "yield_phi": yield_phi, "axisymmetric": True})
 
 
 def _far_field(case: Case, mesh: Mesh, state: dict, slot: np.ndarray) -> dict:

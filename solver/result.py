@@ -15,7 +15,8 @@ from pathlib import Path
 from . import __version__
 
 CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
-           "perfect plasticity with associated flow, plane strain and the soil model given; "
+           "perfect plasticity with associated flow, plane strain (strip) or axial symmetry (circle) and "
+           "the soil model given; "
            "local codes and licensed practice govern.")
 
 
@@ -37,6 +38,7 @@ class BoundResult:
     # not written to result.json: the mesh and the solution fields, for pictures and exports
     mesh: object = field(default=None, repr=False)
     fields: dict = field(default_factory=dict, repr=False)
+    load_kN: float | None = None  # a circular footing's collapse load (its load_kN_per_m is None)
 
 
 @dataclass
@@ -57,6 +59,16 @@ class Result:
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
     # case gives a design load or partial factors; written to result.json only then
     factor_of_safety: dict | None = None
+    footing_shape: str = "strip"  # "strip" | "circular" (footing_width_m is then the diameter)
+
+    @property
+    def bearing_area(self) -> float:
+        """m^2 per m run (strip) or m^2 (circle): collapse pressure = collapse load / this."""
+        return self.footing_width_m if self.footing_shape == "strip" else math.pi * self.footing_width_m ** 2 / 4
+
+    @property
+    def load_unit(self) -> str:
+        return "kN/m" if self.footing_shape == "strip" else "kN"
 
     @property
     def gap_percent(self) -> float | None:
@@ -73,6 +85,7 @@ class Result:
             "case": {"name": self.case_name, "sha256": self.case_sha256},
             "software": {"name": "bearbound", "version": __version__},
             "footing_width_m": self.footing_width_m,
+            "footing_shape": self.footing_shape,
             "lower": _bound_dict(self.lower),
             "upper": _bound_dict(self.upper),
             "gap_percent": json_safe(self.gap_percent),

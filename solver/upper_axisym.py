@@ -142,7 +142,7 @@ def dissipation_weights(case: Case, mesh: Mesh) -> np.ndarray:
 
 def velocity_map_axisym(case: Case, mesh: Mesh) -> tuple[sp.csr_matrix, np.ndarray, dict]:
     """Nodal (W, U) (2 n_nodes: W0, U0, W1, U1, ...) as w = T z + f: z holds the free
-    nodal values and the footing's velocity v_f; U = r v_f on the footing (rough: W = 0),
+    nodal velocities (u_r or u_z, W = r u_r, U = r u_z) and the footing's velocity v_f; U = r v_f on the footing (rough: W = 0),
     W = U = 0 on the axis and on the far boundary. ``motion`` gives the index of v_f in z."""
     n = len(mesh.points)
     edges, kind = mesh.boundary_edges, mesh.boundary_kind
@@ -155,7 +155,8 @@ def velocity_map_axisym(case: Case, mesh: Mesh) -> tuple[sp.csr_matrix, np.ndarr
     free = np.flatnonzero(role.ravel() == 0)
     follows = np.flatnonzero(role[:, 1] == 2)
     n_free = len(free)
-    T = sp.coo_matrix((np.concatenate([np.ones(n_free), mesh.points[follows, 0]]),
+    # each free unknown is the node's velocity component itself (W = r u_r, U = r u_z): O(1) unknowns
+    T = sp.coo_matrix((np.concatenate([mesh.points[free // 2, 0], mesh.points[follows, 0]]),
                        (np.concatenate([free, 2 * follows + 1]),
                         np.concatenate([np.arange(n_free), np.full(len(follows), n_free)]))),
                       shape=(2 * n, n_free + 1)).tocsr()
@@ -245,4 +246,4 @@ def upper_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_nonneg=4 * n_pt, n_soc=n_pt,
                         objective_constant=float(c_w @ f), kind="upper",
                         layout={"T": T, "f": f, "motion": motion, "points": (el, pt), "scale": scale,
-                                "aux": n_z + aux, "symmetry_factor": factor})
+                                "aux": n_z + aux, "symmetry_factor": factor, "axisymmetric": True})
