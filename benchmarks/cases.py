@@ -1,9 +1,12 @@
-"""Benchmark over four cases: uniform meshes at three sizes and one adaptive run each.
+"""Benchmark over six cases: uniform meshes at three sizes and one adaptive run each.
 
 Cases (references for the error columns, where there is one):
   prandtl  weightless Tresca, rough (exact 2 + pi; Prandtl 1920)
   ngamma   c = 0, phi = 30, gamma = 18 kN/m^3, rough, B = 1 m (N_gamma = 14.75,
            Martin 2005, method of characteristics; value from memory)
+  circle   as prandtl under a rough circular footing, B = diameter (6.05, Eason & Shield
+           1960; value from memory)
+  circle_ngamma  as ngamma under a rough circular footing (no reference at hand)
   clays    Tresca su = 40 kPa over su = 20 kPa at 0.5 B (no closed form)
   slope    Tresca su = 40 kPa, gamma = 18, 26.6 deg slope 4 m high, setback 1 m (no closed form)
 
@@ -26,6 +29,7 @@ import math
 import resource
 import subprocess
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -42,6 +46,10 @@ def make_case(name: str, elements: int, target_gap: float | None):
     if name == "ngamma":
         sand = Layer("sand", "mohr-coulomb", None, 18.0, cohesion=0.0, friction_angle=30.0)
         return Case("N_gamma", Footing(width=1.0), Ground(), (sand,), analysis), 0.5 * 18.0 * 1.0 * 14.75
+    if name in ("circle", "circle_ngamma"):
+        case, reference = make_case("prandtl" if name == "circle" else "ngamma", elements, target_gap)
+        circle = replace(case, title=f"{case.title}, circle", footing=replace(case.footing, shape="circular"))
+        return circle, (6.05 if name == "circle" else None)
     if name == "clays":
         layers = (Layer("stiff", "tresca", 1.0, 18.0, undrained_strength=40.0),
                   Layer("soft", "tresca", None, 17.0, undrained_strength=20.0))
@@ -74,7 +82,7 @@ def child(name: str, elements: int, adaptive: bool, serial: bool) -> dict:
 def main() -> None:
     parser = argparse.ArgumentParser()
     parser.add_argument("--sizes", type=int, nargs="*", default=[2500, 5000, 10000])
-    parser.add_argument("--cases", nargs="*", default=["prandtl", "ngamma", "clays", "slope"])
+    parser.add_argument("--cases", nargs="*", default=["prandtl", "circle", "ngamma", "circle_ngamma", "clays", "slope"])
     parser.add_argument("--one", nargs=2)
     parser.add_argument("--adaptive", action="store_true")
     parser.add_argument("--serial", action="store_true", help="one bound after the other, one core")
