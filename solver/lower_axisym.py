@@ -157,21 +157,25 @@ def control_state_map(case: Case, mesh: Mesh) -> dict:
             "rc": rc, "hoop": hoop}
 
 
-def mohr_coulomb_rows(eq: _Rows, nonneg: _Rows, cone: _Rows, slots: np.ndarray, c, phi, first_aux: int) -> int:
+def mohr_coulomb_rows(eq: _Rows, nonneg: _Rows, cone: _Rows, slots: np.ndarray, c, phi, first_aux: int,
+                      hoop_implied: np.ndarray | None = None) -> int:
     """Mohr-Coulomb over the three principal pairs (module docstring) on stress slots (n, 4),
     s = b - A x: for each point an auxiliary slot t >= ||(sigma_r - sigma_z, 2 tau)|| (one
     cone) and the three conditions as nonnegative rows,
         2 k - s (sr + sz) - t >= 0,  4 k - 2 (1 + s) st + (1 - s)(sr + sz) - (1 - s) t >= 0,
         4 k - (1 + s)(sr + sz) + 2 (1 - s) st - (1 + s) t >= 0;
     where c = 0 and phi = 0 there is no interior, and the equalities sigma_r = sigma_z,
-    tau = 0, sigma_theta = sigma_r are written instead. The auxiliary slots are numbered
-    from ``first_aux``; returns how many were used."""
+    tau = 0, sigma_theta = sigma_r are written instead (but the last where ``hoop_implied``:
+    other rows imply it). The auxiliary slots are numbered from ``first_aux``; returns how
+    many were used."""
     n = len(slots)
     c = np.broadcast_to(np.asarray(c, float), (n,))
     phi = np.broadcast_to(np.asarray(phi, float), (n,))
     apex = (c == 0.0) & (phi == 0.0)
-    for stresses, coefficients in (((SR, SZ), (1.0, -1.0)), ((TRZ,), (1.0,)), ((ST, SR), (1.0, -1.0))):
-        eq.add(eq.block(int(apex.sum()))[:, None], slots[apex][:, list(stresses)], np.array(coefficients))
+    implied = np.zeros(n, dtype=bool) if hoop_implied is None else hoop_implied
+    for stresses, coefficients, where in (((SR, SZ), (1.0, -1.0), apex), ((TRZ,), (1.0,), apex),
+                                          ((ST, SR), (1.0, -1.0), apex & ~implied)):
+        eq.add(eq.block(int(where.sum()))[:, None], slots[where][:, list(stresses)], np.array(coefficients))
     s, k = np.sin(phi[~apex]), (c * np.cos(phi))[~apex]
     live = slots[~apex]
     m = len(live)
@@ -245,15 +249,22 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     e1, k1, e2, k2 = mesh.interior_edges()
     normal, _ = snapped_normals(mesh, e1, k1)
     redundant = _straight_boundary_ends(mesh, e1, k1) + [np.full(len(e1), -1)]
+    # where both sides have no strength (phi = 0, c = 0: su rising from 0 at the surface), the
+    # yield rows make both states hydrostatic, with no shear traction on any plane: the shear
+    # row is implied (measured: one dependent row per such edge end, 63 on a 300-triangle mesh)
+    no_strength = (state["strength"] == 0.0) & (mat["phi"][mesh.layer][:, None] == 0.0)
     dropped = []
     for end, (a, b) in enumerate([(k1, (k2 + 1) % 3), ((k1 + 1) % 3, k2), (3 + k1, 3 + k2)]):
+        hydrostatic = no_strength[e1, a] & no_strength[e2, b] & (radius[e1, a] > 0.0)
         at = radius[e1, a]
         inverse = np.where(at > 0.0, 1.0 / np.where(at > 0.0, at, 1.0), 0.0)[:, None]
         for which, coefficient in enumerate(traction_coefficients(normal)):
             r = eq.block(len(e1))
             eq.add(r[:, None], slot[e1, a, :3], coefficient * rc[e1, None] * inverse)
             eq.add(r[:, None], slot[e2, b, :3], -coefficient * rc[e2, None] * inverse)
-            dropped.append(r[redundant[end] == which])
+            # at a straight ground node both rows are fixed by the ground's when both states are too
+            implied = hydrostatic & ((which == 1) | (redundant[end] >= 0))
+            dropped.append(r[(redundant[end] == which) | implied])
 
     # 4. Boundary tractions, at the edges' three control points: ground (S_z = -q r,
     #    T = 0), smooth footing and the far boundary (T = 0: the far field carries no
@@ -275,7 +286,14 @@ def lower_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     yield_slots = np.concatenate([slot[points], far["yield_slots"]])
     yield_c = np.concatenate([state["strength"][points], far["yield_c"]])
     yield_phi = np.concatenate([phi[points], far["yield_phi"]])
-    n_aux = mohr_coulomb_rows(eq, nonneg, cone, yield_slots, yield_c, yield_phi, first_aux=S.shape[0])
+    # On a ground edge with no strength at its three points (su rising from 0 at the surface),
+    # sigma_z = -q and the in-plane apex rows fix S_r there, the corners' rows fix the (linear)
+    # hoop stress: the midpoint's hoop row repeats them (measured: one dependent row per such edge).
+    implied = np.zeros((n_el, 6), dtype=bool)
+    ends = no_strength[ge, bk[ground]] & no_strength[ge, (bk[ground] + 1) % 3] & no_strength[ge, 3 + bk[ground]]
+    implied[ge[ends], 3 + bk[ground][ends]] = True
+    n_aux = mohr_coulomb_rows(eq, nonneg, cone, yield_slots, yield_c, yield_phi, first_aux=S.shape[0],
+                              hoop_implied=np.concatenate([implied[points], np.zeros(len(far["yield_c"]), bool)]))
     S = sp.bmat([[S, None], [None, sp.identity(n_aux, format="csr")]]).tocsr()  # each t is a variable
     s0 = np.concatenate([s0, np.zeros(n_aux)])
     n_var += n_aux
