@@ -14,7 +14,7 @@ MAKEFLAGS += --no-print-directory
 help:
 	@echo "make setup   create $(VENV) and install bearbound with test tools"
 	@echo "make test    run the test suite"
-	@echo "make demo    solve examples/pump-house.toml"
+	@echo "make demo    solve the demo cases in examples/"
 	@echo "make verify  run the verification cases"
 	@echo "make bench   run the benchmarks"
 	@echo "make clean   remove out/ and caches (keeps $(VENV))"
@@ -33,6 +33,7 @@ test: setup
 demo: setup
 	@$(VENV)/bin/bearbound run examples/pump-house.toml
 	@$(VENV)/bin/bearbound run examples/embankment-crest.toml
+	@$(VENV)/bin/bearbound run examples/water-tank.toml
 
 verify: setup
 	@$(VENV)/bin/bearbound verify

@@ -220,7 +220,8 @@ def format_summary(result, path: Path | None = None) -> str:
     for note in result.notes:
         lines.append(f"  NOTE: {note}")
     if result.hand_methods:
-        lines.append("  hand methods, kPa (vertical component / B)")
+        lines.append("  hand methods, kPa (vertical component / "
+                     + ("B)" if result.footing_shape == "strip" else "footing area)"))
         lines += _hand_lines(result.hand_methods)
     if path is not None:
         lines.append(f"  written: {path}")
