@@ -250,7 +250,8 @@ def _hand(args) -> int:
     rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
              "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
             for h in hand_methods(case)]
-    print(f"{case.title}\n  hand methods, kPa (vertical component / B)")
+    print(f"{case.title}\n  hand methods, kPa (vertical component / "
+          + ("B)" if case.footing.shape == "strip" else "footing area)"))
     print("\n".join(_hand_lines(rows)))
     print(f"  Caution: {CAUTION}")
     return 0

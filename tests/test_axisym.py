@@ -187,7 +187,7 @@ def test_caquot_relates_the_cohesion_and_surcharge_brackets():
     assert nc.lower.pressure_kPa < nc.upper.pressure_kPa
 
 
-def test_circular_run_gives_loads_in_kN_and_the_hand_forms_beside_them():
+def test_circular_run_gives_loads_in_kN_and_the_hand_forms_beside_them(tmp_path):
     result = analyse(clay(base="smooth"), elements=500, parallel=False)
     area = math.pi * 2.0 ** 2 / 4
     assert result.footing_shape == "circular" and result.load_unit == "kN"
@@ -203,3 +203,8 @@ def test_circular_run_gives_loads_in_kN_and_the_hand_forms_beside_them():
     fields = result.upper.fields
     assert fields["velocity"].shape == (len(result.upper.mesh.points), 2)
     assert result.lower.fields["stress"].shape == (result.lower.elements, 3, 3)
+    import meshio
+    from solver.export import bound_fields, write_fields_vtu
+    path = write_fields_vtu(bound_fields(result.lower), bound_fields(result.upper), tmp_path)
+    hoop = meshio.read(path).point_data["lb_sigma_theta_kPa"]
+    assert np.isfinite(hoop[:3 * result.lower.elements]).all() and np.isnan(hoop[3 * result.lower.elements:]).all()
