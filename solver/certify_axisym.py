@@ -25,7 +25,7 @@ from .certify import FLOW_TOLERANCE, LOAD_TOLERANCE, STRESS_TOLERANCE, USABLE, _
 from .conic import ConicProgram, Solution
 from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .lower import traction_coefficients
-from .lower_axisym import CONTROL, EDGE_PAIRS, SR, ST, SZ, TRZ, control_state_map
+from .lower_axisym import EDGE_PAIRS, SR, ST, SZ, TRZ
 from .mesh import AXIS, FAR_BASE, FAR_SIDE, FOOTING, GROUND, Mesh
 from .model import Case
 from .upper_axisym import EG, ER, ET, EZ, axis_points, bernstein_basis, dissipation_weights, rate_coefficients
