@@ -9,10 +9,11 @@ PY     := $(VENV)/bin/python
 
 MAKEFLAGS += --no-print-directory
 
-.PHONY: help setup venv test demo verify bench clean
+.PHONY: help setup venv mkl test demo verify bench clean
 
 help:
 	@echo "make setup   create $(VENV) and install bearbound with test tools"
+	@echo "make mkl     also install MKL Pardiso, the faster linear solver for large meshes (~1 GB)"
 	@echo "make test    run the test suite"
 	@echo "make demo    solve the demo cases in examples/"
 	@echo "make verify  run the verification cases"
@@ -27,6 +28,16 @@ $(STAMP): pyproject.toml scripts/setup_env.sh
 	@PYTHON="$(PYTHON)" VENV="$(VENV)" bash scripts/setup_env.sh
 	@touch "$@"
 
+# Optional: MKL Pardiso for Clarabel (solver/conic.py picks it for large programs when present).
+MKL_STAMP := $(VENV)/bearbound-mkl.stamp
+mkl: $(MKL_STAMP)
+	@:
+
+$(MKL_STAMP): $(STAMP)
+	@echo "setup: installing the mkl extra (about 1 GB) into $(VENV)"
+	@$(PY) -m pip install -q -e '.[test,mkl]'
+	@touch "$@"
+
 test: setup
 	@$(PY) -m pytest -q
 
@@ -38,7 +49,7 @@ demo: setup
 verify: setup
 	@$(VENV)/bin/bearbound verify
 
-bench: setup
+bench: setup mkl
 	@$(PY) benchmarks/run.py
 	@$(PY) benchmarks/cases.py
 	@$(PY) benchmarks/sweep_bench.py

@@ -55,7 +55,7 @@ def crust_sweep(elements: int):
                         "friction_angle": 36.0, "unit_weight": 18.0},
                        {"name": "soft clay", "model": "tresca", "undrained_strength": 18.0,
                         "unit_weight": 16.0}],
-            "analysis": {"elements": elements}}
+            "analysis": {"elements": elements, "mesh": "fixed"}}
     return parse_sweep({"base": base, "vary": {"layers.0.thickness": [0.5, 1.0, 1.5, 2.0],
                                                "footing.width": [1.0, 2.0]}}, name="sweep-bench")
 

@@ -13,13 +13,17 @@ counted from 1, top to bottom: ``layers[1]`` is the top layer.
 """
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import hashlib
 import math
 import numbers
 import operator
+import os
 import pathlib
+import stat
 import tomllib
+import unicodedata
 from dataclasses import dataclass
 from typing import Any
 
@@ -61,8 +65,14 @@ class Key:
     # the range alone does not say why, e.g. for a negative depth of the water table
     below: str = ""
     above: str = ""
+    # numbers only: limits in footing widths B (a length the method resolves relative to the
+    # footing), checked once B is known
+    ge_width: float | None = None
+    le_width: float | None = None
+    # numbers only: 0, or at least this (a positive value below it is no measurable quantity)
+    zero_or_ge: float | None = None
 
-    def why_outside(self, value: Any) -> str:
+    def why_outside(self, value: Any, width: float | None = None) -> str:
         """``below`` or ``above`` for a finite number out of range on that side, else ''.
 
         >>> Key(float, gt=0, lt=90, above="; too steep").why_outside(95)
@@ -78,23 +88,41 @@ class Key:
             return ""
         if not math.isfinite(number):
             return ""
-        low = (self.gt is not None and number <= self.gt) or (self.ge is not None and number < self.ge)
-        high = (self.lt is not None and number >= self.lt) or (self.le is not None and number > self.le)
+        low = (self.gt is not None and number <= self.gt) or (self.ge is not None and number < self.ge) \
+            or (self.zero_or_ge is not None and 0 < number < self.zero_or_ge) \
+            or (width is not None and self.ge_width is not None and number < self.ge_width * width)
+        high = (self.lt is not None and number >= self.lt) or (self.le is not None and number > self.le) \
+            or (width is not None and self.le_width is not None and number > self.le_width * width)
         return self.below if low else self.above if high else ""
 
     @property
     def allowed(self) -> str:
         """What the key may hold, phrased to follow 'must be'."""
+        return self.allowed_for()
+
+    def allowed_for(self, width: float | None = None) -> str:
+        """What the key may hold for a footing of width ``width`` (m), if known.
+
+        >>> Key(float, "m", gt=0, ge_width=0.001).allowed_for(2.0)
+        'a number > 0 and >= 0.001 B = 0.002 (m)'
+        >>> Key(float, "kPa", ge=0, le=1e4, zero_or_ge=0.01).allowed
+        '0, or a number >= 0.01 and <= 10000 (kPa)'
+        """
         if self.choices:
             return "one of " + ", ".join(repr(c) for c in self.choices)
         if self.kind is str:
             return f"a non-empty one-line string of at most {self.max_len} characters"
-        limits = " and ".join(f"{sym} {getattr(self, op):g}" for op, sym, _ in _BOUNDS
-                              if getattr(self, op) is not None)
-        return " ".join(filter(None, (_KIND[self.kind], limits, self.unit and f"({self.unit})")))
+        bounds = {**{op: getattr(self, op) for op, _, _ in _BOUNDS}, "ge": self.zero_or_ge or self.ge}
+        limits = [f"{sym} {bounds[op]:g}" for op, sym, _ in _BOUNDS if bounds[op] is not None]
+        for sym, factor in ((">=", self.ge_width), ("<=", self.le_width)):
+            if factor is not None:
+                limits.append(f"{sym} {factor:g} B" + ("" if width is None else f" = {factor * width:.4g}"))
+        return " ".join(filter(None, ("0, or" if self.zero_or_ge else "", _KIND[self.kind], " and ".join(limits),
+                                      self.unit and f"({self.unit})")))
 
-    def read(self, value: Any) -> Any:
-        """Return ``value`` as a clean Python value, or raise ValueError if not allowed."""
+    def read(self, value: Any, width: float | None = None) -> Any:
+        """Return ``value`` as a clean Python value, or raise ValueError if not allowed
+        (limits in footing widths only when ``width``, B in m, is given)."""
         if self.kind is str:
             ok = isinstance(value, str) and (
                 value in self.choices if self.choices
@@ -113,31 +141,52 @@ class Key:
         if not ok or not all(holds(value, getattr(self, op)) for op, _, holds in _BOUNDS
                              if getattr(self, op) is not None):
             raise ValueError(value)
+        if self.zero_or_ge is not None and 0 < value < self.zero_or_ge:
+            raise ValueError(value)
+        if width is not None and value is not None and (
+                (self.ge_width is not None and value < self.ge_width * width)
+                or (self.le_width is not None and value > self.le_width * width)):
+            raise ValueError(value)
         return value
 
 
 # -- the schema: one line per key ---------------------------------------------
 
 TOP_KEYS = {"title": Key(str, default=None)}  # None: the case name
+# Limits: every number is checked against what the method and the solver can do with it; the
+# reason is in the message (``below``/``above``). Lengths the mesh must resolve or reach are
+# limited in footing widths B (the mesh is built in units of B, solver.mesh). Outside the
+# numeric limits the values are no soil and no strip footing: mostly a unit slip (mm for m,
+# Pa for kPa), which the message says.
+_UNITS = "; is that in the right units?"
 FOOTING_KEYS = {
-    "width": Key(float, "m", gt=0),
+    "width": Key(float, "m", ge=0.01, le=100, above="; wider than 100 m is no strip footing" + _UNITS),
     "base": Key(str, choices=("rough", "smooth"), default="rough"),
-    "embedment": Key(float, "m", ge=0, default=0.0),
+    "embedment": Key(float, "m", ge=0, le_width=10, default=0.0,
+                     above="; deeper than 10 B the footing is a pier: the soil above its base does more than "
+                           "surcharge it, which this version does not model"),
     "load_inclination": Key(float, "degrees from vertical", gt=-90, lt=90, default=0.0),
     "eccentricity": Key(float, "m", default=0.0),
-    "design_load": Key(float, "kN/m", gt=0, default=None),
+    "design_load": Key(float, "kN/m", gt=0, le=1e6, default=None, above="; no strip footing carries that" + _UNITS),
     "shape": Key(str, choices=("strip", "circular"), default="strip"),  # circular: width = diameter
 }
 GROUND_KEYS = {
-    "surcharge": Key(float, "kPa", ge=0, default=0.0),
+    "surcharge": Key(float, "kPa", ge=0, le=1e4, default=0.0, above="; that is the weight of 500 m of soil" + _UNITS),
+    # Any depth: a water table below the model is carried by the extension elements (solver.lower).
     "water_table": Key(float, "m below the ground surface", ge=0, default=None,
                        below="; a negative depth puts the water table above the ground surface "
-                               "(standing water over the soil), which this version does not model"),
-    "slope_angle": Key(float, "degrees", ge=0, lt=90, default=0.0,
-                       above="; 90 degrees or more is a vertical or overhanging face, "
-                               "which this version does not model"),
-    "crest_setback": Key(float, "m", ge=0, default=0.0),
-    "slope_height": Key(float, "m", gt=0, default=None),
+                             "(standing water over the soil), which this version does not model"),
+    "slope_angle": Key(float, "degrees", ge=0, lt=90, zero_or_ge=1, default=0.0,
+                       below="; 0 is level ground, and a face flatter than 1 degree runs more than 57 times its "
+                             "height to its toe, farther than the model reaches: leave out the slope keys",
+                       above="; 90 degrees or more is a vertical or overhanging face, which this version does not model"),
+    "crest_setback": Key(float, "m", ge=0, le_width=50, default=None,  # None: not given (0 with a slope)
+                         above="; farther than that the slope lies outside every collapse mechanism of the "
+                               "footing (they reach about 20 B at phi' = 50 degrees): analyse level ground "
+                               "(leave out the slope keys) and check the slope's own stability separately"),
+    "slope_height": Key(float, "m", gt=0, le_width=100, default=None,
+                        above="; beside a slope that high the slope's own stability governs, not the footing: "
+                              "check the slope on its own"),
 }
 FACTORS_KEYS = {
     "friction": Key(float, "on tan(phi')", ge=1, le=3, default=1.0),
@@ -150,30 +199,46 @@ ANALYSIS_KEYS = {
     "bounds": Key(str, choices=("lower", "upper", "both"), default="both"),
     "elements": Key(int, ge=200, le=400_000, default=4000),
     "backend": Key(str, choices=("clarabel", "cvxpy"), default="clarabel"),
-    "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=None),
-    "max_steps": Key(int, ge=1, le=20, default=6),
-    "time_limit_s": Key(float, "s", gt=0, le=86400, default=600.0),
+    "mesh": Key(str, choices=("adaptive", "fixed"), default="adaptive"),
+    "target_gap": Key(float, "fraction, e.g. 0.01 for 1 %", gt=0, lt=1, default=0.01),
+    "max_steps": Key(int, ge=1, le=20, default=8),
+    "time_limit_s": Key(float, "s", gt=0, le=86400, default=60.0),
     "velocity_jumps": Key(str, choices=("none", "all"), default="none"),
+    "model_width": Key(float, "m, the footing centred in it", gt=0, default=None),
+    "model_depth": Key(float, "m below the footing base", gt=0, default=None),
 }
+# Strengths: a positive one below 10 Pa (0.001 kPa/m for a gradient) is below anything
+# measurable and below what the certificates resolve against the weight and surcharge
+# stresses (solver.certify): give 0 for none. 10 MPa is beyond the strongest soils.
+_TINY = "; a positive strength that small is below anything measurable: give 0 for none"
+_STRONG = "; 10 MPa is beyond the strongest soils" + _UNITS
 # Strength keys of each soil model; a layer holds the keys of its own model only.
 MODEL_KEYS = {
     "mohr-coulomb": {
-        "cohesion": Key(float, "kPa", ge=0, default=0.0),
-        "friction_angle": Key(float, "degrees", ge=0, lt=90, default=0.0),
-        "dilation_angle": Key(float, "degrees", ge=0, lt=90, default=None),
+        "cohesion": Key(float, "kPa", ge=0, le=1e4, zero_or_ge=0.01, default=0.0, below=_TINY, above=_STRONG),
+        "friction_angle": Key(float, "degrees", ge=0, le=50, zero_or_ge=0.1, default=0.0,
+                              below="; a positive friction angle that small is no measured soil: give 0 for none",
+                              above="; no soil has a friction angle above about 50 degrees (dense gravel and "
+                                    "rockfill at low stress; common practice), and above it the collapse load and "
+                                    "the mechanism grow faster than the conic program resolves (exp(pi tan phi'))"),
+        "dilation_angle": Key(float, "degrees", ge=0, le=50, default=None),
     },
     "tresca": {
-        "undrained_strength": Key(float, "kPa", ge=0),
-        "strength_gradient": Key(float, "kPa/m", ge=0, default=0.0),
+        "undrained_strength": Key(float, "kPa", ge=0, le=1e4, zero_or_ge=0.01, below=_TINY, above=_STRONG),
+        "strength_gradient": Key(float, "kPa/m", ge=0, le=1e3, zero_or_ge=0.001, default=0.0, below=_TINY,
+                                 above="; no clay gains 1 MPa of strength per m of depth" + _UNITS),
     },
 }
 # The keys that give a layer its strength (one of them must be > 0).
 STRENGTH_KEYS = {"mohr-coulomb": ("cohesion", "friction_angle"),
                  "tresca": ("undrained_strength", "strength_gradient")}
+MAX_LAYERS = 50  # every interface within reach is a line of both meshes; a boring log has far fewer
 LAYER_KEYS = {
     "name": Key(str, max_len=80),
     # None: runs down to the model base; allowed on the last layer only.
-    "thickness": Key(float, "m", gt=0, default=None),
+    "thickness": Key(float, "m", gt=0, ge_width=0.001, default=None,
+                     below="; a layer that thin is far finer than the mesh near the footing (0.002 B at its "
+                           "finest): merge it into a neighbour"),
     "model": Key(str, choices=tuple(MODEL_KEYS)),
     "unit_weight": Key(float, "kN/m^3", ge=0, le=30),  # 30: sanity limit, catches N/m^3 or kg/m^3
     "saturated_unit_weight": Key(float, "kN/m^3", ge=WATER_UNIT_WEIGHT, le=30, default=None),
@@ -191,8 +256,10 @@ NOT_WITH_GEOMETRY = (
     ("ground.water_table", None, "left out with a [geometry] file: this version takes no water table "
                                  "with a drawn site"),
     ("ground.slope_angle", 0.0, "left out with a [geometry] file: draw the slope instead"),
-    ("ground.crest_setback", 0.0, "left out with a [geometry] file: draw the slope instead"),
+    ("ground.crest_setback", None, "left out with a [geometry] file: draw the slope instead"),
     ("ground.slope_height", None, "left out with a [geometry] file: draw the slope instead"),
+    ("analysis.model_width", None, "left out with a [geometry] file: the drawing gives the model's extent"),
+    ("analysis.model_depth", None, "left out with a [geometry] file: the drawing gives the model's extent"),
     ("footing.shape", "strip", "'strip' with a [geometry] file: this version analyses a drawn site "
                                "as a strip footing only"),
 )
@@ -214,6 +281,20 @@ NOT_WITH_CIRCLE = (
 
 # -- reading ------------------------------------------------------------------
 
+def shown(text: Any, limit: int = 120) -> str:
+    """User text (a key, a path, a name) as it may appear in one line of a message or a
+    report: control characters and terminal escape codes written as escapes (``\\n``,
+    ``\\x1b``), at most ``limit`` characters.
+
+    >>> shown("clay\\x1b[2J\\nnext"), shown("k" * 200, 20)
+    ('clay\\\\x1b[2J\\\\nnext', 'kkkkkkkkkkkkkkkkk...')
+    """
+    text = str(text)
+    if not text.isprintable():
+        text = "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+    return text if len(text) <= limit else text[:limit - 3] + "..."
+
+
 def _show(value: Any) -> str:
     """repr of a value, cut short and on one line, for a message (booleans as TOML spells them)."""
     text = str(value).lower() if isinstance(value, bool) else " ".join(repr(value).split())
@@ -234,15 +315,16 @@ def _check_keys(table: dict, allowed: dict, path: str,
     """Raise on the first key of ``table`` the schema ``allowed`` does not list."""
     for key in table:
         if key not in allowed:
-            where = f"{path}.{key}" if path else str(key)
+            where = shown(f"{path}.{key}" if path else key, 80)
             if foreign and key in foreign:
                 raise CaseError(f"{where}: {foreign[key]}")
             raise CaseError(f"{where}: unknown key; {_did_you_mean(str(key), list(allowed))}")
 
 
 def _read_table(table: dict, schema: dict[str, Key], path: str,
-                foreign: dict[str, str] | None = None) -> dict[str, Any]:
-    """Check ``table`` against ``schema``; return every schema key's value (defaults filled)."""
+                foreign: dict[str, str] | None = None, width: float | None = None) -> dict[str, Any]:
+    """Check ``table`` against ``schema``; return every schema key's value (defaults filled).
+    ``width``: the footing width B (m), for the limits given in widths."""
     _check_keys(table, schema, path, foreign)
     values = {}
     for key, spec in schema.items():
@@ -253,17 +335,17 @@ def _read_table(table: dict, schema: dict[str, Key], path: str,
             values[key] = spec.default
             continue
         try:
-            values[key] = spec.read(table[key])
+            values[key] = spec.read(table[key], width)
         except ValueError:
             close = difflib.get_close_matches(table[key], spec.choices, n=1) \
                 if spec.choices and isinstance(table[key], str) else []
             hint = f" (did you mean {close[0]!r}?)" if close else ""
-            hint = spec.why_outside(table[key]) or hint
-            raise _not_allowed(where, table[key], spec.allowed, hint) from None
+            hint = spec.why_outside(table[key], width) or hint
+            raise _not_allowed(where, table[key], spec.allowed_for(width), hint) from None
     return values
 
 
-def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
+def _read_layer(raw: Any, path: str, is_last: bool, width: float) -> Layer:
     if not isinstance(raw, dict):
         raise _not_allowed(path, raw, "a table [[layers]] of layer keys")
     model = _read_table({"model": raw["model"]} if "model" in raw else {},
@@ -272,7 +354,7 @@ def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
     foreign = {key: f"not a {model} key; it belongs to model = {other!r} "
                     f"({model} takes {', '.join(MODEL_KEYS[model])})"
                for other, keys in MODEL_KEYS.items() if other != model for key in keys}
-    values = _read_table(raw, schema, path, foreign)
+    values = _read_table(raw, schema, path, foreign, width)
 
     if values["thickness"] is None and not is_last:
         raise CaseError(f"{path}.thickness: missing; every layer but the last needs one, "
@@ -290,13 +372,17 @@ def _read_layer(raw: Any, path: str, is_last: bool) -> Layer:
     return Layer(**values)
 
 
-def _read_layers(raw: Any, drawn: bool = False) -> tuple[Layer, ...]:
+def _read_layers(raw: Any, width: float, drawn: bool = False) -> tuple[Layer, ...]:
+    """The [[layers]] tables, top to bottom, for a footing of width ``width`` (m)."""
     if raw is None:
         raise CaseError("layers: missing; required, at least one [[layers]] table (top to bottom)")
     if not isinstance(raw, list) or not raw:
         raise _not_allowed("layers", raw,
                            "an array of tables [[layers]], at least one (top to bottom)")
-    layers = tuple(_read_layer(item, f"layers[{i}]", is_last=drawn or i == len(raw))
+    if len(raw) > MAX_LAYERS:
+        raise CaseError(f"layers: {len(raw)} [[layers]] tables is not allowed; must be at most {MAX_LAYERS}: "
+                        "merge layers of like soil (each interface within reach is a line of the mesh)")
+    layers = tuple(_read_layer(item, f"layers[{i}]", is_last=drawn or i == len(raw), width=width)
                    for i, item in enumerate(raw, 1))
     for i, layer in enumerate(layers, 1):
         if drawn and layer.thickness is not None:
@@ -304,10 +390,14 @@ def _read_layers(raw: Any, drawn: bool = False) -> tuple[Layer, ...]:
                                "left out with a [geometry] file: the drawing gives each layer's extent")
     seen: dict[str, int] = {}
     for i, layer in enumerate(layers, 1):
-        if layer.name in seen:
+        # names that look the same are the same: surrounding spaces and Unicode
+        # normalisation forms (a composed and a decomposed accent) do not tell layers apart
+        same = unicodedata.normalize("NFC", layer.name.strip())
+        if same in seen:
+            why = "" if layers[seen[same] - 1].name == layer.name else ", but for spaces or the Unicode form"
             raise _not_allowed(f"layers[{i}].name", layer.name,
-                               f"unique among layers (layers[{seen[layer.name]}] has it too)")
-        seen[layer.name] = i
+                               f"unique among layers (layers[{seen[same]}] has it too{why})")
+        seen[same] = i
     return layers
 
 
@@ -345,7 +435,7 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
     >>> parse_case({"footing": {"width": -1}, "layers": []})
     Traceback (most recent call last):
     ...
-    solver.case.CaseError: footing.width: -1 is not allowed; must be a number > 0 (m)
+    solver.case.CaseError: footing.width: -1 is not allowed; must be a number >= 0.01 and <= 100 (m)
     """
     if not isinstance(data, dict):
         raise _not_allowed("case", data, "a table of keys")
@@ -363,13 +453,21 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
         if raw is None and table in OPTIONAL_TABLES:
             parts[table] = None
             continue
-        parts[table] = cls(**_read_table(raw or {}, schema, table))
+        # [footing] is read first; its own limits in widths once its width is known
+        width = parts["footing"].width if "footing" in parts else _read_table(raw, schema, table)["width"]
+        parts[table] = cls(**_read_table(raw or {}, schema, table, width=width))
     drawn = data.get("geometry") is not None
-    layers = _read_layers(data.get("layers"), drawn)
+    layers = _read_layers(data.get("layers"), parts["footing"].width, drawn)
+    ground = parts["ground"]
     if drawn:
         geometry = _read_geometry(data["geometry"], base_dir, parts, layers)
+    elif ground.slope_angle == 0 and ground.crest_setback is not None:
+        raise _not_allowed("ground.crest_setback", ground.crest_setback,
+                           "left out on level ground: give it only with slope_angle > 0 (degrees)")
+    parts["ground"] = dataclasses.replace(ground, crest_setback=ground.crest_setback or 0.0)
+    if drawn:
         _check_consistency(parts["footing"], parts["ground"], layers)
-        return Case(title=name if title is None else title, layers=layers, name=name,
+        return Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                     source_sha256=source_sha256, geometry=geometry, **parts)
 
     total = sum(layer.thickness for layer in layers[:-1]) + (layers[-1].thickness or math.inf)
@@ -379,8 +477,40 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
                            "footing base sits in soil (or leave out the last layer's thickness)")
     _check_consistency(parts["footing"], parts["ground"], layers)
     _check_circle(parts)
-    return Case(title=name if title is None else title, layers=layers, name=name,
+    case = Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
+    _check_strata(case)
+    _check_model_extent(case)
+    _check_circle_depths(case)
+    return case
+
+
+MAX_MODEL_WIDTHS = 1000  # [analysis] model_width and model_depth at most this many footing widths
+
+
+def _check_model_extent(case: Case) -> None:
+    """A model extent the user gives must hold the footing and the slope, and
+    be at most MAX_MODEL_WIDTHS footing widths."""
+    a, g, B = case.analysis, case.ground, case.footing.width
+    if a.model_width is not None:
+        toe = (B / 2 + g.crest_setback + g.slope_height / math.tan(math.radians(g.slope_angle))
+               if g.slope_angle > 0 else 0.0)
+        least, what = (2 * toe, "twice the distance from the footing's centre to the slope's toe") if toe \
+            else (B, "the footing width")
+        if a.model_width <= least:
+            raise _not_allowed("analysis.model_width", a.model_width, f"> {least:g} (m), {what}")
+    if a.model_depth is not None:
+        # Interfaces may lie below the model: the lower bound's extension elements carry the
+        # strata there (solver.lower.deep_strata); the upper bound holds the base fixed.
+        least = g.slope_height or 0.0
+        if a.model_depth <= least:
+            raise _not_allowed("analysis.model_depth", a.model_depth,
+                               f"> {least:g} (m below the footing base), so that the model holds the slope")
+    for key, value in (("model_width", a.model_width), ("model_depth", a.model_depth)):
+        if value is not None and value > MAX_MODEL_WIDTHS * B:
+            raise _not_allowed(f"analysis.{key}", value,
+                               f"<= {MAX_MODEL_WIDTHS * B:g} (m), {MAX_MODEL_WIDTHS} footing widths: no "
+                               "mechanism reaches that far, and a larger model only spreads the elements thinner")
 
 
 def _read_geometry(raw: Any, base_dir: str | pathlib.Path | None, parts: dict, layers: tuple[Layer, ...]):
@@ -416,6 +546,49 @@ def _check_circle(parts: dict) -> None:
                         "version gives factors of safety for strip footings only")
 
 
+CIRCLE_DEEPEST_INTERFACE = 50  # footing widths below the base: deepest interface a circle's model holds
+
+
+def _check_circle_depths(case: Case) -> None:
+    """A circular footing's model holds every interface between strata that differ (the far
+    field below its mesh carries the last meshed stratum only, solver.lower_axisym): one
+    deeper than CIRCLE_DEEPEST_INTERFACE footing widths would make a model thousands of
+    widths deep, and the model_depth a user gives must hold them all."""
+    if case.footing.shape != "circular" or not case.required_interfaces():
+        return
+    deepest, B = case.required_interfaces()[-1], case.footing.width
+    water = case.water_depth_below_base()
+    key, value = (("ground.water_table", case.ground.water_table) if deepest == water
+                  else ("layers", f"an interface {deepest + case.footing.embedment:g} m deep"))
+    if deepest > CIRCLE_DEEPEST_INTERFACE * B:
+        raise _not_allowed(key, value, f"within {CIRCLE_DEEPEST_INTERFACE} B ({CIRCLE_DEEPEST_INTERFACE * B:g} m) "
+                           "below the base with shape = 'circular': this version meshes every interface under a "
+                           "circle, and no mechanism of the footing reaches that deep; leave it out")
+    depth = case.analysis.model_depth
+    if depth is not None and depth <= deepest:
+        raise _not_allowed("analysis.model_depth", depth, f"> {deepest:g} (m below the footing base) with "
+                           "shape = 'circular': the model must hold every interface under a circle in this version")
+
+
+def _check_strata(case: Case) -> None:
+    """No band of soil below the base thinner than a layer may be: the footing base and the
+    water table cut the layers into the bands the mesh resolves (Case.strata)."""
+    factor = LAYER_KEYS["thickness"].ge_width
+    thinnest = factor * case.footing.width
+    water, base = case.water_depth_below_base(), case.footing.embedment
+    for band in case.strata():
+        if band.bottom - band.top >= thinnest:
+            continue
+        if water in (band.top, band.bottom):
+            key, value = "ground.water_table", case.ground.water_table
+            other = band.bottom if water == band.top else band.top
+        else:
+            key, value, other = "footing.embedment", base, band.bottom
+        what = "the footing base" if other == 0.0 else "the water table" if other == water else "a layer interface"
+        raise _not_allowed(key, value, f"{other + base:g} (m), {what}, or at least {thinnest:.4g} m ({factor:g} B) "
+                                       "from it: a band of soil thinner than that is finer than the mesh resolves")
+
+
 def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ...]) -> None:
     """Rules that tie keys together (one line each, naming the key that breaks them)."""
     if abs(footing.eccentricity) >= footing.width / 2:
@@ -443,39 +616,73 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
                                f"<= friction_angle = {layer.friction_angle:g} (degrees)")
 
 
+class NotRegularFile(OSError):
+    """A path that is a FIFO, a device or a socket: reading it could block for ever or never end."""
+
+
+_FILE_KINDS = ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a character device"),
+               (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def open_regular(path: str | pathlib.Path):
+    """Open a file for reading in binary, refusing anything but a regular file before a
+    byte is read: the open itself does not block (O_NONBLOCK, for a FIFO with no
+    writer), and the kind is taken from the open file, so it cannot change in between.
+
+    Raises FileNotFoundError, IsADirectoryError, NotRegularFile or another OSError.
+    """
+    flags = os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_NOCTTY", 0) | getattr(os, "O_CLOEXEC", 0)
+    fd = os.open(path, flags)
+    try:
+        mode = os.fstat(fd).st_mode
+        if stat.S_ISDIR(mode):
+            raise IsADirectoryError(21, "Is a directory", str(path))
+        if not stat.S_ISREG(mode):
+            kind = next((name for test, name in _FILE_KINDS if test(mode)), "not a regular file")
+            raise NotRegularFile(0, kind, str(path))
+        os.set_blocking(fd, True)
+        return os.fdopen(fd, "rb")
+    except BaseException:
+        os.close(fd)
+        raise
+
+
 def read_toml_file(path: str | pathlib.Path, what: str = "case file") -> tuple[dict | None, bytes]:
     """Read a small TOML file (UTF-8, at most 1 MB): (its tables, or None when it is
     blank, and its bytes). Every problem with the file is one CaseError line
     naming the file; ``what`` names the kind of file in those lines."""
+    where = shown(path, 200)
     try:
         path = pathlib.Path(path)
-        with path.open("rb") as stream:
+        with open_regular(path) as stream:
             raw = stream.read(MAX_FILE_BYTES + 1)  # never read more than the limit
     except FileNotFoundError:
-        raise CaseError(f"{path}: no such {what}") from None
+        raise CaseError(f"{where}: no such {what}") from None
     except IsADirectoryError:
-        raise CaseError(f"{path}: is a directory; must be a {what} (TOML)") from None
+        raise CaseError(f"{where}: is a directory; must be a {what} (TOML)") from None
+    except NotRegularFile as exc:
+        raise CaseError(f"{where}: is {exc.strerror}, not a file; must be a {what} (TOML)") from None
     except (OSError, TypeError, ValueError) as exc:  # permissions, bad path type, NUL in the path
-        where = str(path) if str(path).isprintable() else _show(str(path))
-        reason = " ".join(str(exc).split())
-        raise CaseError(f"{where}: cannot read the {what} ({reason})") from None
+        raise CaseError(f"{where}: cannot read the {what} ({shown(' '.join(str(exc).split()), 200)})") from None
     if len(raw) > MAX_FILE_BYTES:
-        raise CaseError(f"{path}: larger than 1 MB; a {what} is short TOML text, "
+        raise CaseError(f"{where}: larger than 1 MB; a {what} is short TOML text, "
                         "is this the right file?")
     if b"\0" in raw:
-        raise CaseError(f"{path}: binary data (NUL bytes); must be a TOML text file")
+        raise CaseError(f"{where}: binary data (NUL bytes); must be a TOML text file")
     try:
         text = raw.decode("utf-8-sig")  # tolerate the byte-order mark some editors write
     except UnicodeDecodeError as exc:
         line = raw[:exc.start].count(b"\n") + 1
-        raise CaseError(f"{path}: not UTF-8 text (bad byte at line {line}); "
+        raise CaseError(f"{where}: not UTF-8 text (bad byte at line {line}); "
                         f"save the {what} as UTF-8") from None
     if not text.strip():
         return None, raw
     try:
         return tomllib.loads(text), raw
     except tomllib.TOMLDecodeError as exc:
-        raise CaseError(f"{path}: not valid TOML: {' '.join(str(exc).split())}") from None
+        raise CaseError(f"{where}: not valid TOML: {shown(' '.join(str(exc).split()), 200)}") from None
+    except RecursionError:  # tomllib reads nested arrays and tables recursively
+        raise CaseError(f"{where}: arrays or tables nested too deeply; a {what} nests a few levels") from None
 
 
 def load_case(path: str | pathlib.Path) -> Case:
@@ -487,7 +694,7 @@ def load_case(path: str | pathlib.Path) -> Case:
     data, raw = read_toml_file(path)
     path = pathlib.Path(path)
     if data is None:
-        raise CaseError(f"{path}: the file is empty; a case needs a [footing] table "
+        raise CaseError(f"{shown(path, 200)}: the file is empty; a case needs a [footing] table "
                         "and at least one [[layers]] table")
     return parse_case(data, name=path.stem, source_sha256=hashlib.sha256(raw).hexdigest(),
                       base_dir=path.parent)
@@ -517,6 +724,8 @@ def case_to_dict(case: Case) -> dict:
     for table, (_, schema) in TABLES.items():
         if getattr(case, table) is not None:
             out[table] = keys_of(getattr(case, table), schema)
+    if case.ground.slope_angle == 0:
+        out["ground"].pop("crest_setback")  # no crest on level ground: a key given there is refused
     out["layers"] = [keys_of(layer, LAYER_KEYS | MODEL_KEYS[layer.model]) for layer in case.layers]
     if case.geometry is not None:
         out["geometry"] = {"file": case.geometry.file}  # absolute: reads the same file from anywhere

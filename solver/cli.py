@@ -3,11 +3,13 @@
 Exit status: 0 when every bound asked for is certified; 1 when a bound is
 withheld (solver trouble or a failed certificate; the result still says why);
 2 for bad input (one line naming the key, the value and what is allowed,
-nothing written); 130 when interrupted (nothing half-written: a run writes its
-outputs only once every bound is solved, each to a temporary file renamed into
-place, and a Ctrl-C while they are written waits until all are whole); 3 for
-an internal error (a defect, not bad input: one line naming the error; set
-BEARBOUND_TRACEBACK=1 for the traceback).
+nothing written), an output folder that cannot be used, or one that could not
+be written to the end; 130 when interrupted by Ctrl-C or SIGTERM (nothing
+half-written: a run writes its outputs into a staging folder only once every
+bound is solved and swaps it in whole, and a stop while they are written waits
+until all are whole); 3 for an internal error (a defect, not bad input: one
+line naming the error; set BEARBOUND_TRACEBACK=1 for the traceback and the
+library warnings, which are otherwise not printed).
 """
 from __future__ import annotations
 
@@ -18,12 +20,14 @@ import os
 import signal
 import sys
 import threading
+import warnings
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
 
-from .case import CaseError, load_case
-from .result import CAUTION
+from .case import CaseError, load_case, shown
+from .outdir import abandon_open_folders
+from .result import CAUTION, refinement_line
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 
@@ -32,7 +36,8 @@ def main(argv: list[str] | None = None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     try:
-        return args.handler(args)
+        with _stop_signals(), _library_warnings():
+            return args.handler(args)
     except CaseError as error:
         print(f"bearbound: {error}", file=sys.stderr)
         return 2
@@ -48,8 +53,7 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as error:  # a defect, never the user's input: say so in one line
         if os.environ.get("BEARBOUND_TRACEBACK"):
             raise
-        reason = " ".join(f"{type(error).__name__}: {error}".split())
-        reason = reason if len(reason) <= 300 else reason[:297] + "..."
+        reason = shown(" ".join(f"{type(error).__name__}: {error}".split()), 300)
         print(f"bearbound: internal error, the run stopped: {reason}; please report it with the "
               "case file (BEARBOUND_TRACEBACK=1 shows where)", file=sys.stderr)
         return 3
@@ -70,6 +74,9 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--elements", type=int, default=None, help="override [analysis] elements")
     run.add_argument("--backend", choices=("clarabel", "cvxpy"), default=None,
                      help="override [analysis] backend")
+    run.add_argument("--fixed-mesh", action="store_true",
+                     help="one mesh of --elements (or [analysis] elements) triangles per bound, no adaptive "
+                          "refinement (default: refine until [analysis] target_gap or time_limit_s)")
     run.add_argument("--serial", action="store_true",
                      help="solve the two bounds one after the other on one core "
                           "(default: at once, one per core, when two cores are free)")
@@ -110,19 +117,33 @@ def _run(args) -> int:
     case = load_case(args.case)
     if args.elements is not None and not 200 <= args.elements <= 400_000:
         raise CaseError(f"--elements: {args.elements} is not allowed; must be a whole number from 200 to 400000")
-    out_dir = args.out or Path("out") / case.name
-    from .export import outputs_overwriting
+    from .outdir import RunFolder, folder_name
+
+    out_dir = args.out or Path("out") / folder_name(case.name, "case")
+    from .export import RUN_FILES, outputs_overwriting
 
     if (clash := outputs_overwriting(args.case, out_dir)) is not None:
-        raise CaseError(f"--out: {out_dir} is not allowed; writing {clash.name} there would overwrite "
-                        "the case file, choose another folder")
+        raise CaseError(f"--out: {shown(out_dir, 200)} is not allowed; writing {clash.name} there would "
+                        "overwrite the case file, choose another folder")
+    # The folder is checked, locked and staged before the solve: a folder that cannot be
+    # written or that another run is writing is found now, not after minutes of solving.
+    with RunFolder(out_dir, RUN_FILES) as folder:
+        result = _solve_and_write(args, case, out_dir, folder)
+    print(format_summary(result, out_dir / "result.json"))
+    asked = [b for b in (result.lower, result.upper) if b is not None]
+    return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+
+
+def _solve_and_write(args, case, out_dir: Path, folder):
+    """Solve, write every output into the run's staging folder and swap it in."""
     from .analysis import analyse  # imported late: bad input is reported before gmsh/cvxpy load
     from .report import write_run_files
     from .result import write_result
 
     def solve_case():
         result = analyse(case, bounds=args.bounds, elements=args.elements, backend=args.backend,
-                         progress=sys.stderr.isatty(), parallel=False if args.serial else None)
+                         progress=lambda line: print(f"bearbound: {line}", file=sys.stderr, flush=True),
+                         parallel=False if args.serial else None, adaptive=False if args.fixed_mesh else None)
         if case.footing.design_load is not None or case.factors is not None:
             from .safety import factor_of_safety
 
@@ -134,15 +155,42 @@ def _run(args) -> int:
 
     result = _solve_interruptibly(solve_case, out_dir)
     with _interrupt_after_writing() as interrupted:
-        path = write_result(result, out_dir)
-        write_run_files(result, case, args.case, out_dir, pictures=not args.no_pictures,
-                        report=not args.no_report)
+        try:
+            write_result(result, folder.staging)
+            write_run_files(result, case, args.case, folder.staging, pictures=not args.no_pictures,
+                            report=not args.no_report)
+            folder.publish()
+        except OSError as error:  # the disk filled up, the folder was taken away: not a defect
+            raise CaseError(f"--out: cannot write the outputs to {shown(out_dir, 200)} "
+                            f"({shown(error.strerror or error, 100)}); anything there before is unchanged") from None
     if interrupted:
         raise KeyboardInterrupt(f"interrupted while the outputs were written; they were finished "
-                                f"first and are whole in {out_dir}")
-    print(format_summary(result, path))
-    asked = [b for b in (result.lower, result.upper) if b is not None]
-    return 0 if all(b.pressure_kPa is not None for b in asked) else 1
+                                f"first and are whole in {shown(out_dir, 200)}")
+    return result
+
+
+@contextlib.contextmanager
+def _library_warnings() -> Iterator[None]:
+    """Warnings from the libraries (numpy, matplotlib, dask, ...) never reach the terminal: a
+    user cannot act on them, and real trouble is reported as trouble (a withheld bound with
+    its cause, a one-line error). They are kept and, with BEARBOUND_TRACEBACK=1, printed
+    after the command, one line each. Only how a warning is shown changes, never the
+    filters: an exception is never turned into a warning, and ``python -W error`` still
+    makes warnings errors."""
+    kept: list[str] = []
+
+    def keep(message, category, filename, lineno, file=None, line=None) -> None:
+        kept.append(shown(f"{category.__name__}: {' '.join(str(message).split())} ({Path(filename).name}:{lineno})",
+                          300))
+
+    with warnings.catch_warnings():
+        warnings.showwarning = keep
+        try:
+            yield
+        finally:
+            if os.environ.get("BEARBOUND_TRACEBACK"):
+                for text in dict.fromkeys(kept):
+                    print(f"bearbound: library warning: {text}", file=sys.stderr)
 
 
 class _SolveAbandoned(KeyboardInterrupt):
@@ -165,28 +213,87 @@ def _solve_interruptibly(work: Callable[[], Any], out_dir: Path) -> Any:
         while job.is_alive():
             job.join(0.1)
     except KeyboardInterrupt:
-        raise _SolveAbandoned(f"interrupted while solving; nothing was written to {out_dir}") from None
+        raise _SolveAbandoned(f"interrupted while solving; nothing was written to {shown(out_dir, 200)}") from None
     return job.result()
+
+
+STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)  # Ctrl-C, and `kill` / a shutdown / a batch system
+GRACE_S = 1.0  # how long a stop signal may wait for the main thread before the watch acts on it
+_HANDLED = threading.Event()  # the main thread has taken a stop signal
+_HOLDING = threading.Event()  # the outputs are being written: a stop waits for them
+
+
+def _stop(signum, frame) -> None:
+    _HANDLED.set()
+    raise KeyboardInterrupt()
+
+
+@contextlib.contextmanager
+def _stop_signals() -> Iterator[None]:
+    """Ctrl-C and SIGTERM stop a command the same way: at once, exit status 130, nothing
+    half-written (Python's default for SIGTERM is to die on the spot, mid-write).
+
+    Python runs a signal handler on the main thread between bytecodes, so a main thread
+    inside a long library call (gmsh meshing a site file while the case is read) would
+    hold the signal until the call returns, for ever if it hangs. A watch thread learns of
+    every signal at once through the wakeup file descriptor; when the main thread has not
+    taken it within GRACE_S, and no output is being written, the watch ends the process
+    itself: it removes any staging folder and lock (solver.outdir) and exits with 130.
+    """
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    previous = {s: signal.signal(s, _stop) for s in STOP_SIGNALS if signal.getsignal(s) is not signal.SIG_IGN}
+    read_fd, write_fd = os.pipe()
+    os.set_blocking(write_fd, False)
+    old_fd = signal.set_wakeup_fd(write_fd, warn_on_full_buffer=False)
+    watch = threading.Thread(target=_watch, args=(read_fd, set(previous)), name="bearbound-signals", daemon=True)
+    watch.start()
+    try:
+        yield
+    finally:
+        signal.set_wakeup_fd(old_fd)
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+        os.close(write_fd)  # the watch reads the end of the pipe and stops
+        watch.join()
+
+
+def _watch(read_fd: int, stops: set[int]) -> None:
+    try:
+        while data := os.read(read_fd, 64):
+            if not stops.intersection(data) or _HOLDING.is_set():
+                continue
+            if _HANDLED.wait(GRACE_S) or _HOLDING.is_set():
+                _HANDLED.clear()
+                continue
+            print("bearbound: interrupted inside a library call; no output was left half-written",
+                  file=sys.stderr, flush=True)
+            abandon_open_folders()
+            os._exit(130)
+    finally:
+        os.close(read_fd)
 
 
 @contextlib.contextmanager
 def _interrupt_after_writing() -> Iterator[list[int]]:
-    """Hold a Ctrl-C while the outputs are written (a second or two) and report it after.
-
-    Each file is renamed into place whole, but a Ctrl-C between two files would leave
-    this run's result.json beside an earlier run's report and pictures. The list
-    yielded holds the signals that arrived.
+    """Hold Ctrl-C and SIGTERM while the outputs are written and swapped in (a second or
+    two) and report them after, so that the run's files appear whole and together. The
+    list yielded holds the signals that arrived.
     """
     arrived: list[int] = []
-    if (threading.current_thread() is not threading.main_thread()
-            or signal.getsignal(signal.SIGINT) is signal.SIG_IGN):
+    if threading.current_thread() is not threading.main_thread():
         yield arrived
         return
-    previous = signal.signal(signal.SIGINT, lambda signum, frame: arrived.append(signum))
+    held = [s for s in STOP_SIGNALS if signal.getsignal(s) is not signal.SIG_IGN]
+    previous = {s: signal.signal(s, lambda signum, frame: arrived.append(signum)) for s in held}
+    _HOLDING.set()
     try:
         yield arrived
     finally:
-        signal.signal(signal.SIGINT, previous)
+        _HOLDING.clear()
+        for s, handler in previous.items():
+            signal.signal(s, handler)
 
 
 def format_summary(result, path: Path | None = None) -> str:
@@ -210,6 +317,8 @@ def format_summary(result, path: Path | None = None) -> str:
         if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
             lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "
                          f"M about the centre [{extra_lo['moment_kNm_per_m']:.1f}, {extra_up['moment_kNm_per_m']:.1f}] kNm/m")
+    if getattr(result, "refinement", None):
+        lines.append(f"    mesh        {refinement_line(result.refinement, result.gap_percent)}")
     t = result.timing
     lines.append(f"    wall time   {t['total_s']:.1f} s (solving {t.get('solve_wall_s', t['solve_s']):.1f} s; "
                  f"the solves took {t['solve_s']:.1f} s together)")
@@ -224,7 +333,7 @@ def format_summary(result, path: Path | None = None) -> str:
                      + ("B)" if result.footing_shape == "strip" else "footing area)"))
         lines += _hand_lines(result.hand_methods)
     if path is not None:
-        lines.append(f"  written: {path}")
+        lines.append(f"  written: {shown(path, 200)}")
     lines.append(f"  Caution: {CAUTION}")
     return "\n".join(lines)
 
@@ -258,14 +367,20 @@ def _hand(args) -> int:
 
 
 def _report(args) -> int:
+    from .outdir import locked_folder
     from .report import ReportError, rebuild_report
 
+    if not args.folder.is_dir():  # checked before the lock, which would create the folder
+        print(f"bearbound: {shown(args.folder, 200)}: no such folder; give the output folder of a finished "
+              "run (out/<case>)", file=sys.stderr)
+        return 2
     try:
-        path = rebuild_report(args.folder)
+        with locked_folder(args.folder, where="report"):  # a run swapping the folder meanwhile would mix them
+            path = rebuild_report(args.folder)
     except ReportError as error:
         print(f"bearbound: {error}", file=sys.stderr)
         return 2
-    print(f"written: {path}\n  Caution: {CAUTION}")
+    print(f"written: {shown(path, 200)}\n  Caution: {CAUTION}")
     return 0
 
 
@@ -291,12 +406,15 @@ def _sweep(args) -> int:
                         "the cluster there has its own workers")
     if args.workers is not None and not 1 <= args.workers <= 256:
         raise CaseError(f"--workers: {args.workers} is not allowed; must be a whole number from 1 to 256")
-    out_dir = args.out or Path("out") / sweep.name
+    from .outdir import folder_name, locked_folder
+
+    out_dir = args.out or Path("out") / folder_name(sweep.name, "sweep")
     try:
-        outcome = run_sweep(sweep, out_dir, scheduler=args.scheduler, workers=args.workers,
-                            progress=not args.no_progress)
+        with locked_folder(out_dir):  # points are added to the folder, so it is locked, not swapped
+            outcome = run_sweep(sweep, out_dir, scheduler=args.scheduler, workers=args.workers,
+                                progress=not args.no_progress)
     except KeyboardInterrupt:
-        print(f"bearbound: points finished so far are kept in {out_dir / 'points'}; "
+        print(f"bearbound: points finished so far are kept in {shown(out_dir / 'points', 200)}; "
               "the same command again solves only the rest", file=sys.stderr)
         raise
     print(format_outcome(sweep, outcome))

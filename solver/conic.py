@@ -16,6 +16,7 @@ another solver), with the cones passed as one vectorised constraint.
 """
 from __future__ import annotations
 
+import threading
 import time
 from dataclasses import dataclass, field
 
@@ -52,6 +53,9 @@ class Solution:
     iterations: int
     solve_s: float
     backend: str
+    linear_solver: str = ""  # Clarabel's KKT solver: "qdldl", "mkl", or "mkl, then qdldl (...)" after trouble
+    notes: dict = field(default_factory=dict)  # what was done to the point after the solve (certify)
+    ray: np.ndarray | None = None  # "unbounded": the direction the solver found it unbounded along
 
 
 def assemble(rows: list[np.ndarray], cols: list[np.ndarray], vals: list[np.ndarray],
@@ -117,6 +121,10 @@ def drop_repeated_equalities(A: sp.csc_matrix, b: np.ndarray, n_zero: int
 def solve(program: ConicProgram, backend: str = "clarabel", *, verbose: bool = False,
           settings: dict | None = None) -> Solution:
     """Solve with the chosen back end; never raises on solver trouble (it is a status)."""
+    if not all(np.all(np.isfinite(v)) for v in (program.c, program.b, program.A.data)):
+        # an overflow upstream (a value no case file reaches): the solver is never handed it
+        return Solution(x=None, status="numerical trouble: the program holds numbers that are not finite",
+                        objective=None, iterations=0, solve_s=0.0, backend=backend)
     if backend == "clarabel":
         return _solve_clarabel(program, verbose, settings or {})
     if backend == "cvxpy":
@@ -136,6 +144,14 @@ _CLARABEL_STATUS = {
     "NumericalError": "numerical trouble",
     "InsufficientProgress": "insufficient progress",
 }
+
+
+# Clarabel's feasibility tolerance, kept at its default: a point it calls solved has
+# ||A x + s - b||_2 <= FEASIBILITY * max(1, ||b||_2 + ||x||_2 + ||s||_2) (its termination test,
+# src/solver/implementations/default/info.rs); the certificates judge residuals by it.
+FEASIBILITY = 1e-8
+# Static regularisation measured to turn the troubled solves into solved ones (below).
+STRONG_REGULARISATION = 1e-7
 
 
 def default_settings(program: ConicProgram) -> dict:
@@ -166,7 +182,7 @@ def default_settings(program: ConicProgram) -> dict:
     2k triangles); with 1e-7 both were "optimal".
     """
     settings = {"max_iter": 200, "max_threads": 1, "direct_solve_method": "qdldl", "tol_gap_rel": 1e-4,
-                "iterative_refinement_reltol": 1e-9, "iterative_refinement_abstol": 1e-10}
+                "tol_feas": FEASIBILITY, "iterative_refinement_reltol": 1e-9, "iterative_refinement_abstol": 1e-10}
     if program.kind == "upper" and program.layout.get("axisymmetric"):
         # the circular footing's upper bound (nonnegative rows at every control point): Clarabel's
         # default static regularisation, and a primal feasibility tolerance of 1e-7, which its
@@ -177,17 +193,157 @@ def default_settings(program: ConicProgram) -> dict:
         settings["tol_feas"] = 1e-7
         return settings
     if program.kind == "lower" or program.n_nonneg:
-        settings["static_regularization_constant"] = 1e-7
+        settings["static_regularization_constant"] = STRONG_REGULARISATION
     return settings
 
 
+MKL_FROM_KKT = 200_000  # KKT dimension (variables + rows) from which MKL Pardiso is used when present.
+# Measured on Prandtl's case, solve time qdldl / MKL side by side (two runs each, shared machine):
+# lower bound 5k triangles (KKT 126k) 0.9-1.2, 10k (262k) 1.5-2.0, 20k (517k) 2.7-3.0; upper bound
+# 5k (91k) 0.85, 10k (181k) 1.0, 20k (382k) 1.4-2.2. Same iterations, bounds within 1e-8.
+MKL_IPARM = {7: 1, 24: 2}  # Pardiso: at most one step of its own iterative refinement (Clarabel refines
+#                           the solution itself), and its two-level parallel forward/backward solve
+MKL_THREADING = "sequential"  # MKL_THREADING_LAYER: the default ("intel") factorised wrongly here
+_MKL = {"checked": False, "ready": False, "folder": None, "why": ""}
+_MKL_LOCK = threading.Lock()
+
+
+def mkl_ready() -> bool:
+    """Whether Clarabel can use MKL Pardiso in this process (checked once).
+
+    The `mkl` wheel (pip install 'bearbound[mkl]') ships libmkl_rt.so.3, but Clarabel
+    opens "libmkl_rt.so" in the folder MKL_PARDISO_PATH names. MKL loads its other
+    libraries from the folder it was opened from, so when the wheel's folder has no
+    libmkl_rt.so a private folder of links to its libraries is made (removed at exit).
+    MKL runs sequentially, one core per solve like qdldl (the two bounds already solve on
+    the two cores); with its default threading layer, in one environment every solve
+    ended at the first iteration in numerical trouble (a wrong factorisation). Both
+    variables must be set before Clarabel first loads MKL, which is here. A small
+    program is then solved with MKL and with qdldl and must agree, else MKL is not
+    used (``mkl_status()`` says why)."""
+    with _MKL_LOCK:
+        if not _MKL["checked"]:
+            _MKL["checked"] = True
+            _MKL["ready"] = _load_mkl()
+        return _MKL["ready"]
+
+
+def mkl_status() -> str:
+    """One line: whether MKL Pardiso is used for large programs, and if not, why."""
+    return "MKL Pardiso for large programs" if mkl_ready() else f"qdldl only ({_MKL['why']})"
+
+
+def _load_mkl() -> bool:
+    import glob
+    import os
+    import sys
+
+    folders = [os.environ.get("MKL_PARDISO_PATH", ""), os.path.join(sys.prefix, "lib")]
+    found = [f for f in folders if f and glob.glob(os.path.join(f, "libmkl_rt.so*"))]
+    if not found:
+        _MKL["why"] = "the mkl package is not installed: pip install 'bearbound[mkl]'"
+        return False
+    folder = found[0]
+    if not os.path.exists(os.path.join(folder, "libmkl_rt.so")):
+        folder = _linked_mkl_folder(folder)
+    os.environ["MKL_PARDISO_PATH"] = folder
+    os.environ["MKL_THREADING_LAYER"] = MKL_THREADING
+    try:  # a 2 x 2 program that both linear solvers must solve alike
+        import clarabel
+        A = sp.csc_matrix(np.array([[1.0, 1.0], [-1.0, 0.0], [0.0, -1.0]]))
+        answers = []
+        for method in ("mkl", "qdldl"):
+            settings = clarabel.DefaultSettings()
+            settings.verbose, settings.direct_solve_method = False, method
+            cones = [clarabel.ZeroConeT(1), clarabel.NonnegativeConeT(2)]
+            result = clarabel.DefaultSolver(sp.csc_matrix((2, 2)), np.array([1.0, 2.0]), A,
+                                            np.array([1.0, 0.0, 0.0]), cones, settings).solve()
+            answers.append((str(result.status), np.asarray(result.x)))
+    except Exception as error:  # Clarabel refuses the setting: MKL not found or not built in
+        _MKL["why"] = f"Clarabel could not load MKL: {' '.join(str(error).split())}"
+        return False
+    (status_mkl, x_mkl), (status_qdldl, x_qdldl) = answers
+    if status_mkl != "Solved" or not np.allclose(x_mkl, x_qdldl, atol=1e-6):
+        _MKL["why"] = f"MKL Pardiso gave a wrong answer on a test program ({status_mkl})"
+        return False
+    _MKL["folder"] = folder
+    return True
+
+
+def _linked_mkl_folder(folder: str) -> str:
+    """A private folder of links to the shared libraries of ``folder`` (MKL's and the
+    threading runtimes it may load), with libmkl_rt.so among them; removed when the process
+    ends (the libraries stay loaded)."""
+    import atexit
+    import glob
+    import os
+    import shutil
+    import tempfile
+
+    links = tempfile.mkdtemp(prefix="bearbound-mkl-")
+    atexit.register(shutil.rmtree, links, ignore_errors=True)
+    for path in glob.glob(os.path.join(folder, "lib*.so*")):  # MKL's own and the threading runtimes
+        os.symlink(path, os.path.join(links, os.path.basename(path)))
+    real = sorted(glob.glob(os.path.join(folder, "libmkl_rt.so.*")))[0]
+    os.symlink(real, os.path.join(links, "libmkl_rt.so"))
+    return links
+
+
+def linear_solver_for(program: ConicProgram, overrides: dict) -> str:
+    """Clarabel's KKT solver for a program: the caller's choice if it made one, else MKL
+    Pardiso for a lower bound from MKL_FROM_KKT on when it loads (mkl_ready), else qdldl.
+
+    The upper bound stays with qdldl: on N_gamma (phi 30, 16k triangles) MKL took 30
+    iterations and 21 s against qdldl's 26 and 15 s, and its flow-rule residual was
+    7.9e-7 against 0 (the certificate allows 1e-6; with Pardiso's default refinement
+    3.3e-6, withheld), although on Prandtl's case at 20k it was 1.4-2.2 times as fast."""
+    if "direct_solve_method" in overrides:
+        if overrides["direct_solve_method"] == "mkl" and not mkl_ready():
+            raise ValueError(f"direct_solve_method 'mkl': MKL Pardiso is not available ({_MKL['why']})")
+        return overrides["direct_solve_method"]
+    if program.kind == "lower" and program.n_variables + program.n_rows >= MKL_FROM_KKT and mkl_ready():
+        return "mkl"
+    return "qdldl"
+
+
+def stronger_settings(program: ConicProgram) -> dict | None:
+    """Settings for a second solve when the first one's certificate failed on residuals the
+    solver left (None: nothing stronger to try). Measured on 100 random layered cases at 400
+    triangles (benchmarks/random_layered.py): 6 upper bounds ended "almost solved" with
+    flow-rule residuals of 1.6e-6 to 7.6e-6; solved again with the lower bound's static
+    regularisation all 6 ended "solved", residuals 2e-9 to 2.4e-7. Not the default for the
+    upper bound: it is only needed by a few, and each extra solve costs what the first did."""
+    if default_settings(program).get("static_regularization_constant") == STRONG_REGULARISATION:
+        return None
+    return {"static_regularization_constant": STRONG_REGULARISATION}
+
+
 def _solve_clarabel(program: ConicProgram, verbose: bool, overrides: dict) -> Solution:
+    """Solve with Clarabel; a solve with MKL Pardiso that ends in trouble is solved again
+    with qdldl, and the Solution says so (a wrong factorisation is trouble, never a number:
+    every bound is certified afterwards either way)."""
+    method = linear_solver_for(program, overrides)
+    solution = _solve_clarabel_with(program, verbose, {**overrides, "direct_solve_method": method})
+    if method == "mkl" and solution.status not in ("optimal", "almost optimal", "infeasible", "unbounded"):
+        again = _solve_clarabel_with(program, verbose, {**overrides, "direct_solve_method": "qdldl"})
+        again.solve_s += solution.solve_s
+        again.linear_solver = f"mkl, then qdldl (mkl: {solution.status} after {solution.iterations} iterations)"
+        return again
+    return solution
+
+
+def _solve_clarabel_with(program: ConicProgram, verbose: bool, overrides: dict) -> Solution:
     import clarabel
 
     settings = clarabel.DefaultSettings()
     settings.verbose = verbose
     for key, value in {**default_settings(program), **overrides}.items():
         setattr(settings, key, value)
+    if settings.direct_solve_method == "mkl":
+        iparm = list(settings.pardiso_iparm)
+        for index, value in MKL_IPARM.items():
+            iparm[index] = value
+        settings.pardiso_iparm = iparm
     n = program.n_variables
     P = sp.csc_matrix((n, n))
     cones = [clarabel.ZeroConeT(program.n_zero)] if program.n_zero else []
@@ -201,8 +357,9 @@ def _solve_clarabel(program: ConicProgram, verbose: bool, overrides: dict) -> So
     x = np.asarray(result.x) if status in ("optimal", "almost optimal", "iteration limit",
                                            "insufficient progress", "numerical trouble") else None
     objective = float(program.c @ x + program.objective_constant) if x is not None else None
+    ray = np.asarray(result.x) if status == "unbounded" else None  # Clarabel's certificate of it
     return Solution(x=x, status=status, objective=objective, iterations=int(result.iterations),
-                    solve_s=elapsed, backend="clarabel")
+                    solve_s=elapsed, backend="clarabel", linear_solver=settings.direct_solve_method, ray=ray)
 
 
 def _solve_cvxpy(program: ConicProgram, verbose: bool, overrides: dict) -> Solution:

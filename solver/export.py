@@ -26,11 +26,15 @@ from pathlib import Path
 
 import numpy as np
 
+from .case import CaseError, open_regular, shown
+
 LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
 PICTURE_NAMES = ("model", "mechanism", "stress")
 OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
     f"{name}.{ext}" for name in PICTURE_NAMES for ext in ("png", "svg"))  # the case file must be none of these
+SITE_COPY = "site"  # a drawn site's file is copied as site.geo / site.msh
+RUN_FILES = OUTPUT_NAMES + (CASE_COPY, f"{SITE_COPY}.geo", f"{SITE_COPY}.msh")  # every file a run writes
 
 
 @dataclass
@@ -131,6 +135,12 @@ def outputs_overwriting(case_path: Path, out_dir: Path) -> Path | None:
     return None
 
 
+def read_regular_bytes(path: Path) -> bytes:
+    """A file's bytes, refusing a FIFO, device or socket put in its place (it would block)."""
+    with open_regular(path) as stream:
+        return stream.read()
+
+
 def save_case_copy(case_path: Path, sha256: str, out_dir: Path) -> Path:
     """Copy the case file's bytes to out_dir/case.toml, after checking they still hash to
     ``sha256`` (the file read for the run). The case file itself is never written: when
@@ -141,14 +151,11 @@ def save_case_copy(case_path: Path, sha256: str, out_dir: Path) -> Path:
     source = Path(case_path)
     if target.exists() and os.path.samefile(target, source):
         return target
-    data = source.read_bytes()
+    data = read_regular_bytes(source)
     if hashlib.sha256(data).hexdigest() != sha256:
-        raise RuntimeError(f"{source}: the case file changed during the run; not copied")
+        raise CaseError(f"{shown(source, 200)}: the case file changed during the run; run the case again")
     write_bytes_atomic(target, data)
     return target
-
-
-SITE_COPY = "site"  # a drawn site's file is copied as site.geo / site.msh
 
 
 def save_site_copy(geometry, out_dir: Path) -> Path | None:
@@ -159,9 +166,9 @@ def save_site_copy(geometry, out_dir: Path) -> Path | None:
     if geometry is None:
         return None
     source = Path(geometry.file)
-    data = source.read_bytes()
+    data = read_regular_bytes(source)
     if hashlib.sha256(data).hexdigest() != geometry.sha256:
-        raise RuntimeError(f"{source}: the site file changed during the run; not copied")
+        raise CaseError(f"{shown(source, 200)}: the site file changed during the run; run the case again")
     target = Path(out_dir) / (SITE_COPY + source.suffix.lower())
     write_bytes_atomic(target, data)
     return target

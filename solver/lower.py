@@ -96,18 +96,7 @@ def _cones(cone: _Rows, stress: np.ndarray, c: np.ndarray, phi: np.ndarray) -> N
     """Mohr-Coulomb cone ||(sx - sy, 2 txy)|| <= 2 c cos(phi) - (sx + sy) sin(phi) on
     stress triples (n, 3), as s = b - A x in SOC_3. With c the rate of cohesion
     along a direction, the same cone is the recession condition of a linear field."""
-    n = len(stress)
-    rhs = np.zeros((n, 3))
-    rhs[:, 0] = 2.0 * c * np.cos(phi)
-    r = cone.count + 3 * np.arange(n)
-    cone.count += 3 * n
-    cone.rhs.append(rhs.ravel())
-    sin = np.sin(phi)
-    cone.add(r, stress[:, SX], sin)
-    cone.add(r, stress[:, SY], sin)
-    cone.add(r + 1, stress[:, SX], -1.0)
-    cone.add(r + 1, stress[:, SY], 1.0)
-    cone.add(r + 2, stress[:, TXY], -2.0)
+    _band_cone(cone, [(stress, np.ones(len(stress)))], c, phi)
 
 
 def _equilibrium(eq: _Rows, d_dx: list, d_dy: list, gamma: np.ndarray, scale: np.ndarray) -> None:
@@ -262,6 +251,96 @@ def _yield(cone: _Rows, stress: np.ndarray, c, phi) -> list:
             (stress[apex], np.tile([0.0, 0.0, 1.0], (n, 1)), zero)]
 
 
+def deep_strata(case: Case, mesh: Mesh) -> list[int]:
+    """Indices (into Case.strata()) of the strata below the model base, top first; empty
+    when the model's last stratum runs on to infinity (or for a drawn site)."""
+    if case.geometry is not None:
+        return []
+    first = len(mesh.domain.interfaces) + 1  # the mesh holds strata 0 .. len(interfaces)
+    return list(range(first, len(case.strata())))
+
+
+def _deep_strata_cones(eq: _Rows, cone: _Rows, mat: dict, deep: list[int], model_depth: float, B: float,
+                       points: list[tuple[np.ndarray, np.ndarray]], downward: list[np.ndarray],
+                       sideways: np.ndarray) -> None:
+    """Yield below the model base, where the strata ``deep`` lie (a water table or layer
+    interfaces deeper than any mechanism reaches).
+
+    Below the base, the extension elements' fields are linear in the depth s below it,
+    sigma = sigma_0 + s G (``points``: pairs of triples of variables, sigma_0 a point on the
+    base and G its downward rate, each rate once in ``downward``), in equilibrium with the
+    weight gamma_0 of the model's last stratum. The ground's own weight gamma(s) differs
+    below, so the field there is
+    sigma + tau(s) with tau = (t, t, 0), t(s) = integral from 0 to s of (gamma_0 - gamma):
+    an isotropic stress depending on depth alone, in equilibrium with the weight
+    difference, continuous in traction across every horizontal interface and every
+    vertical ray between the elements (all carry the same tau), and free of shear on a
+    symmetry line. On each band of one stratum the field is linear in s, so yield at both
+    ends of the band (in that stratum's cone, with its strength there) gives yield on the
+    whole band; on the last band, yield at its top and the recession condition on
+    G + (b, b, 0), b = gamma_0 - gamma_last, give it to infinity. A corner's sideways rate
+    (``sideways``) meets every stratum's recession condition (the strength does not
+    change sideways). Each cone is divided by 1 + H/B (H the depth of its point below the
+    base), which keeps its entries of order one at any depth.
+    """
+    strata = [deep[0] - 1] + deep  # the model's last stratum, then those below the base
+    levels = [0.0] + [max(mat["top"][k] - model_depth, 0.0) for k in deep]  # band tops, m below the base
+    gamma0 = mat["gamma"][strata[0]]
+
+    def shift(level: float) -> float:
+        """t(level) / (1 + level / B), band by band so that no term overflows."""
+        return sum((gamma0 - mat["gamma"][k]) * ((min(level, end) - start) / (1.0 + level / B))
+                   for k, start, end in zip(strata, levels, levels[1:] + [np.inf]) if level > start)
+
+    for j, k in enumerate(strata):
+        ends = levels[j:j + 2] if j > 0 else levels[1:2]  # the base itself: the elements' own cones
+        phi, gradient = mat["phi"][k], mat["c_gradient"][k]
+        for level in ends:
+            weight = 1.0 / (1.0 + level / B)
+            c = weight * mat["c_top"][k] + gradient * ((level + model_depth - mat["top"][k]) * weight)
+            for point, down in points:
+                n = len(point)
+                _band_cone(cone, [(point, np.full(n, weight)), (down, np.full(n, level * weight))],
+                           c, phi, shift(level), eq)
+        if j > 0:  # the model's own stratum: the corner's own cones
+            _band_cone(cone, [(sideways, np.ones(len(sideways)))], 0.0, phi, 0.0, eq)
+    last = strata[-1]
+    for down in downward:
+        _band_cone(cone, [(down, np.ones(len(down)))], mat["c_gradient"][last], mat["phi"][last],
+                   gamma0 - mat["gamma"][last], eq)
+
+
+def _band_cone(cone: _Rows, terms: list, c, phi, mean: float = 0.0, eq: _Rows | None = None) -> None:
+    """The yield cone of :func:`_cones` on the stress sum(weight * triple) + (mean, mean, 0)
+    (``terms``: (triples (n, 3), weights (n,)); c, phi per row or one for all). Given
+    ``eq``, a cone with c = 0 and phi = 0 everywhere, which has no interior, is written as
+    the equalities it means instead (see _yield)."""
+    n = len(terms[0][0])
+    if n == 0:
+        return
+    c = np.broadcast_to(np.asarray(c, float), (n,))
+    phi = np.broadcast_to(np.asarray(phi, float), (n,))
+    if eq is not None and np.all(phi == 0.0) and np.all(c == 0.0):
+        for components, signs in (((SX, SY), (1.0, -1.0)), ((TXY,), (1.0,))):
+            r = eq.block(n)
+            for triple, weight in terms:
+                for comp, sign in zip(components, signs):
+                    eq.add(r, triple[:, comp], sign * weight)
+        return
+    rhs = np.zeros((n, 3))
+    rhs[:, 0] = 2.0 * c * np.cos(phi) - 2.0 * mean * np.sin(phi)
+    r = cone.count + 3 * np.arange(n)
+    cone.count += 3 * n
+    cone.rhs.append(rhs.ravel())
+    sin = np.sin(phi)
+    for triple, weight in terms:
+        cone.add(r, triple[:, SX], sin * weight)
+        cone.add(r, triple[:, SY], sin * weight)
+        cone.add(r + 1, triple[:, SX], -weight)
+        cone.add(r + 1, triple[:, SY], weight)
+        cone.add(r + 2, triple[:, TXY], -2.0 * weight)
+
+
 def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q) -> dict:
     """Semi-infinite strips on every far-boundary edge and quarter planes at the corners.
 
@@ -290,9 +369,12 @@ def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q)
     _continuity(eq, stress[e, (k + 1) % 3], strip[:, 1], d)
     depth_rate = -d[:, 1]  # m of depth per m along d
     g = mat["c_gradient"][layer]
+    deep = deep_strata(case, mesh)
+    # a base strip's rate reaches the strata below the model, if any: deep_strata_cones
+    down = (mesh.boundary_kind[far] == FAR_BASE) & bool(deep)
     cones = [(strip[:, 0], node_cohesion(mat, layer, -mesh.points[P, 1]), phi),
              (strip[:, 1], node_cohesion(mat, layer, -mesh.points[Q, 1]), phi),
-             (strip[:, 2], g * depth_rate, phi)]
+             (strip[~down, 2], (g * depth_rate)[~down], phi[~down])]
 
     # Strip ends: pair ends sharing a node; parallel strips meet along a ray,
     # perpendicular ones at a corner; an unpaired end lies on the ground or the symmetry line.
@@ -324,9 +406,20 @@ def _extension_elements(case, mesh, mat, stress, n_var, eq, cone, prescribed, q)
     _equilibrium(eq, [(corner[:, 1], d1[:, 0]), (corner[:, 2], d2[:, 0])],
                  [(corner[:, 1], d1[:, 1]), (corner[:, 2], d2[:, 1])], mat["gamma"][c_layer], np.ones(n_c))
     c_node = node[a][~parallel]
-    cones += [(corner[:, 0], node_cohesion(mat, c_layer, -mesh.points[c_node, 1]), mat["phi"][c_layer]),
-              (corner[:, 1], mat["c_gradient"][c_layer] * -d1[:, 1], mat["phi"][c_layer]),
-              (corner[:, 2], mat["c_gradient"][c_layer] * -d2[:, 1], mat["phi"][c_layer])]
+    c_phi = mat["phi"][c_layer]
+    cones += [(corner[:, 0], node_cohesion(mat, c_layer, -mesh.points[c_node, 1]), c_phi)]
+    for rate, direction in ((corner[:, 1], d1), (corner[:, 2], d2)):
+        keep = ~(np.isclose(direction[:, 1], -1.0) & bool(deep))  # the downward rate: deep_strata_cones
+        cones.append((rate[keep], (mat["c_gradient"][c_layer] * -direction[:, 1])[keep], c_phi[keep]))
+    if deep:
+        # base strips: their two ends and downward rate; corners: their point, downward
+        # and sideways rates (each corner has one strip of each direction)
+        first_down = np.isclose(d1[:, 1], -1.0)[:, None]
+        base_rate = strip[down, 2]
+        corner_down = np.where(first_down, corner[:, 1], corner[:, 2])
+        _deep_strata_cones(eq, cone, mat, deep, mesh.domain.depth, mesh.footing_width,
+                           [(strip[down, 0], base_rate), (strip[down, 1], base_rate), (corner[:, 0], corner_down)],
+                           [base_rate, corner_down], np.where(first_down, corner[:, 2], corner[:, 1]))
 
     loose = ~paired
     s_id, s_end, s_node = owner[loose], which[loose], node[loose]

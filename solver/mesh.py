@@ -12,13 +12,15 @@ structured fan of triangles centred on each footing edge (:class:`FanLayout`).
 """
 from __future__ import annotations
 
+import contextlib
+import dataclasses
 import math
 import threading
 from dataclasses import dataclass
 
 import numpy as np
 
-from .model import Case
+from .model import Case, continues
 
 # Boundary edge kinds (codes in Mesh.boundary_kind).
 FOOTING, GROUND, SYMMETRY, FAR_SIDE, FAR_BASE = range(5)
@@ -78,6 +80,7 @@ class Mesh:
     # (element 1, local edge 1, element 2, local edge 2); their nodes are split,
     # each side has its own (see open_velocity_jumps). None: a continuous mesh.
     jumps: np.ndarray | None = None
+    fan: bool = False  # a fan of triangles round each footing edge (FanLayout)
 
     @property
     def order(self) -> int:
@@ -231,37 +234,39 @@ def is_symmetric(case: Case) -> bool:
 
 
 def plan_domain(case: Case, half: bool | None = None) -> Domain:
-    """Size the domain from B and the strongest friction angle below the base.
+    """Size the domain from the strata's strengths and the collapse mechanisms they allow.
 
-    The collapse zone is estimated from the Prandtl-Reissner mechanism
-    (active wedge, log-spiral fan, passive wedge; common practice):
-    r0 = B / (2 cos(45 + phi/2)), r1 = r0 exp(pi/2 tan phi), surface extent
-    beyond the edge 2 r1 cos(45 - phi/2), depth at most r1. The domain is made
-    twice that plus B so that neither bound is restricted by its boundary; the
-    result reports whether the upper-bound mechanism stayed clear of it.
-    A drawn site ([geometry] file) has the extent of its drawing (solver.sitefile).
+    Each candidate mechanism is a Prandtl-Reissner one (active wedge, log-spiral
+    fan, passive wedge; common practice) under an equivalent footing of width b
+    on top of one stratum, at its depth d: r0 = b / (2 cos(45 + phi/2)),
+    r1 = r0 exp(pi/2 tan phi); it reaches 2 r1 cos(45 - phi/2) beyond the
+    equivalent footing's edge and r1 below it (:func:`mechanism_candidates`).
+    The domain is twice the union of the candidates plus B, so that neither
+    bound is restricted by its boundary; it holds every interface between
+    strata that differ (below the mesh, the lower bound's extension elements
+    carry the last stratum only). The run checks afterwards whether either
+    bound's field reaches the edge and grows the domain if it does
+    (:func:`grow_domain`, solver.analysis).
+
+    ``[analysis] model_width`` and ``model_depth`` (m), when given, replace the
+    planned extent (the footing centred in the given width); such a domain
+    does not grow. A drawn site ([geometry] file) has the extent of its drawing
+    (solver.sitefile).
     """
     if case.geometry is not None:
         from .sitefile import plan_site_domain
         return plan_site_domain(case)
     B = case.footing.width
-    strata = case.strata()
-    phi = max(s.phi_rad for s in strata)
-    r0 = B / (2.0 * math.cos(math.pi / 4 + phi / 2))
-    r1 = r0 * math.exp(math.pi / 2 * math.tan(phi))
-    width = 2.0 * r1 * math.cos(math.pi / 4 - phi / 2)
-    depth = r1
-    # Every interface (layers and the water table) lies inside the mesh: below
-    # it, the lower bound's extension elements carry the last stratum only.
-    interfaces = tuple(s.bottom for s in strata[:-1])
-    # A weak layer under a strong crust draws the mechanism down: reach past
-    # the deepest interface within the estimated zone (punching, common practice).
-    interfaces_near = [d for d in interfaces if d < 2.0 * depth + B]
-    if interfaces_near:
-        depth = max(depth, max(interfaces_near) + r0)
-        width = max(width, max(interfaces_near) + width)
-    x_max = B / 2 + 2.0 * width + B
-    model_depth = max(2.0 * depth + B, 1.25 * interfaces[-1] if interfaces else 0.0)
+    candidates = mechanism_candidates(case)
+    reach = max(x for x, _ in candidates) - B / 2  # m beyond the footing edge
+    depth = max(d for _, d in candidates)
+    x_max = B / 2 + 2.0 * reach + B
+    # Every interface (layers and the water table) within reach of a mechanism lies inside
+    # the mesh; those below the model are carried by the lower bound's extension elements
+    # (solver.lower.deep_strata), so that a deep water table or a thick layer costs nothing.
+    interfaces = tuple(s.bottom for s in case.strata()[:-1])
+    near = [d for d in case.required_interfaces() if d < 2.0 * depth + B]
+    model_depth = max(2.0 * depth + B, 1.25 * near[-1] if near else 0.0)
     slope = {}
     ground = case.ground
     if ground.slope_angle > 0:
@@ -270,17 +275,124 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
         # footing's zone again, and below it by as much (common practice).
         crest = B / 2 + ground.crest_setback
         toe = crest + ground.slope_height / math.tan(math.radians(ground.slope_angle))
-        x_max = max(x_max, toe + 2.0 * width + B)
+        x_max = max(x_max, toe + 2.0 * reach + B)
         model_depth = max(model_depth, ground.slope_height + 2.0 * depth + B)
         slope = {"crest_x": crest, "toe_x": toe, "slope_height": ground.slope_height}
         half = False
+    # An interface just above the model base would leave a thin band there: put the base
+    # on the shallowest interface within the last fifth of the soil below the toe level instead.
+    floor = model_depth - 0.2 * (model_depth - slope.get("slope_height", 0.0))
+    model_depth = min([d for d in interfaces if floor < d <= model_depth], default=model_depth)
     half = is_symmetric(case) if half is None else half
-    axisymmetric = case.footing.shape == "circular"  # the meridian half-plane r >= 0
-    half = half or axisymmetric
-    x_min = 0.0 if half else -(B / 2 + 2.0 * width + B)
-    return Domain(half=half, x_min=x_min, x_max=x_max, depth=model_depth,
-                  interfaces=interfaces, mechanism_width=width, mechanism_depth=depth,
-                  axisymmetric=axisymmetric, **slope)
+    half = half or case.footing.shape == "circular"  # a circle: the meridian half-plane r >= 0
+    x_min = 0.0 if half else -(B / 2 + 2.0 * reach + B)
+    analysis = case.analysis
+    if analysis.model_width is not None:
+        x_min, x_max = (0.0 if half else -analysis.model_width / 2), analysis.model_width / 2
+    if analysis.model_depth is not None:
+        model_depth = analysis.model_depth
+    return _domain(case, half, x_min, x_max, model_depth, reach, depth, slope)
+
+
+def _domain(case: Case, half: bool, x_min: float, x_max: float, depth: float, reach: float,
+            mechanism_depth: float, slope: dict) -> Domain:
+    """A Domain with the interfaces that lie inside it. A base within 5 % of its depth
+    below an interface is put on the interface: a thinner band under it would only cost
+    small triangles (a grown or user-given depth; the plan places its base the same way)."""
+    below = [s.bottom for s in case.strata()[:-1]]
+    axisymmetric = case.footing.shape == "circular"
+    if axisymmetric:
+        # The circle's far field below the mesh carries the last meshed stratum only
+        # (solver.lower_axisym): every interface between strata that differ lies inside, with
+        # a band of a fifth of its depth under the deepest one.
+        required = case.required_interfaces()
+        depth = max([depth] + [1.25 * d for d in required if d > 0.8 * depth])
+    else:
+        depth = min([d for d in below if 0.95 * depth < d <= depth], default=depth)
+    interfaces = tuple(d for d in below if d < depth)
+    return Domain(half=half, x_min=x_min, x_max=x_max, depth=depth, interfaces=interfaces,
+                  mechanism_width=reach, mechanism_depth=mechanism_depth, axisymmetric=axisymmetric,
+                  **slope)
+
+
+SPREAD = 2.0  # a strong stratum spreads the load onto a weaker one below it by at most this much
+#               sideways per m of depth on each side (the mechanism under a crust 5 times as strong
+#               as the clay below it, H = B, reached about 1.9 m per m; tests/test_domain.py)
+
+
+def mechanism_candidates(case: Case) -> list[tuple[float, float]]:
+    """(x, depth) in m: how far from the footing centre and how deep each plausible
+    collapse mechanism reaches (Prandtl-Reissner extents, :func:`plan_domain`).
+
+    The footing's pressure is estimated from the top stratum alone, q0 (its
+    bearing capacity on a half-space of that stratum, :func:`_capacity_kPa`). A
+    deeper stratum k within reach of the mechanisms above it whose own capacity
+    q_k is lower is a candidate too: the stronger soil above spreads the load
+    onto it, over an equivalent footing of width b_k = B q0 / q_k (the width
+    that carries the footing's load at q_k), at most B + 2 SPREAD d_k. A
+    mechanism that would reach into a weaker stratum is dropped: the weaker
+    stratum's own candidate takes its place (a sand crust's wide mechanism
+    does not form over soft clay). The rough capacities only rank the strata;
+    the run checks the fields afterwards (solver.analysis)."""
+    B = case.footing.width
+    strata = case.strata()
+    overburden = case.overburden_kPa()
+    tops, capacity = [], []
+    for s in strata:
+        tops.append(overburden)
+        capacity.append(_capacity_kPa(s, B, overburden))
+        if math.isfinite(s.bottom):
+            overburden += s.unit_weight * (s.bottom - s.top)
+    q0 = capacity[0]
+    out: list[tuple[float, float, int]] = []
+    reach_depth = 0.0
+    for k, s in enumerate(strata):
+        if k > 0 and (continues(strata[k - 1], s) or s.top >= 2.0 * reach_depth + B or capacity[k] >= q0):
+            continue  # the same soil carried on, out of reach, or no weaker than the top
+        b = B if k == 0 else min(B * q0 / max(capacity[k], 1e-9), B + 2.0 * SPREAD * s.top)
+        r0 = b / (2.0 * math.cos(math.pi / 4 + s.phi_rad / 2))
+        r1 = r0 * math.exp(math.pi / 2 * math.tan(s.phi_rad))
+        x, depth = b / 2 + 2.0 * r1 * math.cos(math.pi / 4 - s.phi_rad / 2), s.top + r1
+        out.append((x, depth, k))
+        reach_depth = max(reach_depth, depth)
+    # a mechanism reaching a weaker stratum's top gives way to that stratum's own
+    kept = [(x, d) for x, d, k in out
+            if not any(j > k and strata[j].top < d and capacity[j] < capacity[k] for _, _, j in out)]
+    return kept or [(x, d) for x, d, _ in out]
+
+
+def _capacity_kPa(stratum, b: float, overburden: float) -> float:
+    """c Nc + p Nq + 0.5 gamma b N_gamma (kPa) of a strip of width b (m) on a half-space
+    of one stratum under an overburden p (kPa), c taken at b/2 below the stratum's
+    top; factors of EN 1997-1 Annex D (solver.hand.bearing_factors). Only to rank strata."""
+    from .hand import bearing_factors
+
+    f = bearing_factors("ec7", math.degrees(stratum.phi_rad))
+    c = stratum.c_top + stratum.c_gradient * b / 2
+    return c * f["Nc"] + overburden * f["Nq"] + 0.5 * stratum.unit_weight * b * f["Ngamma"]
+
+
+GROWTH = 2.0  # a domain whose edge a bound's field reaches grows by this factor that way
+
+
+def grow_domain(case: Case, domain: Domain, edges: set[str]) -> Domain:
+    """The domain made GROWTH times as wide beyond the footing edge toward each side in
+    ``edges`` ("left", "right") and/or GROWTH times as deep ("base"), for a bound whose
+    field reached those edges (solver.analysis)."""
+    B = case.footing.width
+    x_max = B / 2 + GROWTH * (domain.x_max - B / 2) if "right" in edges else domain.x_max
+    x_min = -(B / 2 + GROWTH * (-domain.x_min - B / 2)) if "left" in edges and not domain.half else domain.x_min
+    depth = GROWTH * domain.depth if "base" in edges else domain.depth
+    slope = ({"crest_x": domain.crest_x, "toe_x": domain.toe_x, "slope_height": domain.slope_height}
+             if domain.slope else {})
+    return _domain(case, domain.half, x_min, x_max, depth, domain.mechanism_width, domain.mechanism_depth, slope)
+
+
+def far_edge_names(mesh: Mesh) -> np.ndarray:
+    """(n_b,) name of the far edge each boundary edge lies on: "left", "right", "base" or ""."""
+    midpoint = mesh.points[mesh.boundary_edges[:, :2]].mean(axis=1)
+    side = np.where(midpoint[:, 0] > 0.5 * (mesh.domain.x_min + mesh.domain.x_max), "right", "left")
+    return np.where(mesh.boundary_kind == FAR_BASE, "base", np.where(mesh.boundary_kind == FAR_SIDE, side, ""))
 
 
 # Fan of triangles centred on each footing edge (lower bound). A fan of stress
@@ -295,7 +407,14 @@ FAN_CLEARANCE = 0.9  # a ray fills at most this fraction of its room to the symm
 #                      centre line between two fans, or the far boundary; a fan is a circle of
 #                      this fraction of the first interface's depth (a flat fan squashed under
 #                      a shallow interface gave a 5 % lower bound on a two-layer case)
-FAN_MIN_REACH = 1e-3  # longest ray / B below which no fan is built
+# Longest ray / B below which no fan is built. A fan squashed under a shallow first interface
+# did worse than none: lower bounds at 800 triangles, fan against none, with the fan's reach
+# limited to 0.023 / 0.045 / 0.09 / 0.18 / 0.27 B by a sand crust over a stronger sand:
+# -8 / -5 / -4 / +3 / +6 %; sand over clay -4 / -0.3 / -0.8 / +0.4 / +0.7 %; clay over
+# clay within 0.3 % up to 0.09 B, then +0.6 / +1.1 %; on a weightless cohesionless crust
+# 0.025 B thick under an inclined load the fan's bound was 1e-6 of the unfanned one, every
+# sector meeting the stress-free apex.
+FAN_MIN_REACH = 0.15
 # Without a fan (the upper bound's mesh): h = s (PLAIN_EDGE_SIZE B + PLAIN_GRADING r).
 # Measured on the upper bound at 4k and 8k triangles (Prandtl, exact 2 + pi; and
 # N_gamma at phi = 30, reference 14.75 from memory): (0.02, 0.2) gave +1.13 % / +0.77 %
@@ -453,7 +572,7 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     ``fan`` (default: on for first order, off for second) puts a structured
     fan (:class:`FanLayout`) round each footing edge and meshes the rest with
     h = s (FAN_EDGE_SIZE B + FAN_GRADING r); the fan's rim spacing matches h
-    there. Second-order fan meshes get straight-sided midside nodes. Measured
+    there. Second-order meshes get straight-sided midside nodes (computed here). Measured
     on the Prandtl case (weightless Tresca, exact 2 + pi, Prandtl 1920): the
     fan took the lower bound from -1.2 % to -0.05 % at 2k elements; it did not
     improve the upper bound (+3.3 % against +1.7 % at 2k), hence off for
@@ -485,43 +604,73 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     domain = domain or plan_domain(case)
     target = elements or case.analysis.elements
     B = case.footing.width
-    fan = ((order == 1) if fan is None else fan) and fan_reach(domain, B) > 0
-    scale = math.sqrt((size_hint.estimate_count() if size_hint else _estimate_count(domain, B, fan)) / target)
+    # gmsh (and OpenCASCADE's absolute tolerance of 1e-7) sees the site in units of B, so
+    # meshing does not depend on the footing's size; the points are scaled back at the end.
+    unit = _in_widths(domain, B)
+    check_meshable(unit)
+    hint = None if size_hint is None else SizeHint(size_hint.points / B, size_hint.triangles, size_hint.size / B)
+    fan = ((order == 1) if fan is None else fan) and fan_reach(unit, 1.0) > 0
+    scale = math.sqrt((hint.estimate_count() if hint else _estimate_count(unit, 1.0, fan)) / target)
     layout = None
     with _GMSH_LOCK:
         gmsh = _start_gmsh()
         try:
             tried = {}  # scale -> relative miss of the element count
             for attempt in range(6):
-                layout = _fan_layout(domain, B, scale) if fan else None
-                rim = _draw(gmsh, domain, B, layout)
-                count = _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                layout = _fan_layout(unit, 1.0, scale) if fan else None
+                rim = _draw(gmsh, unit, 1.0, layout)
+                count = _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                 count += layout.n_elements if layout else 0
                 tried[scale] = abs(count / target - 1.0)
                 if tried[scale] < 0.05:
                     break
                 if attempt == 5:  # not converged (small targets): keep the closest
                     scale = min(tried, key=tried.get)
-                    layout = _fan_layout(domain, B, scale) if fan else None
-                    rim = _draw(gmsh, domain, B, layout)
-                    _mesh_once(gmsh, domain, B, scale, 1, layout, size_hint)
+                    layout = _fan_layout(unit, 1.0, scale) if fan else None
+                    rim = _draw(gmsh, unit, 1.0, layout)
+                    _mesh_once(gmsh, unit, 1.0, scale, layout, hint)
                     break
                 scale *= math.sqrt(count / target)
-            gmsh_order = 1 if fan else order
-            if gmsh_order == 2:
-                gmsh.model.mesh.setOrder(2)
-            points, triangles, index = _read_triangles(gmsh, gmsh_order)
+            points, triangles, index = _read_triangles(gmsh)
             if layout:
                 rim_nodes = index[_point_nodes(gmsh, rim)]
         finally:
             gmsh.finalize()
     if layout:
         points, triangles = _add_fans(points, triangles, layout, rim_nodes)
-        if order == 2:
-            points, triangles = _second_order(points, triangles)
-    if order == 1:
+    if order == 2:
+        # midside nodes computed here rather than by gmsh's setOrder, which on a long, thin
+        # domain failed to place them and then crashed the process in gmsh.finalize
+        points, triangles = _second_order(points, triangles)
+    else:
         points, triangles = _split_corner_triangles(points, triangles)
-    return _assemble_mesh(points, triangles, domain, case)
+    return dataclasses.replace(_assemble_mesh(points * B, triangles, domain, case), fan=layout is not None)
+
+
+MESHABLE_EXTENT = 1e5  # B: the largest domain the mesher is asked for (a case file reaches 6000 B)
+MESHABLE_BAND = 1e-4  # B: the thinnest band between interfaces (a case file's thinnest is 0.001 B)
+
+
+def check_meshable(unit: Domain) -> None:
+    """Refuse (ValueError) a domain, in units of B, that gmsh cannot mesh soundly: the case
+    check keeps every case file inside these limits; this guards the other ways in."""
+    levels = (0.0, *unit.interfaces, unit.depth)
+    sizes = (unit.x_min, unit.x_max, unit.depth, *unit.interfaces, unit.mechanism_width, unit.mechanism_depth,
+             *((unit.crest_x, unit.toe_x, unit.slope_height) if unit.slope else ()))
+    if not all(math.isfinite(v) for v in sizes):
+        raise ValueError(f"mesh: the domain is not finite ({unit})")
+    if max(unit.x_max - unit.x_min, unit.depth) > MESHABLE_EXTENT:
+        raise ValueError(f"mesh: the domain is {max(unit.x_max - unit.x_min, unit.depth):.3g} footing widths across; "
+                         f"the mesher is asked for at most {MESHABLE_EXTENT:g}")
+    if min(b - a for a, b in zip(levels, levels[1:])) < MESHABLE_BAND:
+        raise ValueError(f"mesh: a band between interfaces is thinner than {MESHABLE_BAND:g} footing widths")
+
+
+def _in_widths(domain: Domain, B: float) -> Domain:
+    """The same domain with every length divided by B."""
+    scaled = {key: (None if value is None else value / B)
+              for key, value in vars(domain).items() if key not in ("half", "interfaces")}
+    return Domain(half=domain.half, interfaces=tuple(d / B for d in domain.interfaces), **scaled)
 
 
 def _split_corner_triangles(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -575,10 +724,42 @@ def _size(r, B: float, domain: Domain, edge_size: float | None = None, grading: 
 def _start_gmsh():
     import gmsh
     # readConfigFiles/interruptible off: works off the main thread and in workers.
-    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    with _signal_actions_kept():
+        gmsh.initialize(readConfigFiles=False, interruptible=False)
     gmsh.option.setNumber("General.Terminal", 0)
     gmsh.option.setNumber("General.Verbosity", 0)
     return gmsh
+
+
+# gmsh.initialize resets signal actions to the default (measured: SIGTERM, SIGHUP and
+# SIGPIPE), which would kill the process mid-write on a SIGTERM that the command line
+# handles as a Ctrl-C, or on a closed pipe that Python reports as BrokenPipeError. Every
+# catchable signal's action is put back, not only those measured.
+_UNCATCHABLE = ("SIGKILL", "SIGSTOP")
+
+
+@contextlib.contextmanager
+def _signal_actions_kept():
+    """Put back the process's signal actions after the block, at the C level (sigaction),
+    so that it works from any thread, not only Python's main one."""
+    import ctypes
+    import signal
+
+    try:
+        sigaction = ctypes.CDLL(None, use_errno=True).sigaction
+    except (AttributeError, OSError):  # no C library sigaction: nothing to keep
+        yield
+        return
+    skip = {int(getattr(signal, name)) for name in _UNCATCHABLE if hasattr(signal, name)}
+    numbers = [int(number) for number in signal.valid_signals() if int(number) not in skip]
+    saved = {number: ctypes.create_string_buffer(512) for number in numbers}  # > sizeof(struct sigaction)
+    for number, buffer in saved.items():
+        sigaction(number, None, buffer)
+    try:
+        yield
+    finally:
+        for number, buffer in saved.items():
+            sigaction(number, buffer, None)
 
 
 def _draw(gmsh, domain: Domain, B: float, layout: FanLayout | None = None) -> np.ndarray | None:
@@ -663,8 +844,9 @@ def _embed_crest_points(gmsh, domain: Domain, B: float) -> None:
                 break
 
 
-def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
+def _mesh_once(gmsh, domain: Domain, B: float, scale: float,
                layout: FanLayout | None = None, size_hint: SizeHint | None = None) -> int:
+    """Mesh the drawn domain with first-order triangles; returns their number."""
     mesh = gmsh.model.mesh
     mesh.clear()
     for tag in mesh.field.list():
@@ -695,8 +877,6 @@ def _mesh_once(gmsh, domain: Domain, B: float, scale: float, order: int,
     gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay: well-shaped triangles
     gmsh.option.setNumber("Mesh.ElementOrder", 1)
     mesh.generate(2)
-    if order == 2:
-        mesh.setOrder(2)
     types, tags, _ = mesh.getElements(2)
     return int(sum(len(t) for t in tags))
 
@@ -742,15 +922,14 @@ def _second_order(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray
     return np.concatenate([points, mid]), np.column_stack([triangles, midside])
 
 
-def _read_triangles(gmsh, order: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Points (n, 2) m, triangles (rows of points) and the gmsh node tag -> row map."""
+def _read_triangles(gmsh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Points (n, 2), 3-node triangles (rows of points) and the gmsh node tag -> row map."""
     node_tags, coords, _ = gmsh.model.mesh.getNodes()
     points = coords.reshape(-1, 3)[:, :2]
     index = np.full(int(node_tags.max()) + 1, -1, dtype=np.int64)
     index[node_tags.astype(np.int64)] = np.arange(len(node_tags))
-    element_type = 2 if order == 1 else 9  # gmsh: 3-node and 6-node triangles
-    _, nodes = gmsh.model.mesh.getElementsByType(element_type)
-    triangles = index[nodes.astype(np.int64)].reshape(-1, 3 * order)
+    _, nodes = gmsh.model.mesh.getElementsByType(2)  # gmsh: 3-node triangles
+    triangles = index[nodes.astype(np.int64)].reshape(-1, 3)
     return points.copy(), triangles, index
 
 

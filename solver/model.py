@@ -126,14 +126,21 @@ class Factors:
 @dataclass(frozen=True)
 class Analysis:
     bounds: str = "both"  # "lower" | "upper" | "both"
-    elements: int = 4000  # target number of triangles in each bound's mesh
+    elements: int = 4000  # target number of triangles in each bound's mesh (adaptive: the first step's)
     backend: str = "clarabel"  # "clarabel" (its own API) | "cvxpy" (through cvxpy)
-    target_gap: float | None = None  # adaptive refinement until (upper - lower)/lower <= this (fraction)
-    max_steps: int = 6  # adaptive refinement: at most this many solve steps
-    time_limit_s: float = 600.0  # adaptive refinement: no new step that would end after this
+    mesh: str = "adaptive"  # "adaptive": refine until target_gap or time_limit_s | "fixed": one mesh per bound
+    target_gap: float = 0.01  # adaptive refinement until (upper - lower)/lower <= this (fraction)
+    max_steps: int = 8  # adaptive refinement: at most this many solve steps
+    time_limit_s: float = 60.0  # adaptive refinement: no new step that would end after this
     # upper bound: velocity jumps across "all" interior edges, or "none" (measured: at equal solve
     # time the continuous field on a finer mesh was as tight or tighter; DEVELOPERS.md)
     velocity_jumps: str = "none"
+    model_width: float | None = None  # m, the model's whole width, footing centred; None: planned (mesh.plan_domain)
+    model_depth: float | None = None  # m below the footing base; None: planned
+
+    @property
+    def adaptive(self) -> bool:
+        return self.mesh == "adaptive"
 
 
 @dataclass(frozen=True)
@@ -156,6 +163,16 @@ class Stratum:
     phi_rad: float
     unit_weight: float
     submerged: bool
+
+
+def continues(above: Stratum, below: Stratum) -> bool:
+    """Whether ``below`` is the same soil as ``above`` carried on down: the same friction
+    angle, effective unit weight and strength gradient, and the same strength on both
+    sides of the interface (a layer the case file splits in two)."""
+    return (math.isclose(above.phi_rad, below.phi_rad) and math.isclose(above.unit_weight, below.unit_weight)
+            and math.isclose(above.c_gradient, below.c_gradient)
+            and math.isclose(above.c_top + above.c_gradient * (above.bottom - above.top), below.c_top,
+                             abs_tol=1e-12))
 
 
 @dataclass(frozen=True)
@@ -266,9 +283,12 @@ class Case:
                                                                      self.geometry.layer_bottoms))]
         water = self.water_depth_below_base()
         out = []
+        tops = self.layer_tops()
         for index, layer in enumerate(self.layers):
-            top_in_file = self.layer_tops()[index]
-            bottom_in_file = top_in_file + (layer.thickness if layer.thickness is not None else math.inf)
+            top_in_file = tops[index]
+            # the last layer runs on below the model, whatever thickness it was given
+            last = index == len(self.layers) - 1
+            bottom_in_file = math.inf if last or layer.thickness is None else top_in_file + layer.thickness
             top = max(top_in_file - self.footing.embedment, 0.0)
             bottom = bottom_in_file - self.footing.embedment
             if bottom <= 0.0:
@@ -286,6 +306,14 @@ class Case:
                                        factor * layer.c_gradient_kPa_per_m, phi,
                                        wet_weight if wet else layer.unit_weight, wet))
         return out
+
+    def required_interfaces(self) -> list[float]:
+        """Depths (m below the base) of the interfaces between strata that differ: the
+        model must hold these (below the mesh, the lower bound's extension elements
+        carry the last stratum only). An interface where the soil goes on unchanged
+        (:func:`continues`: a layer the case file splits in two) need not be inside."""
+        strata = self.strata()
+        return [a.bottom for a, b in zip(strata, strata[1:]) if not continues(a, b)]
 
     @property
     def is_weightless(self) -> bool:

@@ -27,9 +27,12 @@ drawing has no global state.
 """
 from __future__ import annotations
 
+import contextlib
 import io
 import math
 import textwrap
+import warnings
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -1115,11 +1118,24 @@ def convergence_figure(rows: list[tuple[int, float | None, float | None, float]]
 
 # -- writing ------------------------------------------------------------------------
 
+# matplotlib warns once per character its font lacks (a title in Chinese, an emoji in a
+# layer name); the picture shows a box there and the report gives the text exactly, so the
+# warning says nothing a user can act on. Only this warning is silenced, only while drawing.
+MISSING_GLYPH = r"Glyph \d+ .*missing from"
+
+
+@contextlib.contextmanager
+def missing_glyphs_quiet() -> Iterator[None]:
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=MISSING_GLYPH, category=UserWarning)
+        yield
+
+
 def figure_bytes(fig: Figure, fmt: str) -> bytes:
     """PNG or SVG bytes of a figure, without a date (a rerun writes the same file)."""
     buffer = io.BytesIO()
     metadata = {"Date": None} if fmt == "svg" else {"Software": None}
-    with rc_context(STYLE):
+    with rc_context(STYLE), missing_glyphs_quiet():
         fig.savefig(buffer, format=fmt, dpi=PNG_DPI, metadata=metadata, facecolor="white")
     return buffer.getvalue()
 

@@ -18,11 +18,11 @@ import math
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from .case import CaseError
-from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, save_case_copy, save_site_copy,
-                     write_bytes_atomic, write_fields_vtu, write_summary_csv)
+from .case import CaseError, shown
+from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
+                     save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
-from .result import CAUTION
+from .result import CAUTION, figure, refinement_line
 
 REPORT_FILE = "report.html"
 
@@ -51,7 +51,7 @@ def _load_case_copy(case_path: Path, out_dir: Path):
     from .case import parse_case
     from .export import SITE_COPY
 
-    raw = case_path.read_bytes()
+    raw = read_regular_bytes(case_path)
     data = tomllib.loads(raw.decode("utf-8-sig"))
     site = sorted(out_dir.glob(SITE_COPY + ".*"))
     if isinstance(data.get("geometry"), dict) and site:
@@ -68,30 +68,36 @@ def load_run(out_dir: Path) -> Run:
     """
     out_dir = Path(out_dir)
     if not out_dir.is_dir():
-        raise ReportError(f"{out_dir}: no such folder; give the output folder of a finished run (out/<case>)")
+        raise ReportError(f"{shown(out_dir, 200)}: no such folder; give the output folder of a finished run "
+                          "(out/<case>)")
     result_path = out_dir / "result.json"
     try:
-        data = json.loads(result_path.read_text(encoding="utf-8"))
+        data = json.loads(read_regular_bytes(result_path).decode("utf-8"))
     except FileNotFoundError:
-        raise ReportError(f"{result_path}: missing; run `bearbound run <case file>` first") from None
+        raise ReportError(f"{shown(result_path, 200)}: missing; run `bearbound run <case file>` first") from None
     except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise ReportError(f"{result_path}: not a readable result ({' '.join(str(exc).split())})") from None
+        raise ReportError(f"{shown(result_path, 200)}: not a readable result "
+                          f"({shown(' '.join(str(exc).split()), 200)})") from None
     if not isinstance(data, dict) or not isinstance(data.get("case"), dict):
-        raise ReportError(f"{result_path}: not a bearbound result (no 'case' table)")
+        raise ReportError(f"{shown(result_path, 200)}: not a bearbound result (no 'case' table)")
     case_path = out_dir / CASE_COPY
-    if not case_path.exists():
-        raise ReportError(f"{case_path}: missing; the report restates the inputs from this copy of the case file")
+    if not case_path.is_file():
+        raise ReportError(f"{shown(case_path, 200)}: missing; the report restates the inputs from this copy of "
+                          "the case file")
     try:
         case = _load_case_copy(case_path, out_dir)
     except CaseError as error:
-        raise ReportError(f"{case_path}: {error}") from None
+        raise ReportError(f"{shown(case_path, 200)}: {error}") from None
+    except (OSError, UnicodeDecodeError, ValueError) as exc:  # unreadable, not UTF-8, not TOML (edited by hand)
+        raise ReportError(f"{shown(case_path, 200)}: not a readable case file "
+                          f"({shown(' '.join(str(exc).split()), 200)})") from None
     if case.source_sha256 != data["case"].get("sha256"):
-        raise ReportError(f"{case_path}: its SHA-256 differs from the case recorded in result.json; "
+        raise ReportError(f"{shown(case_path, 200)}: its SHA-256 differs from the case recorded in result.json; "
                           "the report would restate other inputs than those solved")
     case = replace(case, name=str(data["case"].get("name", case.name)))
     run = Run(out_dir=out_dir, data=data, case=case)
     fields_path = out_dir / FIELDS_FILE
-    if fields_path.exists():
+    if fields_path.is_file():  # a regular file only: meshio would wait for ever on a FIFO
         try:
             run.fields = read_fields_vtu(fields_path)
         except Exception as exc:  # a damaged export loses the pictures, not the report
@@ -147,12 +153,18 @@ def write_report(run: Run, figures: dict) -> Path:
 # -- HTML ---------------------------------------------------------------------------
 
 def esc(value) -> str:
-    """HTML-escaped text (quotes too, so it is safe in attributes).
+    """HTML-escaped text (quotes too, so it is safe in attributes); control and format
+    characters (escape codes, text-direction overrides) written as escapes, line breaks kept.
 
     >>> esc('<script>alert("x")</script>')
     '&lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt;'
+    >>> print(esc("a\\u202eb"))
+    a\u202eb
     """
-    return html.escape("" if value is None else str(value), quote=True)
+    text = "" if value is None else str(value)
+    if not text.isprintable():
+        text = "\n".join(shown(line, len(line) * 10 + 3) for line in text.split("\n"))
+    return html.escape(text, quote=True)
 
 
 def num(value, digits: int = 1, unit: str = "") -> str:
@@ -161,7 +173,7 @@ def num(value, digits: int = 1, unit: str = "") -> str:
         return "&mdash;"
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         return esc(value)
-    text = f"{value:,.{digits}f}" if isinstance(value, float) else f"{value:,d}"
+    text = figure(value, digits, thousands=True) if isinstance(value, float) else f"{value:,d}"
     return esc(text) + ("&#8201;" + esc(unit) if unit else "")
 
 
@@ -554,7 +566,8 @@ def _statistics(d: dict, run: Run) -> str:
     dom = d.get("domain") or {}
     extra = upper.get("extra") or {}
     timing = d.get("timing") or {}
-    kv = [("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
+    kv = [("mesh", esc(refinement_line(d["refinement"], d.get("gap_percent"))) if d.get("refinement") else "not recorded"),
+          ("wall time of the run (both bounds)", num(timing.get("total_s"), 2, "s")),
           ("time with a solve running (the two bounds solve at once on two cores)",
            num(timing.get("solve_wall_s"), 2, "s")),
           ("half domain by symmetry", "yes" if dom.get("half_domain_by_symmetry") else "no"),

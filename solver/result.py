@@ -14,6 +14,18 @@ from pathlib import Path
 
 from . import __version__
 
+def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
+    """A number as people read it: ``decimals`` fixed decimals while it is under a billion
+    in size, else four significant digits (a fixed format would print 309 digits for 1e308).
+
+    >>> figure(1234.5678, 2), figure(1e308), figure(-2.5e12, 1), figure(12345.0, 0, thousands=True)
+    ('1234.57', '1.000e+308', '-2.500e+12', '12,345')
+    """
+    if math.isfinite(value) and abs(value) < 1e9:
+        return f"{value:,.{decimals}f}" if thousands else f"{value:.{decimals}f}"
+    return f"{value:.3e}" if math.isfinite(value) else str(value)
+
+
 CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
            "perfect plasticity with associated flow, plane strain (strip) or axial symmetry (circle) and "
            "the soil model given; "
@@ -54,6 +66,9 @@ class Result:
     backend: str
     pore_pressure_at_base_kPa: float = 0.0  # pressures are effective; total adds this
     adapt_history: list[dict] | None = None  # adaptive refinement: one row per step
+    # how the mesh was chosen: {"mesh": "fixed", "elements"} or {"mesh": "adaptive", "target_gap_percent",
+    # "time_limit_s", "max_steps", "steps", "reached", "stopped", "why"} (solver.adapt.refine_until)
+    refinement: dict | None = None
     notes: list[str] = field(default_factory=list)
     hand_methods: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
@@ -98,11 +113,25 @@ class Result:
         }
         if self.hand_methods:
             data["hand_methods"] = self.hand_methods
+        if self.refinement is not None:
+            data["refinement"] = self.refinement
         if self.adapt_history is not None:
             data["adapt_history"] = self.adapt_history
         if self.factor_of_safety is not None:
             data["factor_of_safety"] = self.factor_of_safety
         return json_safe(data)
+
+
+def refinement_line(refinement: dict, gap_percent: float | None) -> str:
+    """One line: how the mesh was chosen and, when adaptive, whether the target gap was met and why not."""
+    if refinement.get("mesh") != "adaptive":
+        return "one fixed mesh per bound (adaptive refinement off: --fixed-mesh or [analysis] mesh = \"fixed\")"
+    target, steps = refinement["target_gap_percent"], refinement["steps"]
+    if refinement["reached"]:
+        return f"adaptive, target gap {target:g} % reached in {steps} step{'s' * (steps > 1)}"
+    gap = "no gap" if gap_percent is None else f"gap {gap_percent:.2f} %"
+    return (f"adaptive, target gap {target:g} % NOT reached ({gap} after {steps} step{'s' * (steps > 1)}); "
+            f"stopped by {refinement['why']}")
 
 
 def _bound_dict(bound: BoundResult | None) -> dict | None:

@@ -31,6 +31,7 @@ from dataclasses import replace
 from typing import Any, Callable
 
 from .model import Case, Factors, Layer
+from .result import figure
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
 F_RANGE = (0.05, 20.0)  # strength factors searched; outside it the factor is reported as beyond
@@ -132,8 +133,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         load = bound.load_kN_per_m
         evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
         if progress:
-            shown = "withheld" if load is None else f"{load:.1f} kN/m"
-            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {shown}")
+            text = "withheld" if load is None else f"{figure(load)} kN/m"
+            progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
             withheld = True
             notes.append(f"the {kind} bound at F = {F:.4g} was withheld ({bound.status}); it is not used "
@@ -232,7 +233,8 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
         Its bounds at F = 1 (reused, not solved again).
     elements, backend : optional
         As given to :func:`solver.analysis.analyse` for the main run: every extra
-        solve uses the same mesh size and back end.
+        solve uses the same back end and one fixed mesh with as many triangles as
+        the main run's last mesh of that bound (``elements`` when it has none).
     tolerance : float
         Relative width hi/lo - 1 at which the search with each bound stops.
     solve : callable, optional
@@ -256,7 +258,10 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
         from .analysis import analyse
 
         def solve(case_F: Case, kind: str):
-            return getattr(analyse(case_F, bounds=kind, elements=elements, backend=backend), kind)
+            # one fixed mesh per solve, as fine as the main run's last one for this bound
+            main = getattr(result, kind)
+            size = main.elements if main is not None and main.elements else elements
+            return getattr(analyse(case_F, bounds=kind, elements=size, backend=backend, adaptive=False), kind)
 
     start = time.perf_counter()
     lo1 = result.lower.load_kN_per_m if result.lower else None
@@ -296,11 +301,12 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
     """``{kind: work(kind, load)}`` for each (kind, load) asked, each on a thread of its
     own when ``parallel`` (analysis.Job)."""
-    from .analysis import Job
+    from .analysis import Job, finish
 
     jobs = {kind: Job(work, kind, load) for kind, load in asked}
     for job in jobs.values():
         job.start() if parallel else job.run()
+    finish(jobs.values())  # both ended before either's error is raised
     return {kind: job.result() for kind, job in jobs.items()}
 
 
@@ -354,11 +360,11 @@ def format_safety(fos: dict) -> list[str]:
     '    load factor      [2.000, 2.100]  (collapse load / design load)'
     """
     def show(value, prefix=""):
-        return "none" if value is None else f"{prefix}{value:.3f}"
+        return "none" if value is None else f"{prefix}{figure(value, 3)}"
 
     lines = []
     if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {fos['design_load_kN_per_m']:.1f} kN/m")
+        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m")
         load = fos.get("load", {})
         lines.append(f"    load factor      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
                      "(collapse load / design load)")
@@ -373,6 +379,6 @@ def format_safety(fos: dict) -> list[str]:
         res = partial["design_resistance_kN_per_m"]
         action = partial["action_kN_per_m"]
         lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {action:.1f} kN/m" if action is not None else ""))
+                     + (f", design action {figure(action)} kN/m" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines

@@ -49,7 +49,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .case import CaseError
+from .case import CaseError, NotRegularFile, open_regular, shown
 from .mesh import (_GMSH_LOCK, FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, Domain, Mesh, _second_order,
                    _start_gmsh)
 from .model import Case, Geometry, Layer
@@ -90,6 +90,11 @@ _LINE_KINDS = {1: 2, 8: 3}
 REL_TOL = 1e-7  # geometric checks, relative to the model's size
 MAX_COORDINATE = 1e6  # m; a site is at most a few hundred m across
 MAX_SIZED_POINTS = 50  # points that may carry a mesh size (each is a term of the size field)
+# A drawn site is tens to hundreds of entities. The caps keep what the reader builds small
+# whatever the file says: ranges a:b in many lists once made gigabytes from a 1 MB file.
+MAX_ENTITIES = 5000  # points, curves, curve loops, surfaces: each
+MAX_LIST = 10_000  # tags in one {...} list, ranges expanded
+MAX_LIST_TOTAL = 100_000  # tags in all lists of the file together
 MIDSIDE_TOL = 1e-6  # a .msh midside node this far (relative to the edge) off its edge's midpoint is curved
 # Element size h = s (SIZE_EDGE B + SIZE_GRADING r), r from the nearer footing end, s set for the
 # element target. Measured on the Prandtl case drawn as a site (weightless Tresca, exact 2 + pi,
@@ -149,6 +154,7 @@ class _Parser:
 
     def __init__(self, tokens: list[tuple[str, str, int]]) -> None:
         self.tokens, self.pos = tokens, 0
+        self.listed = 0  # tags in all lists so far (MAX_LIST_TOTAL)
         self.variables: dict[str, float] = {"Pi": math.pi}
         self.drawing = Drawing()
 
@@ -267,9 +273,18 @@ class _Parser:
             if self.at(":"):
                 self.take()
                 last = self.expression()
-                if first != int(first) or last != int(last) or last < first or last - first > 100_000:
+                if first != int(first) or last != int(last) or last < first:
                     raise _GeoError(line, f"range {first:g}:{last:g} is not allowed; must be whole numbers a:b, a <= b")
+                if len(out) + last - first + 1 > MAX_LIST:
+                    raise _GeoError(line, f"range {first:g}:{last:g} is not allowed; a list holds at most {MAX_LIST} "
+                                          "tags")
                 values = list(range(int(first), int(last) + 1))
+            if len(out) + len(values) > MAX_LIST:
+                raise _GeoError(line, f"the list of {what}s is too long; a list holds at most {MAX_LIST} tags")
+            self.listed += len(values)
+            if self.listed > MAX_LIST_TOTAL:
+                raise _GeoError(line, f"the lists of the file hold more than {MAX_LIST_TOTAL} tags together; "
+                                      "a site drawing has tens to hundreds of entities")
             for value in values:
                 if value != int(value) or value == 0 or (value < 0 and not signed) or abs(value) >= 2**31:
                     raise _GeoError(line, f"{what} tag {value:g} is not allowed; must be a whole number >= 1"
@@ -405,6 +420,8 @@ class _Parser:
     def _new(self, kind: str, tag: int, line: int, table: dict) -> None:
         if tag in table:
             raise _GeoError(line, f"{kind} {tag} is defined twice (lines {self.drawing.lines[(kind, tag)]} and {line})")
+        if len(table) >= MAX_ENTITIES:
+            raise _GeoError(line, f"more than {MAX_ENTITIES} {kind}s; a site drawing has tens to hundreds of entities")
         self.drawing.lines[(kind, tag)] = line
 
     def _check_curve(self, word: str, tag: int, ends: list[int], line: int) -> None:
@@ -421,6 +438,16 @@ class _Parser:
                 raise _GeoError(line, f"Circle({tag}) spans 180 degrees; draw it as two arcs of less than 180")
 
     def _check_loop(self, word: str, tag: int, curves: list[int], line: int) -> None:
+        seen: set[int] = set()
+        for c in curves:
+            if abs(c) in seen:
+                raise _GeoError(line, f"{word}({tag}) uses curve {abs(c)} twice; a loop goes round once")
+            seen.add(abs(c))
+        points = [self._ends(c)[0] for c in curves]
+        if len(set(points)) != len(points):
+            twice = next(p for p in points if points.count(p) > 1)
+            raise _GeoError(line, f"{word}({tag}) passes point {twice} twice; a loop is one simple closed curve "
+                                  "(draw two surfaces that share the point instead)")
         ends = [self._ends(c) for c in curves]
         for (_, end), (start, _), c in zip(ends, ends[1:] + ends[:1], curves[1:] + curves[:1]):
             if end != start:
@@ -499,25 +526,29 @@ class _Raw:
 
 
 def label(path: str | pathlib.Path) -> str:
-    """The file as named in messages: relative to the working folder when inside it."""
+    """The file as named in messages: relative to the working folder when inside it, any
+    control character escaped (``solver.case.shown``)."""
     path = pathlib.Path(path)
     try:
-        return str(path.resolve().relative_to(pathlib.Path.cwd().resolve()))
+        return shown(path.resolve().relative_to(pathlib.Path.cwd().resolve()), 200)
     except ValueError:
-        return str(path)
+        return shown(path, 200)
 
 
 def _read_bytes(path: pathlib.Path, where: str) -> bytes:
     limit = GEO_MAX_BYTES if path.suffix.lower() == ".geo" else MSH_MAX_BYTES
     try:
-        with path.open("rb") as stream:
+        with open_regular(path) as stream:
             raw = stream.read(limit + 1)
     except FileNotFoundError:
         raise CaseError(f"{where}: {label(path)} is not allowed; no such file") from None
     except IsADirectoryError:
         raise CaseError(f"{where}: {label(path)} is not allowed; it is a folder, must be a .geo or .msh file") from None
+    except NotRegularFile as exc:
+        raise CaseError(f"{where}: {label(path)} is not allowed; it is {exc.strerror}, must be a .geo or .msh "
+                        "file") from None
     except OSError as exc:
-        raise CaseError(f"{where}: cannot read {label(path)} ({' '.join(str(exc).split())})") from None
+        raise CaseError(f"{where}: cannot read {label(path)} ({shown(' '.join(str(exc).split()), 200)})") from None
     if len(raw) > limit:
         raise CaseError(f"{label(path)}: larger than {limit // 1_000_000} MB; is this the right file?")
     return raw
@@ -545,7 +576,259 @@ def _geo_text(raw: bytes, name: str) -> Drawing:
                     raise CaseError(f"{name}: group '{group}' (line {drawing.lines[(kind + ' group', group)]}) "
                                     f"names {kind} {tag}, which is not defined")
     _check_distinct_points(drawing, name)
+    _check_crossings(drawing, name)
+    _check_surfaces_apart(drawing, name)
     return drawing
+
+
+@dataclass(frozen=True)
+class _Curves:
+    """Every curve of a drawing as arrays (m): ends, end point tags, and for arcs the
+    centre, radius, start direction and signed sweep (|sweep| < pi)."""
+
+    tags: np.ndarray  # (n,) curve tags
+    arc: np.ndarray  # (n,) bool
+    start: np.ndarray  # (n, 2)
+    end: np.ndarray  # (n, 2)
+    ends: np.ndarray  # (n, 2) point tags
+    centre: np.ndarray  # (n, 2); arcs only
+    radius: np.ndarray  # (n,)
+    sweep: np.ndarray  # (n,) radians, counter-clockwise positive
+    box: np.ndarray  # (n, 4) x_min, y_min, x_max, y_max (an arc's whole circle: a safe overestimate)
+
+    @classmethod
+    def of(cls, drawing: Drawing) -> _Curves:
+        tags = np.array(sorted(drawing.curves), dtype=np.int64)
+        kinds = [drawing.curves[t] for t in tags]
+        xy = {t: drawing.points[t][:2] for t in drawing.points}
+        start = np.array([xy[pts[0]] for _, pts in kinds], dtype=float).reshape(-1, 2)
+        end = np.array([xy[pts[-1]] for _, pts in kinds], dtype=float).reshape(-1, 2)
+        arc = np.array([kind == "arc" for kind, _ in kinds], dtype=bool)
+        centre = np.array([xy[pts[1]] if kind == "arc" else (0.0, 0.0) for kind, pts in kinds],
+                          dtype=float).reshape(-1, 2)
+        a, b = start - centre, end - centre
+        radius = np.where(arc, np.hypot(a[:, 0], a[:, 1]), 0.0)
+        sweep = np.where(arc, np.arctan2(_cross(a, b), (a * b).sum(axis=1)), 0.0)
+        low = np.where(arc[:, None], centre - radius[:, None], np.minimum(start, end))
+        high = np.where(arc[:, None], centre + radius[:, None], np.maximum(start, end))
+        return cls(tags=tags, arc=arc, start=start, end=end,
+                   ends=np.array([(pts[0], pts[-1]) for _, pts in kinds], dtype=np.int64).reshape(-1, 2),
+                   centre=centre, radius=radius, sweep=sweep, box=np.hstack([low, high]))
+
+
+def _cross(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    return a[..., 0] * b[..., 1] - a[..., 1] * b[..., 0]
+
+
+def _on_arc(c: _Curves, k: np.ndarray, q: np.ndarray, tol: float) -> np.ndarray:
+    """Whether points q (m, 2), each on the circle of arc k (m,), lie on the arc itself."""
+    a = c.start[k] - c.centre[k]
+    v = q - c.centre[k]
+    angle = np.arctan2(_cross(a, v), (a * v).sum(axis=1))  # from the start, in (-pi, pi]
+    slack = tol / np.maximum(c.radius[k], 1e-300)
+    w = c.sweep[k]
+    return np.where(w >= 0, (angle >= -slack) & (angle <= w + slack), (angle <= slack) & (angle >= w - slack))
+
+
+def _meetings(c: _Curves, i: np.ndarray, j: np.ndarray, tol: float):
+    """Where curve pairs (i, j) meet: (pair, point (m, 2)) of isolated meeting points and
+    (pair, point) of pairs that overlap along a stretch. Vectorised over the pairs."""
+    pairs, points, overlaps, where = [], [], [], []
+    # line with line
+    ll = np.flatnonzero(~c.arc[i] & ~c.arc[j])
+    if len(ll):
+        a, b = i[ll], j[ll]
+        d1, d2 = c.end[a] - c.start[a], c.end[b] - c.start[b]
+        r = c.start[b] - c.start[a]
+        n1, n2 = np.hypot(*d1.T), np.hypot(*d2.T)
+        denom = _cross(d1, d2)
+        crossing = np.abs(denom) > 1e-12 * n1 * n2
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = np.where(crossing, _cross(r, d2) / denom, np.nan)
+            t = np.where(crossing, _cross(r, d1) / denom, np.nan)
+        e1, e2 = tol / n1, tol / n2
+        hit = crossing & (s >= -e1) & (s <= 1 + e1) & (t >= -e2) & (t <= 1 + e2)
+        pairs.append(ll[hit])
+        points.append(c.start[a[hit]] + s[hit, None] * d1[hit])
+        # parallel: collinear ones share a stretch, or touch end to end
+        collinear = ~crossing & (np.abs(_cross(d1, r)) / n1 <= tol)
+        u0 = (r * d1).sum(axis=1) / n1**2
+        u1 = ((c.end[b] - c.start[a]) * d1).sum(axis=1) / n1**2
+        lo, hi = np.maximum(0.0, np.minimum(u0, u1)), np.minimum(1.0, np.maximum(u0, u1))
+        shared = collinear & ((hi - lo) * n1 > tol)
+        touch = collinear & ~shared & ((hi - lo) * n1 >= -tol)
+        overlaps.append(ll[shared])
+        where.append(c.start[a[shared]] + ((lo + hi) / 2)[shared, None] * d1[shared])
+        pairs.append(ll[touch])
+        points.append(c.start[a[touch]] + ((lo + hi) / 2)[touch, None] * d1[touch])
+    # line with arc (either order)
+    la = np.flatnonzero(c.arc[i] != c.arc[j])
+    if len(la):
+        line = np.where(c.arc[i[la]], j[la], i[la])
+        arc = np.where(c.arc[i[la]], i[la], j[la])
+        d = c.end[line] - c.start[line]
+        n = np.hypot(*d.T)
+        u = d / n[:, None]
+        along = ((c.centre[arc] - c.start[line]) * u).sum(axis=1)
+        foot = c.start[line] + along[:, None] * u
+        gap = np.hypot(*(c.centre[arc] - foot).T)
+        near = gap <= c.radius[arc] + tol
+        half = np.sqrt(np.maximum(c.radius[arc] ** 2 - gap**2, 0.0))
+        for sign in (-1.0, 1.0):
+            t = (along + sign * half) / n
+            q = foot + (sign * half)[:, None] * u
+            hit = near & (t >= -tol / n) & (t <= 1 + tol / n) & _on_arc(c, arc, q, tol)
+            pairs.append(la[hit])
+            points.append(q[hit])
+    # arc with arc
+    aa = np.flatnonzero(c.arc[i] & c.arc[j])
+    if len(aa):
+        a, b = i[aa], j[aa]
+        dv = c.centre[b] - c.centre[a]
+        dist = np.hypot(*dv.T)
+        ra, rb = c.radius[a], c.radius[b]
+        same = (dist <= tol) & (np.abs(ra - rb) <= tol)
+        if same.any():  # one circle: the arcs overlap when a point of one lies inside the other
+            inside = np.zeros(len(aa), dtype=bool)
+            for one, other in ((a, b), (b, a)):
+                for fraction in (0.0, 0.5, 1.0):
+                    angle = np.arctan2(*(c.start[one] - c.centre[one])[:, ::-1].T) + fraction * c.sweep[one]
+                    q = c.centre[one] + c.radius[one][:, None] * np.column_stack([np.cos(angle), np.sin(angle)])
+                    strict = _on_arc(c, other, q, -tol)  # inside by more than tol
+                    inside |= strict
+                    if fraction == 0.5:
+                        mid = q
+            overlapping = same & inside
+            overlaps.append(aa[overlapping])
+            where.append(mid[overlapping])
+        apart = ~same & (dist > tol) & (dist <= ra + rb + tol) & (dist >= np.abs(ra - rb) - tol)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            along = np.where(apart, (ra**2 - rb**2 + dist**2) / (2 * dist), 0.0)
+            u = np.where(apart[:, None], dv / dist[:, None], 0.0)
+        half = np.sqrt(np.maximum(ra**2 - along**2, 0.0))
+        base = c.centre[a] + along[:, None] * u
+        normal = np.column_stack([-u[:, 1], u[:, 0]])
+        for sign in (-1.0, 1.0):
+            q = base + (sign * half)[:, None] * normal
+            hit = apart & _on_arc(c, a, q, tol) & _on_arc(c, b, q, tol)
+            pairs.append(aa[hit])
+            points.append(q[hit])
+    join = lambda parts, shape: np.concatenate(parts) if parts else np.zeros(shape)  # noqa: E731
+    return (join(pairs, (0,)).astype(np.int64), join(points, (0, 2)),
+            join(overlaps, (0,)).astype(np.int64), join(where, (0, 2)))
+
+
+def _check_crossings(drawing: Drawing, name: str) -> None:
+    """Curves may meet only at points they both end at: a curve that crosses another,
+    runs along it, or ends on it away from its end points is refused before meshing
+    (gmsh can loop for ever on such a drawing). Vectorised over curve pairs in blocks,
+    after a bounding-box test."""
+    c = _Curves.of(drawing)
+    n = len(c.tags)
+    if n < 2:
+        return
+    xy = np.array([p[:2] for p in drawing.points.values()])
+    tol = REL_TOL * max(float(np.ptp(xy[:, 0])), float(np.ptp(xy[:, 1])), 1e-300)
+    for first in range(0, n, 256):
+        rows = np.arange(first, min(first + 256, n))
+        box = c.box
+        near = ((box[rows, None, 0] <= box[None, :, 2] + tol) & (box[None, :, 0] <= box[rows, None, 2] + tol)
+                & (box[rows, None, 1] <= box[None, :, 3] + tol) & (box[None, :, 1] <= box[rows, None, 3] + tol)
+                & (np.arange(n)[None, :] > rows[:, None]))
+        r, k = np.nonzero(near)
+        i, j = rows[r], k
+        pair, point, overlap, overlap_at = _meetings(c, i, j, tol)
+        if len(overlap):
+            a, b = sorted((int(c.tags[i[overlap[0]]]), int(c.tags[j[overlap[0]]])))
+            x, y = overlap_at[0]
+            raise CaseError(f"{name}: curves {a} and {b} run along each other near ({x:g}, {y:g}); each stretch "
+                            "of the outline and of every interface is one curve")
+        # a meeting point is allowed only at an end point the two curves share
+        allowed = np.zeros(len(pair), dtype=bool)
+        for end_i in (0, 1):
+            for end_j in (0, 1):
+                tag = c.ends[i[pair], end_i]
+                same = tag == c.ends[j[pair], end_j]
+                at = c.start[i[pair]] if end_i == 0 else c.end[i[pair]]
+                allowed |= same & (np.hypot(*(point - at).T) <= tol)
+        if not allowed.all():
+            m = int(np.flatnonzero(~allowed)[0])
+            a, b = int(c.tags[i[pair[m]]]), int(c.tags[j[pair[m]]])
+            x, y = point[m]
+            ends = np.vstack([c.start[[i[pair[m]], j[pair[m]]]], c.end[[i[pair[m]], j[pair[m]]]]])
+            how = "touch" if np.any(np.hypot(*(ends - point[m]).T) <= tol) else "cross"
+            raise CaseError(f"{name}: curves {min(a, b)} and {max(a, b)} {how} at ({x:g}, {y:g}), which is not an "
+                            "end point of both; curves may meet only at points they share (split a curve there)")
+
+
+def _check_surfaces_apart(drawing: Drawing, name: str) -> None:
+    """No two plane surfaces cover the same soil, and every hole lies inside its surface's
+    outer loop. With no crossing curves (checked before), a surface that overlaps another
+    has a curve inside it: the midpoint of each curve of one surface that is not a curve
+    of the other is tested against the other's region (arcs drawn as 64 chords)."""
+    if not drawing.surfaces:
+        return
+    c = _Curves.of(drawing)
+    row = {int(t): k for k, t in enumerate(c.tags)}
+    xy = np.array([p[:2] for p in drawing.points.values()])
+    size = max(float(np.ptp(xy[:, 0])), float(np.ptp(xy[:, 1])), 1e-300)
+    angle = np.arctan2(*(c.start - c.centre)[:, ::-1].T) + 0.5 * c.sweep
+    middle = np.where(c.arc[:, None], c.centre + c.radius[:, None] * np.column_stack([np.cos(angle), np.sin(angle)]),
+                      (c.start + c.end) / 2)
+
+    def polygon(loop: int) -> np.ndarray:
+        parts = []
+        for signed in drawing.loops[loop]:
+            k = row[abs(signed)]
+            if c.arc[k]:
+                steps = np.linspace(0.0, 1.0, 65)
+                start = np.arctan2(*(c.start[k] - c.centre[k])[::-1])
+                ring = c.centre[k] + c.radius[k] * np.column_stack([np.cos(start + steps * c.sweep[k]),
+                                                                    np.sin(start + steps * c.sweep[k])])
+            else:
+                ring = np.vstack([c.start[k], c.end[k]])
+            parts.append(ring if signed > 0 else ring[::-1])
+        return np.vstack(parts)
+
+    def inside(poly: np.ndarray, q: np.ndarray) -> np.ndarray:
+        """Even-odd rule, vectorised over points and edges."""
+        a, b = poly, np.roll(poly, -1, axis=0)
+        spans = (a[None, :, 1] > q[:, None, 1]) != (b[None, :, 1] > q[:, None, 1])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x = a[None, :, 0] + (q[:, None, 1] - a[None, :, 1]) * (b - a)[None, :, 0] / (b - a)[None, :, 1]
+        return (spans & (q[:, None, 0] < x)).sum(axis=1) % 2 == 1
+
+    curves_of = {s: {abs(k) for loop in loops for k in drawing.loops[loop]} for s, loops in drawing.surfaces.items()}
+    for tag, loops in drawing.surfaces.items():  # holes inside the outer loop
+        outer = polygon(loops[0])
+        for loop in loops[1:]:
+            own = [row[abs(k)] for k in drawing.loops[loop] if abs(k) not in {abs(o) for o in drawing.loops[loops[0]]}]
+            if own and not inside(outer, middle[own]).all():
+                raise CaseError(f"{name}: Plane Surface({tag}): curve loop {loop} is not inside its outer loop "
+                                f"{loops[0]}; a hole must lie inside the surface")
+    regions = {s: [polygon(loop) for loop in loops] for s, loops in drawing.surfaces.items()}
+    tags = sorted(drawing.surfaces)
+    for other in tags:
+        outer, *holes = regions[other]
+        low, high = outer.min(axis=0) - REL_TOL * size, outer.max(axis=0) + REL_TOL * size
+        for tag in tags:
+            if tag == other:
+                continue
+            if curves_of[tag] == curves_of[other]:
+                raise CaseError(f"{name}: surfaces {min(tag, other)} and {max(tag, other)} are bounded by the same "
+                                "curves; each piece of soil is one surface")
+            own = [row[k] for k in sorted(curves_of[tag] - curves_of[other])]
+            q = middle[own]
+            q = q[np.all((q >= low) & (q <= high), axis=1)]
+            if not len(q):
+                continue
+            covered = inside(outer, q)
+            for hole in holes:
+                covered &= ~inside(hole, q)
+            if covered.any():
+                x, y = q[np.flatnonzero(covered)[0]]
+                raise CaseError(f"{name}: surfaces {min(tag, other)} and {max(tag, other)} overlap near ({x:g}, {y:g}); "
+                                "each piece of soil is one surface (a surface inside another is drawn as its hole)")
 
 
 def _check_distinct_points(drawing: Drawing, name: str) -> None:
@@ -700,13 +983,38 @@ def _msh_groups(gmsh, name: str) -> tuple[dict, dict]:
         if not group:
             raise CaseError(f"{name}: physical group {tag} ({'curves' if dim == 1 else 'surfaces'}) has no name; "
                             "the groups are named by the convention of meshes/README.md")
+        if not group.isprintable() or len(group) > 80:  # as a .geo's names (_Parser.statement)
+            raise CaseError(f"{name}: physical group {tag} has the name {shown(repr(group), 60)}; must be a "
+                            "one-line name of 1 to 80 characters")
         table = curve_groups if dim == 1 else surface_groups
         table[group] = tuple(table.get(group, ())) + tuple(int(t) for t in gmsh.model.getEntitiesForPhysicalGroup(dim, tag))
     return surface_groups, curve_groups
 
 
+# The first line gmsh must see for it to read a file as a mesh (MSH 2.x or 4.x, ASCII or binary):
+# gmsh picks its reader from the file's first line, not its name, and runs anything else as a
+# .geo script (a `SystemCall "..."` line in a file named .msh is a command it executes).
+_MSH_HEADER = re.compile(rb"\$MeshFormat\r?\n[ \t]*(?:2\.[0-2]|4\.[01])[ \t]+[01][ \t]+8[ \t]*\r?\n")
+
+
+def check_msh_header(raw: bytes, name: str) -> None:
+    """Refuse, before gmsh sees them, bytes that gmsh would not read as a mesh file.
+
+    >>> check_msh_header(b"$MeshFormat\\n4.1 0 8\\n$EndMeshFormat\\n", "site.msh")
+    >>> check_msh_header(b'SystemCall "touch x";\\n', "site.msh")
+    Traceback (most recent call last):
+    ...
+    solver.case.CaseError: site.msh: not a gmsh mesh file; a .msh must begin with the line $MeshFormat and a version line such as 4.1 0 8 (MSH 2.x or 4.x): it is read as data, never run as a script
+    """
+    if _MSH_HEADER.match(raw) is None:
+        raise CaseError(f"{name}: not a gmsh mesh file; a .msh must begin with the line $MeshFormat and a "
+                        "version line such as 4.1 0 8 (MSH 2.x or 4.x): it is read as data, never run as a script")
+
+
 def _read_msh(gmsh, raw: bytes, name: str) -> _Raw:
-    """Read the .msh bytes from a private copy (gmsh would also read an option file beside the original)."""
+    """Read the .msh bytes from a private copy (gmsh would also read an option file beside the original),
+    once their first line says they are a mesh (``check_msh_header``)."""
+    check_msh_header(raw, name)
     with tempfile.TemporaryDirectory(prefix="bearbound-site-") as folder:
         copy = pathlib.Path(folder) / "site.msh"
         copy.write_bytes(raw)
@@ -714,7 +1022,8 @@ def _read_msh(gmsh, raw: bytes, name: str) -> _Raw:
         try:
             gmsh.open(str(copy))
         except Exception as exc:
-            raise CaseError(f"{name}: gmsh cannot read it as a mesh ({' '.join(str(exc).split())})") from None
+            reason = shown(" ".join(str(exc).split()), 200) or "no reason given"
+            raise CaseError(f"{name}: gmsh cannot read it as a mesh ({reason})") from None
     surface_groups, curve_groups = _msh_groups(gmsh, name)
     return _extract(gmsh, name, surface_groups, curve_groups)
 

@@ -43,13 +43,18 @@ import numpy as np
 
 from . import __version__
 from .case import (LAYER_KEYS, MODEL_KEYS, TABLES, CaseError, Key, _did_you_mean,
-                   _not_allowed, _show, case_to_dict, load_case, parse_case, read_toml_file)
+                   _not_allowed, _show, case_to_dict, load_case, parse_case, read_toml_file, shown)
 from .model import Case
 from .result import CAUTION, json_safe, write_atomic
 
 MAX_POINTS = 10_000  # a design chart is tens to hundreds of points; more is a typo in a range
 MAX_CHARTS = 50  # one chart per combination of the keys beyond x and lines
-SWEEP_KEYS = ("title", "base", "combine", "vary", "chart")
+SWEEP_KEYS = ("title", "base", "combine", "vary", "chart", "point_time_limit_s")
+# A point that runs longer is stopped and recorded as failed ("time limit"), so that one
+# point that hangs cannot hold a worker for ever. An hour: far above a point's usual
+# seconds to minutes (an 80k-triangle bracket took 21 minutes, README), well below for ever.
+POINT_TIME_LIMIT = Key(float, "s", gt=0, le=7 * 86400, default=3600.0)
+POINT_START_S = 300.0  # a point's process must be ready (its imports done) within this
 CHART_KEYS = ("output", "divide_by", "x", "lines", "formats", "title")
 OUTPUTS = {"pressure": ("collapse pressure q", "kPa"), "load": ("collapse load Q", "kN/m")}
 FORMATS = ("png", "svg")
@@ -110,6 +115,7 @@ class Sweep:
     combine: str  # "cross" | "zip"
     points: tuple[Point, ...]
     chart: ChartSpec
+    point_time_limit_s: float = POINT_TIME_LIMIT.default  # s, see POINT_TIME_LIMIT
 
     @property
     def parameter(self) -> dict[str, Parameter]:
@@ -146,7 +152,7 @@ def load_sweep(path: str | pathlib.Path) -> Sweep:
     path = pathlib.Path(path)
     data = _read_toml(path)
     if isinstance(data, dict) and "base" not in data and ("footing" in data or "layers" in data):
-        raise CaseError(f"{path}: a case file, not a sweep file; a sweep file names its case with "
+        raise CaseError(f"{shown(path, 200)}: a case file, not a sweep file; a sweep file names its case with "
                         "base = \"case.toml\" (or an inline [base] table) and holds a [vary] table")
     return parse_sweep(data, name=path.stem, folder=path.parent)
 
@@ -155,7 +161,7 @@ def _read_toml(path: pathlib.Path) -> dict:
     """The same guards as :func:`solver.case.load_case`, for a sweep file."""
     data, _ = read_toml_file(path, "sweep file")
     if data is None:
-        raise CaseError(f"{path}: the file is empty; a sweep file needs a base case and a [vary] table")
+        raise CaseError(f"{shown(path, 200)}: the file is empty; a sweep file needs a base case and a [vary] table")
     return data
 
 
@@ -181,13 +187,19 @@ def parse_sweep(data: dict, *, name: str = "sweep", folder: str | pathlib.Path =
         raise _not_allowed("sweep", data, "a table of keys")
     for key in data:
         if key not in SWEEP_KEYS:
-            raise CaseError(f"{key}: unknown key; {_did_you_mean(str(key), list(SWEEP_KEYS))}")
+            raise CaseError(f"{shown(key, 80)}: unknown key; {_did_you_mean(str(key), list(SWEEP_KEYS))}")
     base_case = _read_base(data.get("base"), name, pathlib.Path(folder))
     base = case_to_dict(base_case)
     title = data.get("title", base_case.title)
     if not isinstance(title, str) or not title.strip() or not title.isprintable() or len(title) > 200:
         raise _not_allowed("title", title, "a non-empty one-line string of at most 200 characters")
 
+    limit = data.get("point_time_limit_s", POINT_TIME_LIMIT.default)
+    try:
+        limit = POINT_TIME_LIMIT.read(limit)
+    except ValueError:
+        raise _not_allowed("point_time_limit_s", limit, POINT_TIME_LIMIT.allowed
+                           + "; a point running longer is stopped and recorded as failed") from None
     combine = data.get("combine", "cross")
     if combine not in ("cross", "zip"):
         raise _not_allowed("combine", combine, "one of 'cross', 'zip'")
@@ -225,7 +237,7 @@ def parse_sweep(data: dict, *, name: str = "sweep", folder: str | pathlib.Path =
         raise CaseError(f"vary: every point's case is bad; point 0 ({_values_text(first.values)}): {first.error}")
     chart = _read_chart(data.get("chart", {}), parameters, combine, base, varied, title, points)
     return Sweep(name=name, title=title, base=base, parameters=parameters, combine=combine,
-                 points=points, chart=chart)
+                 points=points, chart=chart, point_time_limit_s=limit)
 
 
 def _read_base(raw: Any, name: str, folder: pathlib.Path) -> Case:
@@ -239,7 +251,7 @@ def _read_base(raw: Any, name: str, folder: pathlib.Path) -> Case:
             return load_case(path)
         except CaseError as error:
             text = str(error)
-            raise CaseError(text if text.startswith(str(path)) else f"base ({path}): {text}") from None
+            raise CaseError(text if text.startswith(shown(path, 200)) else f"base ({shown(path, 200)}): {text}") from None
     if isinstance(raw, dict):
         try:
             return parse_case(raw, name=name)
@@ -255,7 +267,7 @@ def _flatten(table: dict, prefix: str) -> dict[str, Any]:
         path = f"{prefix}{key}"
         if isinstance(value, dict) and not any(k in value for k in RANGE_KEYS):
             if not value:
-                raise _not_allowed(f"vary.{path}", value, "a list of values or {start, stop, num}")
+                raise _not_allowed(shown(f"vary.{path}", 80), value, "a list of values or {start, stop, num}")
             flat.update(_flatten(value, path + "."))
         else:
             flat[path] = value
@@ -287,7 +299,7 @@ def _resolve_key(key: str, base: dict, varied: set[str], where: str) -> tuple[Ke
                             f"from 0 (0 to {len(layers) - 1}), e.g. layers.0.thickness")
         index, name = parts[1], parts[2]
         if not index.isdigit() or int(index) >= len(layers):
-            raise CaseError(f"{where}: layer index {index!r} is not allowed; must be 0 to {len(layers) - 1} "
+            raise CaseError(f"{where}: layer index {_show(index)} is not allowed; must be 0 to {len(layers) - 1} "
                             f"(counted from 0, top to bottom; the base case has {len(layers)} layers)")
         layer = layers[int(index)]
         models = list(MODEL_KEYS) if f"layers.{index}.model" in varied else [layer["model"]]
@@ -308,7 +320,7 @@ def _resolve_key(key: str, base: dict, varied: set[str], where: str) -> tuple[Ke
 
 
 def _read_parameter(key: str, spec: Any, base: dict, varied: set[str]) -> Parameter:
-    where = f"vary.{key}"
+    where = shown(f"vary.{key}", 80)
     schema, label, unit = _resolve_key(key, base, varied, where)
     if isinstance(spec, dict):
         values = _read_range(spec, where)
@@ -336,7 +348,7 @@ def _read_parameter(key: str, spec: Any, base: dict, varied: set[str]) -> Parame
 def _read_range(spec: dict, where: str) -> tuple[float, ...]:
     for key in spec:
         if key not in RANGE_KEYS:
-            raise CaseError(f"{where}.{key}: unknown key of a range; {_did_you_mean(str(key), list(RANGE_KEYS))}")
+            raise CaseError(f"{shown(f'{where}.{key}', 80)}: unknown key of a range; {_did_you_mean(str(key), list(RANGE_KEYS))}")
     for key in RANGE_KEYS:
         if key not in spec:
             raise CaseError(f"{where}.{key}: missing; a range needs start, stop and num")
@@ -396,7 +408,7 @@ def _make_point(index: int, values: dict[str, Any], base: dict, name: str) -> Po
 
 
 def _values_text(values: dict[str, Any]) -> str:
-    return ", ".join(f"{k} = {_show(v)}" for k, v in values.items())
+    return ", ".join(f"{shown(k, 80)} = {_show(v)}" for k, v in values.items())
 
 
 def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base: dict,
@@ -405,7 +417,7 @@ def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base:
         raise _not_allowed("chart", raw, "a table [chart]")
     for key in raw:
         if key not in CHART_KEYS:
-            raise CaseError(f"chart.{key}: unknown key; {_did_you_mean(str(key), list(CHART_KEYS))}")
+            raise CaseError(f"{shown(f'chart.{key}', 80)}: unknown key; {_did_you_mean(str(key), list(CHART_KEYS))}")
     output = raw.get("output", "pressure")
     if output not in OUTPUTS:
         raise _not_allowed("chart.output", output, "one of " + ", ".join(repr(o) for o in OUTPUTS))
@@ -463,9 +475,9 @@ def solve_point(case_dict: dict, name: str = "point") -> dict:
 
         result = analyse(case, parallel=False)  # the sweep's workers are its parallelism: one core each
     except CaseError as error:  # a case the engine refuses (a key it does not solve yet)
-        record["reason"] = str(error)
+        record["reason"] = shown(error, 500)
     except Exception as error:  # solver or mesh trouble: recorded, the sweep goes on
-        record["reason"] = f"{type(error).__name__}: {' '.join(str(error).split())}"[:500]
+        record["reason"] = shown(f"{type(error).__name__}: {' '.join(str(error).split())}", 500)
     else:
         asked = [b for b in (result.lower, result.upper) if b is not None]
         withheld = [f"{b.kind} bound {b.status}" for b in asked if b.pressure_kPa is None]
@@ -475,6 +487,141 @@ def solve_point(case_dict: dict, name: str = "point") -> dict:
                       gap_percent=result.gap_percent, result=result.to_dict())
     record["wall_s"] = time.perf_counter() - start
     return record
+
+
+def _failed(reason: str, wall_s: float | None) -> dict:
+    return {"status": FAILED, "reason": reason, "lower_kPa": None, "upper_kPa": None, "gap_percent": None,
+            "result": None, "wall_s": wall_s}
+
+
+# -- a point under a time limit ---------------------------------------------------
+#
+# A thread cannot be stopped from outside, and a hung gmsh or solver call would hold the
+# worker (and gmsh's lock) for ever. So each worker thread hands its points to a process
+# of its own, kept from point to point (its imports are paid once), and kills it when a
+# point outruns the limit; the next point starts a fresh one. One JSON line each way.
+
+_POINT_PROCESS = threading.local()
+_ALL_POINT_PROCESSES: list = []  # of this worker process, closed and reaped when it exits
+
+
+def _close_point_processes() -> None:
+    """At the worker's exit: close each point process's input (it then ends) and wait for it,
+    so that its CPU time is counted as the worker's (rusage of waited-for children)."""
+    for process in _ALL_POINT_PROCESSES:
+        with contextlib.suppress(OSError):
+            process.stdin.close()
+        try:
+            process.wait(timeout=10)
+        except Exception:  # still busy: stop it
+            _stop_point_process(process)
+
+
+def solve_point_limited(case_dict: dict, name: str, time_limit_s: float) -> dict:
+    """:func:`solve_point` in this thread's point process, stopped after ``time_limit_s``
+    (recorded as failed, reason "time limit ..."). Never raises for a point's trouble."""
+    start = time.perf_counter()
+    process = getattr(_POINT_PROCESS, "process", None)
+    if process is None or process.poll() is not None:
+        process = _POINT_PROCESS.process = _start_point_process()
+        if isinstance(process, str):  # could not start: the reason
+            _POINT_PROCESS.process = None
+            return _failed(process, time.perf_counter() - start)
+    request = json.dumps({"case": case_dict, "name": name}, allow_nan=False) + "\n"
+    try:
+        process.stdin.write(request.encode("utf-8"))
+        process.stdin.flush()
+        line = _read_line(process, time_limit_s)
+    except OSError:  # the process died under us (a broken pipe)
+        line = b""
+    if not line:  # None: the time ran out; b"": the process ended
+        _stop_point_process(process)
+        _POINT_PROCESS.process = None
+        wall = time.perf_counter() - start
+        if line is None:
+            return _failed(f"time limit: stopped after {time_limit_s:g} s (point_time_limit_s in the sweep file)",
+                           wall)
+        return _failed(f"the point's process ended unexpectedly (exit status {process.returncode})", wall)
+    return json.loads(line)
+
+
+def _start_point_process():
+    import subprocess
+
+    command = [sys.executable, "-c", "from solver.sweep import serve_points; serve_points()"]
+    try:
+        process = subprocess.Popen(command, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                                   stderr=subprocess.DEVNULL, cwd=os.getcwd())
+    except OSError as error:
+        return f"could not start a process for the point ({error.strerror or error})"
+    if _read_line(process, POINT_START_S) != b"ready\n":
+        _stop_point_process(process)
+        return f"the point's process did not start within {POINT_START_S:g} s"
+    if not _ALL_POINT_PROCESSES:
+        import atexit
+
+        atexit.register(_close_point_processes)
+    _ALL_POINT_PROCESSES[:] = [p for p in _ALL_POINT_PROCESSES if p.poll() is None] + [process]
+    return process
+
+
+def _read_line(process, timeout_s: float) -> bytes | None:
+    """One line from the process's stdout: b"" when it closed it, None when the time ran out."""
+    import select
+
+    fd = process.stdout.fileno()
+    buffer = getattr(process, "_bearbound_buffer", b"")
+    deadline = time.monotonic() + timeout_s
+    while b"\n" not in buffer:
+        left = deadline - time.monotonic()
+        if left <= 0:
+            return None
+        ready, _, _ = select.select([fd], [], [], min(left, 1.0))
+        if ready:
+            chunk = os.read(fd, 1 << 16)
+            if not chunk:
+                process.wait()
+                return b""
+            buffer += chunk
+    line, _, rest = buffer.partition(b"\n")
+    process._bearbound_buffer = rest
+    return line + b"\n"
+
+
+def _stop_point_process(process) -> None:
+    if process.poll() is None:
+        process.kill()
+    process.wait()
+    for stream in (process.stdin, process.stdout):
+        with contextlib.suppress(OSError):
+            stream.close()
+
+
+def serve_points() -> None:
+    """The point process: read a point per line on stdin, write its record per line on
+    stdout, until stdin closes or the parent (the worker) is gone."""
+    import warnings
+
+    out = os.fdopen(os.dup(1), "wb")
+    os.dup2(2, 1)  # anything a library prints goes to stderr, never into the records
+    warnings.simplefilter("ignore")  # a point's library warnings reach no terminal (stderr is closed)
+    parent = os.getppid()
+
+    def orphaned() -> None:
+        while os.getppid() == parent:
+            time.sleep(1.0)
+        os._exit(1)
+
+    threading.Thread(target=orphaned, daemon=True).start()
+    from . import analysis  # noqa: F401  the heavy imports, before saying ready
+
+    out.write(b"ready\n")
+    out.flush()
+    for line in sys.stdin.buffer:
+        request = json.loads(line)
+        record = solve_point(request["case"], request["name"])
+        out.write(json.dumps(json_safe(record), allow_nan=False).encode("utf-8") + b"\n")
+        out.flush()
 
 
 # -- running the sweep ----------------------------------------------------------
@@ -605,7 +752,7 @@ def run_sweep(sweep: Sweep, out_dir: str | pathlib.Path, *, scheduler: str | Non
         startup_s = time.perf_counter() - t0
         try:
             threads = sum(w["nthreads"] for w in client.scheduler_info()["workers"].values())
-            _solve_all(client, to_run, out_dir, records, threads, progress, sweep.name)
+            _solve_all(client, to_run, out_dir, records, threads, progress, sweep.name, sweep.point_time_limit_s)
         finally:
             if own_client:
                 client.close()
@@ -633,12 +780,12 @@ def _import_matplotlib() -> None:
 
 
 def _solve_all(client, to_run: dict[str, Point], out_dir: pathlib.Path, records: dict[str, dict],
-               threads: int, progress: bool, name: str) -> None:
+               threads: int, progress: bool, name: str, time_limit_s: float) -> None:
     """Submit one task per point; store each record the moment it arrives."""
     from distributed import as_completed
     from tqdm import tqdm
 
-    futures = {client.submit(solve_point, point.case_dict, f"{name}-{point.index}",
+    futures = {client.submit(solve_point_limited, point.case_dict, f"{name}-{point.index}", time_limit_s,
                              key=f"bearbound-point-{sha}", pure=False, retries=0): sha
                for sha, point in to_run.items()}
     done = failed = 0
@@ -652,9 +799,7 @@ def _solve_all(client, to_run: dict[str, Point], out_dir: pathlib.Path, records:
                 record = future.result()
             else:  # the worker died or the task could not run: recorded, not fatal
                 error = future.exception()
-                record = {"status": FAILED, "reason": f"{type(error).__name__}: {' '.join(str(error).split())}"[:500],
-                          "lower_kPa": None, "upper_kPa": None, "gap_percent": None, "result": None,
-                          "wall_s": None}
+                record = _failed(shown(f"{type(error).__name__}: {' '.join(str(error).split())}", 500), None)
             records[sha] = _store(out_dir, to_run[sha], record)
             done += record["status"] != FAILED
             failed += record["status"] == FAILED
@@ -740,6 +885,8 @@ def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter],
     from matplotlib.figure import Figure
     from matplotlib.lines import Line2D
 
+    from .pictures import missing_glyphs_quiet
+
     chart = sweep.chart
     x_param = params[chart.x]
     line_param = params[chart.lines] if chart.lines else None
@@ -784,8 +931,8 @@ def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter],
         path = out_dir / f"{stem}.{fmt}"
         tmp = out_dir / f".{stem}.{fmt}.tmp"
         try:
-            with rc_context({"svg.fonttype": "none", "svg.hashsalt": "bearbound"}):  # SVG text stays text
-                figure.savefig(tmp, format=fmt, dpi=150)
+            with rc_context({"svg.fonttype": "none", "svg.hashsalt": "bearbound"}), missing_glyphs_quiet():
+                figure.savefig(tmp, format=fmt, dpi=150)  # SVG text stays text
             os.replace(tmp, path)
         finally:
             tmp.unlink(missing_ok=True)

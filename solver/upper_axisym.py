@@ -174,7 +174,7 @@ def upper_bound_program_axisym(case: Case, mesh: Mesh) -> ConicProgram:
     """
     if mesh.order != 2 or not mesh.domain.axisymmetric:
         raise ValueError("the axisymmetric upper bound needs a second-order mesh of the meridian half-plane")
-    n_el, n_nodes = mesh.n_elements, len(mesh.points)
+    n_nodes = len(mesh.points)
     mat = material_arrays(case)
     T, f, motion = velocity_map_axisym(case, mesh)
     n_z = T.shape[1]

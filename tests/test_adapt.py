@@ -106,3 +106,26 @@ def test_on_two_cores_a_step_refines_the_other_bound_too():
     assert together[1]["elements_lower"] > together[0]["elements_lower"]
     assert in_turn[1]["refined"] == ["upper"]
     assert in_turn[1]["elements_lower"] == in_turn[0]["elements_lower"]
+
+
+def test_the_gap_splits_into_nonnegative_shares_of_the_upper_bound_triangles():
+    """D(strain rate) - sigma : strain rate >= 0 pointwise for an admissible stress sigma and
+    an admissible mechanism, and it integrates to the gap (Munoz, Bonet, Huerta & Peraire 2009)."""
+    import numpy as np
+
+    from solver.adapt import GAP_REFINE, gap_density, gap_size_hint
+    from solver.mesh import build_mesh
+    case = prandtl(target_gap=0.01, max_steps=1)
+    result = analyse(case, elements=800, adaptive=False)
+    eta = gap_density(case, result.lower, result.upper)
+    gap_kN_per_m = (result.upper.pressure_kPa - result.lower.pressure_kPa) * case.footing.width
+    assert eta.min() >= -1e-9 * gap_kN_per_m
+    assert 2.0 * eta.sum() == __import__("pytest").approx(gap_kN_per_m, rel=0.05)  # half domain
+    hint = gap_size_hint(result.upper, eta)
+    mesh = result.upper.mesh
+    worst = mesh.triangles[np.argmax(eta), :3]
+    assert np.all(hint.size[worst] <= GAP_REFINE * np.sqrt(2.0 * mesh.areas()).max())
+    adapted = build_mesh(case, order=2, elements=800, size_hint=hint)
+    share = lambda m: np.isin(np.arange(m.n_elements), np.flatnonzero(
+        np.hypot(*(m.points[m.triangles[:, :3]].mean(axis=1) - mesh.points[worst].mean(axis=0)).T) < 0.05)).mean()
+    assert share(adapted) > 1.5 * share(mesh)  # the elements moved to where the gap was

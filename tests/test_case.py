@@ -119,6 +119,34 @@ EXPECTED_KEY = {
     "factors_unknown_key.toml": "factors.weight",
     "factors_below_one.toml": "factors.friction",
     "factors_not_table.toml": "factors",
+    # issue 12: values the check accepted before and that crashed, hung or misled later
+    "friction_angle_85.toml": "layers[1].friction_angle",
+    "friction_angle_89_9.toml": "layers[1].friction_angle",
+    "friction_angle_tiny.toml": "layers[1].friction_angle",
+    "thickness_1e-9.toml": "layers[1].thickness",
+    "width_1e308.toml": "footing.width",
+    "width_1e-300.toml": "footing.width",
+    "width_in_millimetres.toml": "footing.width",
+    "embedment_1e308.toml": "footing.embedment",
+    "embedment_pier.toml": "footing.embedment",
+    "embedment_just_above_interface.toml": "footing.embedment",
+    "undrained_strength_1e308.toml": "layers[1].undrained_strength",
+    "strength_gradient_1e308.toml": "layers[1].strength_gradient",
+    "cohesion_1e-300.toml": "layers[1].cohesion",
+    "design_load_1e308.toml": "footing.design_load",
+    "surcharge_1e308.toml": "ground.surcharge",
+    "slope_height_1e6.toml": "ground.slope_height",
+    "slope_angle_0_001.toml": "ground.slope_angle",
+    "crest_setback_1e9.toml": "ground.crest_setback",
+    "crest_setback_on_level_ground.toml": "ground.crest_setback",
+    "duplicate_layer_names_trailing_space.toml": "layers[2].name",
+    "duplicate_layer_names_unicode_forms.toml": "layers[2].name",
+    "layers_10000.toml": "layers",
+    "water_table_just_below_base.toml": "ground.water_table",
+    "nested_100000.toml": None,
+    "key_escape_codes.toml": "footing.wid\\x1b[2J\\nth",
+    "key_very_long.toml": "footing." + "w" * 69 + "...",
+    "layer_key_direction_override.toml": "layers[1].\\u202ecohesion",
     "shape_unknown.toml": "footing.shape",
     "circle_load_inclination.toml": "footing.load_inclination",
     "circle_eccentricity.toml": "footing.eccentricity",
@@ -213,7 +241,7 @@ def test_other_model_key_names_its_model():
 def test_value_message_gives_value_and_range():
     with pytest.raises(CaseError) as info:
         load_case(BAD_CASES / "width_negative.toml")
-    assert str(info.value) == "footing.width: -1.0 is not allowed; must be a number > 0 (m)"
+    assert str(info.value) == "footing.width: -1.0 is not allowed; must be a number >= 0.01 and <= 100 (m)"
 
 
 def test_toml_syntax_error_gives_the_line():

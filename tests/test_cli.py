@@ -17,6 +17,7 @@ undrained_strength = 30.0
 unit_weight = 0.0
 [analysis]
 elements = 600
+mesh = "fixed"
 """
 
 
@@ -82,3 +83,31 @@ def test_hand_command_is_instant_and_lists_methods(tmp_path):
     done = bearbound("hand", str(case), cwd=tmp_path)
     assert done.returncode == 0
     assert "Terzaghi" in done.stdout and "Annex D" in done.stdout
+
+
+def test_default_run_refines_prints_each_step_and_says_why_the_target_was_missed(tmp_path):
+    case = tmp_path / "clay.toml"
+    # no mesh key: adaptive by default; a target no mesh reaches, so the step limit stops it
+    case.write_text(SMALL_CASE.replace('mesh = "fixed"\n', "target_gap = 0.0001\nmax_steps = 2\ntime_limit_s = 600\n"))
+    done = bearbound("run", str(case), "--no-pictures", "--no-report", cwd=tmp_path)
+    assert done.returncode == 0, done.stderr
+    steps = [line for line in done.stderr.splitlines() if line.startswith("bearbound: step ")]
+    assert [line.split(":")[1] for line in steps] == [" step 1", " step 2"]
+    assert all("triangles lower" in line and "kPa" in line and "gap" in line and line.endswith(" s")
+               for line in steps)
+    result = json.loads((tmp_path / "out" / "clay" / "result.json").read_text())
+    refinement = result["refinement"]
+    assert (refinement["mesh"], refinement["reached"], refinement["steps"]) == ("adaptive", False, 2)
+    assert "max_steps = 2" in refinement["why"]
+    assert "target gap 0.01 % NOT reached" in done.stdout and "max_steps = 2" in done.stdout
+
+
+def test_fixed_mesh_flag_solves_one_mesh_and_says_so(tmp_path):
+    case = tmp_path / "clay.toml"
+    case.write_text(SMALL_CASE.replace('mesh = "fixed"\n', "target_gap = 0.0001\n"))
+    done = bearbound("run", str(case), "--fixed-mesh", "--no-pictures", "--no-report", cwd=tmp_path)
+    assert done.returncode == 0, done.stderr
+    assert "step 1" not in done.stderr
+    result = json.loads((tmp_path / "out" / "clay" / "result.json").read_text())
+    assert result["refinement"] == {"mesh": "fixed", "elements": 600} and "adapt_history" not in result
+    assert "one fixed mesh per bound" in done.stdout

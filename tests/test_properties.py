@@ -14,10 +14,12 @@ invented for the tests.
 """
 from __future__ import annotations
 
+import itertools
 import json
 import math
 import pathlib
 import tempfile
+import unicodedata
 
 import numpy as np
 from hypothesis import HealthCheck, assume, given, settings
@@ -54,11 +56,17 @@ ONE_LINE = st.text(st.characters(blacklist_categories=("Cs",)), min_size=1, max_
     lambda text: text.strip() != "" and text.isprintable())
 
 
+def zero_or(low: float, high: float) -> st.SearchStrategy[float]:
+    """0, or a number from low to high (keys whose positive values start at a floor)."""
+    return st.one_of(st.just(0.0), finite(low, high))
+
+
 @st.composite
 def case_dicts(draw) -> dict:
     """A valid case as the nested dict a case file holds, any of its optional keys given
     (but [geometry], which names a drawing file of its own: tests/test_sitefile.py)."""
-    names = draw(st.lists(ONE_LINE, min_size=1, max_size=3, unique=True))
+    width = draw(finite(0.1, 50))
+    names = draw(st.lists(ONE_LINE, min_size=1, max_size=3, unique_by=lambda n: unicodedata.normalize("NFC", n.strip())))
     layers = []
     for i, name in enumerate(names):
         layer = {"name": name, "model": draw(st.sampled_from(["mohr-coulomb", "tresca"])),
@@ -68,8 +76,8 @@ def case_dicts(draw) -> dict:
         if draw(st.booleans()):
             layer["saturated_unit_weight"] = draw(finite(max(layer["unit_weight"], WATER_UNIT_WEIGHT), 30))
         if layer["model"] == "mohr-coulomb":
-            layer["friction_angle"] = draw(finite(0, 89.9))
-            layer["cohesion"] = draw(finite(0, 200))
+            layer["friction_angle"] = draw(zero_or(0.1, 50))
+            layer["cohesion"] = draw(zero_or(0.01, 200))
             if layer["friction_angle"] == 0 and layer["cohesion"] == 0:
                 layer["cohesion"] = 1.0  # a layer needs some strength
             if draw(st.booleans()):
@@ -77,20 +85,26 @@ def case_dicts(draw) -> dict:
         else:
             layer["undrained_strength"] = draw(finite(0.5, 500))
             if draw(st.booleans()):
-                layer["strength_gradient"] = draw(finite(0, 10))
+                layer["strength_gradient"] = draw(zero_or(0.001, 10))
         layers.append(layer)
 
-    width = draw(finite(0.1, 50))
     footing = {"width": width, "base": draw(st.sampled_from(["rough", "smooth"]))}
     ground = {"surcharge": draw(finite(0, 500))}
-    if draw(st.booleans()):
-        ground["water_table"] = draw(finite(0, 50))
     if draw(st.booleans()):  # a slope beside the footing: no embedment then
-        ground |= {"slope_angle": draw(finite(0.1, 89.9)), "slope_height": draw(finite(0.1, 50)),
-                   "crest_setback": draw(finite(0, 20))}
+        ground |= {"slope_angle": draw(finite(1, 89.9)), "slope_height": draw(finite(0.1, min(50, 100 * width))),
+                   "crest_setback": draw(finite(0, min(20, 50 * width)))}
     elif draw(st.booleans()):
         total = sum(layer.get("thickness", math.inf) for layer in layers)
-        footing["embedment"] = draw(finite(0, 0.99 * min(total, 10.0)))
+        footing["embedment"] = draw(finite(0, 0.99 * min(total, 10.0 * width)))
+    # The base and the water table each at a level where the soil changes (an interface), or
+    # clear of it by at least the thinnest band the case check allows (0.001 B).
+    interfaces = list(itertools.accumulate(layer["thickness"] for layer in layers[:-1]))
+    clear = lambda depth, levels: all(depth == level or abs(depth - level) >= 0.001 * width for level in levels)
+    assume(clear(footing.get("embedment", 0.0), interfaces))
+    if draw(st.booleans()):
+        water = draw(finite(0, 50))
+        assume(clear(water, interfaces + [footing.get("embedment", 0.0)]))
+        ground["water_table"] = water
     if footing["base"] == "rough" and draw(st.booleans()):
         footing["load_inclination"] = draw(finite(-89.9, 89.9))
     if draw(st.booleans()):
@@ -160,15 +174,14 @@ def level_ground_soils(draw) -> dict:
     for i in range(2 if two else 1):
         if draw(st.booleans()):
             layer = {"model": "tresca", "undrained_strength": draw(finite(10, 60)),
-                     "strength_gradient": draw(st.sampled_from([0.0, draw(finite(0, 2))]))}
+                     "strength_gradient": draw(st.sampled_from([0.0, draw(finite(0.001, 2))]))}
         else:
-            # 0, or at least half a degree: with 0 < phi < about 1e-5 degrees the upper bound's
-            # certificate fails (load mismatch; reported to the lead, solver/certify.py), a
-            # withheld bound rather than a wrong one, but no bracket to compare
             phi = draw(st.sampled_from([0.0, draw(finite(0.5, 35))]))
-            layer = {"model": "mohr-coulomb", "friction_angle": phi,
-                     "cohesion": draw(finite(2 if phi < 5 else 0, 20))}
+            layer = {"model": "mohr-coulomb", "friction_angle": phi, "cohesion": draw(finite(2, 20))}
         layer |= {"name": f"soil {i + 1}", "unit_weight": draw(st.sampled_from([0.0, draw(finite(14, 20))]))}
+        if layer["model"] == "mohr-coulomb" and layer["friction_angle"] >= 5 and layer["unit_weight"] > 0:
+            # cohesionless but heavy (weightless, cohesionless soil with no surcharge carries nothing)
+            layer["cohesion"] = draw(st.sampled_from([0.0, layer["cohesion"]]))
         layers.append(layer)
     if two:
         layers[0]["thickness"] = draw(finite(0.5, 3))
@@ -177,9 +190,8 @@ def level_ground_soils(draw) -> dict:
                "embedment": draw(st.sampled_from([0.0, draw(finite(0, 0.5 * top))]))}
     ground = {"surcharge": draw(st.sampled_from([0.0, draw(finite(0, 20))]))}
     if draw(st.booleans()):
-        # At the base or at least 0.1 m from it and from the interface: a stratum thinner
-        # than about 1e-8 m stops the mesher (reported to the lead, solver/mesh.py), and
-        # one of 1e-6 to 1e-3 m gives certified but very loose bounds.
+        # At the base or at least 0.1 m from it and from the interface: the case check refuses
+        # a band thinner than 0.001 B, and one of 0.001 B to 0.01 B gives certified but loose bounds.
         water = footing["embedment"] + draw(st.sampled_from([0.0, draw(finite(0.1, 3))]))
         assume(not two or abs(water - top) >= 0.1)
         ground["water_table"] = water
@@ -207,7 +219,7 @@ def certified_pressures(result) -> tuple[float, float]:
 @SOLVING
 @given(bracket_cases())
 def test_lower_bound_never_exceeds_upper_bound(case: Case) -> None:
-    lower, upper = certified_pressures(analyse(case, elements=ELEMENTS))
+    lower, upper = certified_pressures(analyse(case, elements=ELEMENTS, adaptive=False))
     assert lower <= upper * (1 + ROUND_OFF), (lower, upper)
 
 
@@ -269,8 +281,9 @@ def test_more_strength_never_lowers_either_bound(data: dict, tan_phi_factor: flo
 @SOLVING
 @given(level_ground_soils(), finite(0.5, 40))
 def test_heavier_surcharge_never_lowers_the_bracket(data: dict, added_kPa: float) -> None:
-    # Level ground, vertical central load, one mesh (the domain does not depend on the
-    # surcharge; it is passed anyway so the premise is explicit and checked).
+    # Level ground, vertical central load, one mesh: the planned domain may depend on the
+    # surcharge (plan_domain ranks the strata by rough bearing capacities, which it raises),
+    # so both cases are solved on the light case's domain, hence on the same meshes.
     # Lower bound: adding an isotropic compression of added_kPa everywhere to an admissible
     # field keeps equilibrium, meets the heavier surcharge on the ground and keeps the
     # deviator while raising the yield radius by 2 added sin(phi) >= 0, so the bound rises
@@ -282,7 +295,6 @@ def test_heavier_surcharge_never_lowers_the_bracket(data: dict, added_kPa: float
     heavy = parse_case({**data, "ground": {**data["ground"],
                                            "surcharge": data["ground"]["surcharge"] + added_kPa}})
     domain = plan_domain(light)
-    assert plan_domain(heavy) == domain
     light_lower, light_upper, light_meshes = bounds_on(light, domain)
     heavy_lower, heavy_upper, heavy_meshes = bounds_on(heavy, domain)
     assert_same_meshes(light_meshes, heavy_meshes)

@@ -45,6 +45,7 @@ undrained_strength = 1.4
 load = 1.35
 [analysis]
 elements = 600
+mesh = "fixed"
 """
 
 PLAIN_CASE = """
@@ -58,6 +59,7 @@ undrained_strength = 30.0
 unit_weight = 0.0
 [analysis]
 elements = 600
+mesh = "fixed"
 """
 
 
@@ -209,7 +211,7 @@ def test_fields_vtu_round_trip_holds_both_bounds(tmp_path):
 
     case = parse_case({"footing": {"width": 2.0}, "layers": [
         {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}],
-        "analysis": {"elements": 600}})
+        "analysis": {"elements": 600, "mesh": "fixed"}})
     result = analyse(case)
     live = {"lower": bound_fields(result.lower), "upper": bound_fields(result.upper)}
     path = write_fields_vtu(live["lower"], live["upper"], tmp_path)
@@ -273,7 +275,7 @@ SLOPE_CASE = {
         {"name": "stiff clay", "model": "tresca", "undrained_strength": 40.0, "unit_weight": 18.0},
     ],
     "factors": {"friction": 1.25, "cohesion": 1.3, "undrained_strength": 1.4, "load": 1.35},
-    "analysis": {"elements": 500},
+    "analysis": {"elements": 500, "mesh": "fixed"},
 }
 
 
@@ -319,7 +321,7 @@ def test_fields_vtu_keeps_the_velocity_jumps(tmp_path):
 
     case = parse_case({"footing": {"width": 2.0}, "layers": [
         {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}],
-        "analysis": {"elements": 400, "velocity_jumps": "all", "bounds": "upper"}})
+        "analysis": {"elements": 400, "mesh": "fixed", "velocity_jumps": "all", "bounds": "upper"}})
     live = bound_fields(analyse(case).upper)
     assert len(live.arrays["jump_dissipation"]) > 0
     path = write_fields_vtu(None, live, tmp_path)

@@ -24,7 +24,7 @@ BASE = {"title": "Stiff clay over soft clay",
         "layers": [{"name": "stiff clay", "thickness": 0.5, "model": "tresca",
                     "undrained_strength": 40.0, "unit_weight": 0.0},
                    {"name": "soft clay", "model": "tresca", "undrained_strength": 20.0, "unit_weight": 0.0}],
-        "analysis": {"elements": 400}}
+        "analysis": {"elements": 400, "mesh": "fixed"}}
 
 
 def sweep_of(vary, **more):
@@ -65,7 +65,7 @@ def test_zip_ranges_and_unquoted_dotted_keys():
 def test_hash_follows_the_whole_case():
     a = sweep_of({"footing.width": [1.0, 2.0]})
     b = sweep_of({"footing.width": [2.0]})
-    c = parse_sweep({"base": {**BASE, "analysis": {"elements": 500}}, "vary": {"footing.width": [2.0]}})
+    c = parse_sweep({"base": {**BASE, "analysis": {"elements": 500, "mesh": "fixed"}}, "vary": {"footing.width": [2.0]}})
     assert a.points[1].sha256 == b.points[0].sha256
     assert c.points[0].sha256 != b.points[0].sha256
 
@@ -74,7 +74,7 @@ def test_hash_follows_the_whole_case():
     ({"footing.widht": [1.0]}, {}, ["vary.footing.widht", "did you mean 'width'"]),
     ({"layers.2.thickness": [1.0]}, {}, ["vary.layers.2.thickness", "0 to 1", "counted from 0"]),
     ({"layers.0.friction_angle": [30.0]}, {}, ["vary.layers.0.friction_angle", "tresca"]),
-    ({"footing.width": [-1.0, 1.0]}, {}, ["vary.footing.width", "-1.0", "> 0"]),
+    ({"footing.width": [-1.0, 1.0]}, {}, ["vary.footing.width", "-1.0", ">= 0.01"]),
     ({"footing.width": [1.0, 1.0]}, {}, ["vary.footing.width", "twice"]),
     ({"footing.width": {"start": 1, "stop": 2}}, {}, ["vary.footing.width.num", "missing"]),
     ({"footing.width": [1.0, 2.0], "ground.surcharge": [0.0]}, {"combine": "zip"},
@@ -91,7 +91,7 @@ def test_bad_sweep_is_one_line_naming_the_key(vary, extra, words):
 
 def test_bad_base_and_misplaced_files(tmp_path):
     one_line_error(lambda: parse_sweep({"base": {**BASE, "footing": {"width": 0}}, "vary": {}}),
-                   "base.footing.width", "> 0")
+                   "base.footing.width", ">= 0.01")
     one_line_error(lambda: parse_sweep({"vary": {"footing.width": [1.0]}}), "base: missing")
     case = tmp_path / "site.toml"
     case.write_text('[footing]\nwidth = 2.0\n[[layers]]\nname = "clay"\nmodel = "tresca"\n'
@@ -222,9 +222,9 @@ def test_cli_sweep_records_a_failed_point_and_goes_on(tmp_path):
         "undrained_strength = 40.0", "unit_weight = 0.0",
         "[[base.layers]]", 'name = "soft clay"', 'model = "tresca"', "undrained_strength = 20.0",
         "unit_weight = 0.0",
-        "[base.analysis]", "elements = 400"])
+        "[base.analysis]", "elements = 400", "mesh = \"fixed\""])
     (tmp_path / "clay-sweep.toml").write_text(
-        'title = "Test sweep"\n[vary]\n"layers.1.undrained_strength" = [0.0, 20.0]\n'
+        'title = "Test sweep 粘土"\n[vary]\n"layers.1.undrained_strength" = [0.0, 20.0]\n'
         '[chart]\ndivide_by = "layers.0.undrained_strength"\nformats = ["png", "svg"]\n' + base + "\n")
     done = subprocess.run([sys.executable, "-m", "solver.cli", "sweep", "clay-sweep.toml", "--workers", "1",
                            "--no-progress"], cwd=tmp_path, capture_output=True, text=True, timeout=300)
@@ -239,6 +239,7 @@ def test_cli_sweep_records_a_failed_point_and_goes_on(tmp_path):
     assert "undrained strength of &#39;soft clay&#39; (kPa)" in svg or "undrained strength of 'soft clay' (kPa)" in svg
     assert "collapse pressure q / undrained strength of" in svg and "(-)" in svg
     assert "point 0" in done.stdout and "Caution" in done.stdout
+    assert done.stderr == ""  # no library warning (the font lacks the title's glyphs), no log line
 
 
 def test_more_keys_than_two_give_one_chart_per_combination(tmp_path):
@@ -249,3 +250,30 @@ def test_more_keys_than_two_give_one_chart_per_combination(tmp_path):
                 "upper_kPa": 110.0 + p.index} for p in sweep.points]
     files = solver.sweep.write_charts(sweep, records, tmp_path)
     assert sorted(f.name for f in files) == [f"chart-{i}.png" for i in (1, 2, 3)]
+
+
+def test_a_point_over_the_time_limit_is_stopped_and_the_sweep_goes_on(tmp_path):
+    """One point (400k triangles) would take far longer than the whole test's timeout; with
+    point_time_limit_s = 4 it is stopped, recorded as failed, and the next point (a fresh
+    point process on the same single worker) is solved."""
+    base = "\n".join([
+        "[base.footing]", "width = 1.0",
+        "[[base.layers]]", 'name = "clay"', 'model = "tresca"', "undrained_strength = 20.0", "unit_weight = 0.0",
+        "[base.analysis]", "elements = 400", "mesh = \"fixed\""])
+    (tmp_path / "limit.toml").write_text(
+        'point_time_limit_s = 4\n[vary]\n"analysis.elements" = [400000, 400]\n' + base + "\n")
+    done = subprocess.run([sys.executable, "-m", "solver.cli", "sweep", "limit.toml", "--workers", "1",
+                           "--no-progress"], cwd=tmp_path, capture_output=True, text=True, timeout=240)
+    assert done.returncode == 1, done.stderr
+    rows = read_csv(tmp_path / "out" / "limit" / "sweep.csv")
+    assert [r["status"] for r in rows] == [FAILED, CERTIFIED]
+    assert rows[0]["reason"].startswith("time limit: stopped after 4 s") and rows[0]["lower_kPa"] == ""
+    assert 4.0 <= float(rows[0]["wall_s"]) < 30.0
+    assert "point 0" in done.stdout and "time limit" in done.stdout
+
+
+@pytest.mark.parametrize("value", [0, -1, "1h", 1e9, True])
+def test_point_time_limit_is_checked(value):
+    one_line_error(lambda: parse_sweep({"base": BASE, "vary": {"footing.width": [1.0]}, "point_time_limit_s": value}),
+                   "point_time_limit_s: ", "is not allowed; must be a number > 0 and <= 604800 (s)")
+    assert parse_sweep({"base": BASE, "vary": {"footing.width": [1.0]}}).point_time_limit_s == 3600.0

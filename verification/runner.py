@@ -57,7 +57,7 @@ except ImportError:  # `python verification/runner.py` without an installed pack
 
 from solver import __version__  # noqa: E402
 from solver.analysis import analyse  # noqa: E402
-from solver.case import CaseError, parse_case  # noqa: E402
+from solver.case import CaseError, _show, parse_case  # noqa: E402
 from solver.model import Case  # noqa: E402
 from solver.result import CAUTION, write_atomic  # noqa: E402
 
@@ -608,7 +608,7 @@ def run_cases(quick: bool, only: list[str] | None = None,
         known = [c["id"] for c in cases]
         for case_id in only:
             if case_id not in known:
-                raise VerificationError(f"--only: {case_id!r} is not allowed; must be one of "
+                raise VerificationError(f"--only: {_show(case_id)} is not allowed; must be one of "
                                         + ", ".join(known))
         cases = [c for c in cases if c["id"] in only]
     elif quick:
@@ -631,7 +631,7 @@ def _run_one(entry: dict, elements: int) -> dict:
     notes: list[str] = []
     skipped = None
     try:
-        result = analyse(case, bounds="both", elements=elements)
+        result = analyse(case, bounds="both", elements=elements, adaptive=False)
         for kind in ("lower", "upper"):
             bound = getattr(result, kind)
             bounds[kind] = None if bound.pressure_kPa is None else bound.pressure_kPa / divisor

@@ -1,0 +1,13 @@
+// Bad site file for the tests (invented): the outline crosses itself (the far base runs
+// back across the right far side); gmsh meshed this for ever.
+Point(1) = {-10, -8, 0}; Point(2) = {10, -8, 0}; Point(3) = {10, 0, 0};
+Point(4) = {1, 0, 0}; Point(5) = {-1, 0, 0}; Point(6) = {-10, 0, 0}; Point(7) = {12, -4, 0};
+Line(1) = {1, 2}; Line(2) = {2, 3}; Line(3) = {3, 4}; Line(4) = {4, 5}; Line(5) = {5, 6};
+Line(6) = {6, 7}; Line(7) = {7, 1};
+Curve Loop(1) = {1, 2, 3, 4, 5, 6, 7};
+Plane Surface(1) = {1};
+Physical Surface("clay") = {1};
+Physical Curve("far base") = {1};
+Physical Curve("far side") = {2, 6, 7};
+Physical Curve("ground") = {3, 5};
+Physical Curve("footing") = {4};
