@@ -16,12 +16,13 @@ from .certify_axisym import (certify_lower_axisym, certify_upper_axisym, lower_s
                              upper_velocity_field_axisym)
 from .conic import solve, stronger_settings
 from .ground import material_arrays, node_cohesion
-from .hand import hand_methods, where_it_falls
+from .hand import hand_methods, information_only, where_it_falls
 from .lower import lower_bound_program
 from .lower_axisym import lower_bound_program_axisym
 from .mesh import Mesh, build_mesh, far_edge_names, grow_domain, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
-from .result import BoundResult, Result
+from .plausible import input_warnings
+from .result import MOVING_SPEED_FRACTION, BoundResult, Result
 from .upper import upper_bound_program
 from .upper_axisym import upper_bound_program_axisym
 
@@ -128,15 +129,20 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                             "slope_crest_x_m": domain.crest_x, "slope_toe_x_m": domain.toe_x,
                             "slope_height_m": domain.slope_height},
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
-                    backend=backend, notes=notes)
+                    backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
     result.refinement = refinement
     lo = lower.pressure_kPa if lower else None
     up = upper.pressure_kPa if upper else None
-    result.hand_methods = [{"method": h.method, "source": h.source, "pressure_kPa": h.pressure_kPa,
-                            "factors": h.factors, "note": h.note,
-                            "where": where_it_falls(h.pressure_kPa, lo, up)} for h in hand_methods(case)]
+    result.hand_methods = [_hand_row(h, where_it_falls(h.pressure_kPa, lo, up)) for h in hand_methods(case)]
+    # compared like with like above; the strength as typed, for information only
+    result.hand_methods_as_given = [_hand_row(h, "information only") for h in information_only(case)]
     return result
+
+
+def _hand_row(h, where: str) -> dict:
+    return {"method": h.method, "source": h.source, "pressure_kPa": h.pressure_kPa, "factors": h.factors,
+            "note": h.note, "where": where}
 
 
 def two_cores_free() -> bool:
@@ -457,10 +463,11 @@ def _yield_at_far_boundary(case: Case, mesh: Mesh, program, x: np.ndarray, field
 
 
 def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
-    """Where the soil moves: extent of nodes moving faster than CLEAR_FRACTION of the footing,
-    whether any node next to the fixed far boundary does, and next to which far edges."""
+    """Where the soil moves: extent of nodes moving faster than MOVING_SPEED_FRACTION of the
+    footing (the pictures' frame and arrows use the same), whether any node next to the fixed
+    far boundary moves faster than the much smaller CLEAR_FRACTION, and next to which far edges."""
     speed = np.hypot(velocity[:, 0], velocity[:, 1])
-    moving = speed > CLEAR_FRACTION
+    moving = speed > MOVING_SPEED_FRACTION
     names = far_edge_names(mesh)
     far_nodes = np.unique(mesh.boundary_edges[names != ""])
     near_far = np.zeros(len(mesh.points), dtype=bool)
@@ -484,7 +491,8 @@ def _mechanism_extent(mesh: Mesh, velocity: np.ndarray) -> dict:
     x_hi = float(mesh.points[moving, 0].max()) if moving.any() else 0.0
     if mesh.domain.half:
         x_lo = -x_hi
-    return {"mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
+    return {"mechanism_speed_fraction": MOVING_SPEED_FRACTION,
+            "mechanism_depth_m": depth, "mechanism_depth_over_B": depth / B,
             "mechanism_x_min_m": x_lo, "mechanism_x_max_m": x_hi,
             "mechanism_width_m": x_hi - x_lo, "mechanism_width_over_B": (x_hi - x_lo) / B,
             "mechanism_half_width_m": half_width, "mechanism_half_width_over_B": half_width / B,

@@ -169,6 +169,9 @@ FOOTING_KEYS = {
     "eccentricity": Key(float, "m", default=0.0),
     "design_load": Key(float, "kN/m", gt=0, le=1e6, default=None, above="; no strip footing carries that" + _UNITS),
     "shape": Key(str, choices=("strip", "circular"), default="strip"),  # circular: width = diameter
+    # the factors of safety the design must reach (optional; checked against design_load)
+    "required_factor_of_safety_on_load": Key(float, "collapse load / design load", ge=1, le=10, default=None),
+    "required_factor_of_safety_on_strength": Key(float, "strength-reduction factor", ge=1, le=10, default=None),
 }
 GROUND_KEYS = {
     "surcharge": Key(float, "kPa", ge=0, le=1e4, default=0.0, above="; that is the weight of 500 m of soil" + _UNITS),
@@ -274,6 +277,10 @@ NOT_WITH_CIRCLE = (
                                 "axisymmetric"),
     ("footing.design_load", None, "left out with shape = 'circular': this version gives factors of "
                                   "safety for strip footings only"),
+    ("footing.required_factor_of_safety_on_load", None, "left out with shape = 'circular': this version "
+                                                         "gives factors of safety for strip footings only"),
+    ("footing.required_factor_of_safety_on_strength", None, "left out with shape = 'circular': this version "
+                                                             "gives factors of safety for strip footings only"),
     ("analysis.velocity_jumps", "none", "'none' with shape = 'circular': velocity jumps are built for "
                                         "strip footings only"),
 )
@@ -597,6 +604,10 @@ def _check_consistency(footing: Footing, ground: Ground, layers: tuple[Layer, ..
     if footing.load_inclination != 0 and footing.base == "smooth":
         raise _not_allowed("footing.load_inclination", footing.load_inclination,
                            "0 (degrees) under a smooth base: a smooth base carries no horizontal load")
+    for key in ("required_factor_of_safety_on_load", "required_factor_of_safety_on_strength"):
+        if getattr(footing, key) is not None and footing.design_load is None:
+            raise _not_allowed(f"footing.{key}", getattr(footing, key),
+                               "given together with footing.design_load (kN/m), the load it is checked against")
     if ground.slope_angle > 0 and ground.slope_height is None:
         raise CaseError(f"ground.slope_height: missing; required when slope_angle = "
                         f"{ground.slope_angle:g} > 0, must be {GROUND_KEYS['slope_height'].allowed}")

@@ -299,7 +299,8 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
 def format_summary(result, path: Path | None = None) -> str:
     """The bracket, each bound's standing, and the hand methods beside it."""
     area = result.bearing_area
-    lines = [f"{result.title}", "  collapse pressure under the footing, kPa (compression positive)"]
+    lines = [f"{result.title}"] + [f"  WARNING: {w}" for w in getattr(result, "input_warnings", [])]
+    lines.append("  collapse pressure under the footing, kPa (compression positive)")
     for bound in (result.lower, result.upper):
         if bound is None:
             continue
@@ -332,10 +333,16 @@ def format_summary(result, path: Path | None = None) -> str:
         lines.append("  hand methods, kPa (vertical component / "
                      + ("B)" if result.footing_shape == "strip" else "footing area)"))
         lines += _hand_lines(result.hand_methods)
+    if getattr(result, "hand_methods_as_given", None):
+        lines.append(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
+        lines += _hand_lines([r for r in result.hand_methods_as_given if r["pressure_kPa"] is not None])
     if path is not None:
         lines.append(f"  written: {shown(path, 200)}")
     lines.append(f"  Caution: {CAUTION}")
     return "\n".join(lines)
+
+
+AS_GIVEN = "information only, not compared with the bracket (the bounds use the Davis-reduced strength)"
 
 
 def _hand_lines(rows: list[dict]) -> list[str]:
@@ -348,20 +355,26 @@ def _hand_lines(rows: list[dict]) -> list[str]:
         if r["pressure_kPa"] is None:
             reasons.setdefault(r["note"], []).append(r["method"])
     for note, methods in reasons.items():
-        out.append(f"    not applicable ({'; '.join(methods)}): {note}")
+        out.append(f"    no value ({'; '.join(methods)}): {note}")
     return out
 
 
 def _hand(args) -> int:
     case = load_case(args.case)
-    from .hand import hand_methods
+    from .hand import hand_methods, information_only
+    from .plausible import input_warnings
 
-    rows = [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
-             "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())}
-            for h in hand_methods(case)]
-    print(f"{case.title}\n  hand methods, kPa (vertical component / "
+    def rows(estimates):
+        return [{"method": h.method, "pressure_kPa": h.pressure_kPa, "note": h.note,
+                 "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())} for h in estimates]
+
+    print("\n".join([case.title] + [f"  WARNING: {w}" for w in input_warnings(case)]))
+    print("  hand methods, kPa (vertical component / "
           + ("B)" if case.footing.shape == "strip" else "footing area)"))
-    print("\n".join(_hand_lines(rows)))
+    print("\n".join(_hand_lines(rows(hand_methods(case)))))
+    if information_only(case):
+        print(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
+        print("\n".join(_hand_lines(rows(information_only(case)))))
     print(f"  Caution: {CAUTION}")
     return 0
 

@@ -30,7 +30,7 @@ from .case import CaseError, open_regular, shown
 
 LOWER_BLOCK, UPPER_BLOCK, JUMP_BLOCK = 0, 1, 2
 FIELDS_FILE, SUMMARY_FILE, CASE_COPY = "fields.vtu", "summary.csv", "case.toml"
-PICTURE_NAMES = ("model", "mechanism", "stress")
+PICTURE_NAMES = ("model", "mechanism", "stress", "contact")
 OUTPUT_NAMES = ("result.json", FIELDS_FILE, SUMMARY_FILE, "report.html") + tuple(
     f"{name}.{ext}" for name in PICTURE_NAMES for ext in ("png", "svg"))  # the case file must be none of these
 SITE_COPY = "site"  # a drawn site's file is copied as site.geo / site.msh
@@ -305,39 +305,68 @@ def read_fields_vtu(path: Path) -> dict[str, BoundFields]:
 # -- summary.csv ------------------------------------------------------------------
 
 SUMMARY_COLUMNS = (
-    "case", "title", "footing_width_m", "lower_kPa", "upper_kPa", "gap_percent",
-    "lower_kN_per_m", "upper_kN_per_m", "lower_status", "upper_status",
-    "design_load_kN_per_m", "load_factor_lower", "load_factor_upper",
-    "strength_factor_lower", "strength_factor_upper", "strength_solves",
+    "case", "title", "footing_width_m",
+    "lower_pressure_kPa", "upper_pressure_kPa", "gap_percent",
+    "lower_vertical_load_kN_per_m", "upper_vertical_load_kN_per_m",
+    "lower_resultant_load_kN_per_m", "upper_resultant_load_kN_per_m",
+    "lower_status", "upper_status",
+    "design_load_kN_per_m", "design_load_carried",
+    "factor_of_safety_on_load_lower", "factor_of_safety_on_load_upper",
+    "factor_of_safety_on_strength_lower", "factor_of_safety_on_strength_upper",
+    "factor_of_safety_on_strength_solves", "factor_of_safety_on_strength_note",
+    "required_factor_of_safety_on_load", "required_factor_of_safety_on_load_met",
+    "required_factor_of_safety_on_strength", "required_factor_of_safety_on_strength_met",
     "design_action_kN_per_m", "design_resistance_lower_kN_per_m", "design_resistance_upper_kN_per_m",
-    "design_resistance_covers_action",
+    "design_resistance_covers_action", "input_warnings",
     "lower_elements", "upper_elements", "wall_time_s", "software_version", "case_sha256",
 )
 
 
 def summary_row(data: dict) -> dict:
-    """The one row of summary.csv from the result.json dict."""
+    """The one row of summary.csv from the result.json dict.
+
+    Each column holds what its name says: ``*_pressure_kPa`` the vertical component of
+    the collapse load over B, ``*_vertical_load_kN_per_m`` that component,
+    ``*_resultant_load_kN_per_m`` the collapse load along the load's line of action (what
+    the design load is compared with); ``*_met`` columns hold met / not met / undecided.
+    """
     lower, upper = data.get("lower") or {}, data.get("upper") or {}
     fos = data.get("factor_of_safety") or {}
-    load, strength = fos.get("load") or {}, fos.get("strength") or {}
+    load, strength = fos.get("on_load") or {}, fos.get("on_strength") or {}
     partial = fos.get("partial_factors") or {}
     resistance = partial.get("design_resistance_kN_per_m") or {}
+    B = data["footing_width_m"]
+    checks = {check["check"]: check for check in fos.get("checks") or []}
+    required = {kind: checks.get(f"required factor of safety on {kind}") or {} for kind in ("load", "strength")}
+    reasons = strength.get("reason") or {}
+    note = "; ".join(f"{kind}: {(strength.get('search') or {}).get(kind)}, {reasons[kind]}"
+                     for kind in ("lower", "upper") if reasons.get(kind))
     return {
-        "case": data["case"]["name"], "title": data["title"],
-        "footing_width_m": data["footing_width_m"],
-        "lower_kPa": lower.get("pressure_kPa"), "upper_kPa": upper.get("pressure_kPa"),
+        "case": data["case"]["name"], "title": data["title"], "footing_width_m": B,
+        "lower_pressure_kPa": lower.get("pressure_kPa"), "upper_pressure_kPa": upper.get("pressure_kPa"),
         "gap_percent": data.get("gap_percent"),
-        "lower_kN_per_m": lower.get("load_kN_per_m"), "upper_kN_per_m": upper.get("load_kN_per_m"),
+        "lower_vertical_load_kN_per_m": None if lower.get("pressure_kPa") is None else lower["pressure_kPa"] * B,
+        "upper_vertical_load_kN_per_m": None if upper.get("pressure_kPa") is None else upper["pressure_kPa"] * B,
+        "lower_resultant_load_kN_per_m": lower.get("load_kN_per_m"),
+        "upper_resultant_load_kN_per_m": upper.get("load_kN_per_m"),
         "lower_status": lower.get("status", "not asked for"), "upper_status": upper.get("status", "not asked for"),
         "design_load_kN_per_m": fos.get("design_load_kN_per_m"),
-        "load_factor_lower": load.get("lower"), "load_factor_upper": load.get("upper"),
-        "strength_factor_lower": strength.get("lower"), "strength_factor_upper": strength.get("upper"),
-        "strength_solves": strength.get("solves"),
+        "design_load_carried": (checks.get("design load carried") or {}).get("outcome"),
+        "factor_of_safety_on_load_lower": load.get("lower"), "factor_of_safety_on_load_upper": load.get("upper"),
+        "factor_of_safety_on_strength_lower": strength.get("lower"),
+        "factor_of_safety_on_strength_upper": strength.get("upper"),
+        "factor_of_safety_on_strength_solves": strength.get("solves"),
+        "factor_of_safety_on_strength_note": note or None,
+        "required_factor_of_safety_on_load": required["load"].get("required"),
+        "required_factor_of_safety_on_load_met": required["load"].get("outcome"),
+        "required_factor_of_safety_on_strength": required["strength"].get("required"),
+        "required_factor_of_safety_on_strength_met": required["strength"].get("outcome"),
         "design_action_kN_per_m": partial.get("action_kN_per_m"),
         "design_resistance_lower_kN_per_m": resistance.get("lower"),
         "design_resistance_upper_kN_per_m": resistance.get("upper"),
         "design_resistance_covers_action": {True: "yes", False: "no"}.get(partial.get("covered"),
                                                                            "" if not partial else "undecided"),
+        "input_warnings": "; ".join(data.get("input_warnings") or []) or None,
         "lower_elements": lower.get("elements"), "upper_elements": upper.get("elements"),
         "wall_time_s": data["timing"].get("total_s"),
         "software_version": data["software"]["version"], "case_sha256": data["case"]["sha256"],

@@ -44,9 +44,15 @@ The case's loads and ground enter every method the same way:
 Units: lengths in m, stresses in kPa, unit weights in kN/m^3, angles in degrees,
 line loads in kN/m.
 
-Bibliographic details (journal volumes, pages, table numbers) are from memory
-and should be checked before they are cited. Values and formulas recalled
-rather than read from the source are marked "from memory" where they are used.
+What reports give: each estimate cites the paper of its published formula.
+A value that could only be recalled from a chart or table and not checked
+against its source here is not given in reports: Terzaghi's N_gamma (he gave
+it as a curve; the tables of it are recalled), so Terzaghi's estimate is given
+only where the N_gamma term vanishes, and Meyerhof & Hanna's Ks and ca/c1 (read
+from their charts), so their method says where it applies but gives no value.
+The docstrings below mark "from memory" where a formula or a bibliographic
+detail was written down from memory rather than read from the paper; such a
+detail should be checked against the paper before it is relied on.
 
 Results are for checking by a qualified engineer; local codes and licensed
 practice govern.
@@ -96,15 +102,19 @@ from collections.abc import Callable
 
 from scipy.optimize import brentq
 
-from solver.model import WATER_UNIT_WEIGHT, Case, Layer
+from solver.model import WATER_UNIT_WEIGHT, Case, Layer, davis_reduction
 
 # -- references, one line each, for HandEstimate.source -----------------------
 
 SRC_PRANDTL = ("Prandtl, L. (1920), Nachr. Ges. Wiss. Goettingen, Math.-Phys. Kl., 74-85; "
                "Reissner, H. (1924), Proc. 1st Int. Congr. Appl. Mech., Delft, 295-311")
-SRC_TERZAGHI = ("Terzaghi, K. (1943). Theoretical Soil Mechanics. Wiley, New York; N_gamma as "
-                "tabulated in Bowles, J.E. (1996). Foundation Analysis and Design, 5th ed., "
-                "McGraw-Hill, Table 4-2 (table number from memory)")
+SRC_TERZAGHI = "Terzaghi, K. (1943). Theoretical Soil Mechanics. John Wiley & Sons, New York (Nc, Nq)"
+# Terzaghi's N_gamma values, recalled: used by terzaghi_footing (library and tests), never in reports
+SRC_TERZAGHI_NGAMMA = ("N_gamma as tabulated in Bowles, J.E. (1996). Foundation Analysis and Design, 5th ed., "
+                       "McGraw-Hill, Table 4-2 (values and table number from memory)")
+TERZAGHI_NGAMMA_UNCHECKED = ("Terzaghi (1943) gave N_gamma only as a curve, and the tables of it could not be "
+                             "checked against a source here, so no value is given where the N_gamma term "
+                             "counts (phi > 0 on soil with weight) - see Meyerhof, Hansen, Vesic, EN 1997-1")
 SRC_MEYERHOF = ("Meyerhof, G.G. (1963). Some recent research on the bearing capacity of "
                 "foundations. Canadian Geotechnical Journal 1(1), 16-26")
 SRC_HANSEN = ("Brinch Hansen, J. (1970). A revised and extended formula for bearing capacity. "
@@ -120,7 +130,10 @@ SRC_MEYERHOF_HANNA = ("Meyerhof, G.G. & Hanna, A.M. (1978). Ultimate bearing cap
                       "Journal 15(4), 565-572")
 SRC_BROWN_MEYERHOF = ("Brown, J.D. & Meyerhof, G.G. (1969). Experimental study of bearing "
                       "capacity in layered clays. Proc. 7th Int. Conf. Soil Mech. Found. Eng., "
-                      "Mexico City, Vol. 2, 45-51 (formula from memory)")
+                      "Mexico City, Vol. 2, 45-51 (strip: Nc = 1.5 H/B + 5.14 su2/su1)")
+MEYERHOF_HANNA_UNCHECKED = ("the punching-shear coefficient Ks and the adhesion ratio ca/c1 are read from "
+                            "the paper's charts, which could not be checked against the paper here, so no "
+                            "value is given")
 SRC_SHORTCUT = "common practice (equivalent homogeneous soil); factors: " + SRC_MEYERHOF
 SRC_MEYERHOF_1953 = ("Meyerhof, G.G. (1953). The bearing capacity of foundations under eccentric "
                      "and inclined loads. Proc. 3rd Int. Conf. Soil Mech. Found. Eng., Zurich, "
@@ -678,7 +691,8 @@ def terzaghi_footing(phi_deg: float, c_kPa: float, gamma: float, B: float, q: fl
     name = f"Terzaghi (1943), {'local' if local_shear else 'general'} shear"
     if shape != "strip":
         name += f", {shape}"
-    return HandEstimate(name, SRC_TERZAGHI, float(pressure), factors, "; ".join(notes))
+    source = SRC_TERZAGHI + (f"; {SRC_TERZAGHI_NGAMMA}" if f["Ngamma"] > 0.0 and gamma > 0.0 else "")
+    return HandEstimate(name, source, float(pressure), factors, "; ".join(notes))
 
 
 # -- reading the ground ------------------------------------------------------------
@@ -740,9 +754,6 @@ def _homogeneous(case: Case) -> tuple[_Soil | None, str]:
                          "(conservative: su rises with depth)")
     else:
         notes.append(f"c' = {soil.c_kPa:.4g} kPa, phi' = {soil.phi_deg:.4g} deg")
-        if first[0].dilation_angle is not None:
-            notes.append("the factors take c', phi' as given; the bounds' Davis (1968) reduction "
-                         "for the dilation angle is not applied here")
     return soil, "; ".join(notes)
 
 
@@ -876,6 +887,8 @@ def _terzaghi_on(case: Case, soil: _Soil | None, why: str, local_shear: bool) ->
         return _none(name, SRC_TERZAGHI, f"phi = {phi_used:.4g} deg is beyond Terzaghi's "
                                          "table (0 to 50 deg)")
     gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
+    if phi_used > 0.0 and gamma > 0.0:
+        return _none(name, SRC_TERZAGHI, TERZAGHI_NGAMMA_UNCHECKED)
     est = terzaghi_footing(soil.phi_deg, soil.c_kPa, gamma, st.width_eff, st.q,
                            "circle" if case.footing.shape == "circular" else "strip", local_shear=local_shear)
     notes = [why, est.note, *_setting_notes(st, soil, gamma)]
@@ -1102,8 +1115,13 @@ def _layered_refusal(case: Case, method: str, source: str) -> HandEstimate | Non
     return None
 
 
-def _meyerhof_hanna(case: Case) -> HandEstimate:
+def _meyerhof_hanna(case: Case, recalled_charts: bool = False) -> HandEstimate:
     """Meyerhof & Hanna (1978), Can. Geotech. J. 15(4): strong layer over weak, strip.
+
+    Without ``recalled_charts`` (as every report calls it) the estimate says where the
+    method does not apply and otherwise gives no value, as its Ks and ca/c1 are chart
+    values recalled, not checked (MEYERHOF_HANNA_UNCHECKED); with it, the value below
+    (tests, and a check against the charts once they are at hand).
 
     q_u = q_b + 2 ca H / B + (gamma1 H^2 + 2 q H) Ks tan(phi1) / B - gamma1 H <= q_t
 
@@ -1156,6 +1174,8 @@ def _meyerhof_hanna(case: Case) -> HandEstimate:
         return _none(method, SRC_MEYERHOF_HANNA,
                      f"the top layer '{top.name}' is not the stronger (q2/q1 = {ratio:.3g} >= 1); "
                      "the strong-over-weak formula does not apply")
+    if not recalled_charts:
+        return _none(method, SRC_MEYERHOF_HANNA, MEYERHOF_HANNA_UNCHECKED)
     q_top = _strip_pressure(top.c_kPa, q, gamma1_thick, width, f1)
     q_base = _strip_pressure(low.c_kPa, q + gamma1 * h, gamma2, width, f2)
     ca_over_c1 = 0.6 + 0.4 * ratio
@@ -1218,7 +1238,7 @@ def _brown_meyerhof(case: Case) -> HandEstimate:
     nc = min(1.5 * h / width + (math.pi + 2.0) * ratio, math.pi + 2.0)
     pressure = top.c_kPa * nc + st.q
     notes = [f"su1 = {top.c_kPa:.4g} kPa ('{top.name}') over su2 = {low.c_kPa:.4g} kPa "
-             f"('{low.name}'), H = {h:.3g} m below the base", "formula from memory"]
+             f"('{low.name}'), H = {h:.3g} m below the base"]
     if nc >= math.pi + 2.0:
         notes.append(f"soft layer deep enough (H/B = {h / width:.3g}): the top-layer value governs")
     if top.gradient > 0.0 or low.gradient > 0.0:
@@ -1284,6 +1304,8 @@ def _averaged(case: Case) -> HandEstimate:
     over B below the base, then Meyerhof's (1963) strip pressure with depth and
     inclination factors on B'. Common practice. Tresca su is averaged over its
     linear profile; gamma is effective below the water table. Slopes: None.
+    Drained and undrained layers together: None (an average of phi' and su
+    describes no soil).
     """
     method = f"Equivalent homogeneous: average over {AVERAGING_DEPTH_WIDTHS:g}B"
     st = _setting(case)
@@ -1300,6 +1322,13 @@ def _averaged(case: Case) -> HandEstimate:
         c_mean = c_top + soil.gradient * t / 2.0 if soil.tresca else soil.c_kPa
         rows.append((t, c_mean, math.tan(math.radians(soil.phi_deg)),
                      _mean_gamma(case, layer, top, top + t), soil.tresca))
+    if len({r[4] for r in rows}) > 1:
+        names = ", ".join(f"'{layer.name}'" for layer, top, *_ in case.layers_below_base() if top < zone)
+        return _none(method, SRC_SHORTCUT,
+                     f"the layers within {zone:.3g} m below the base ({names}) mix drained (c', phi') and "
+                     "undrained (su) strengths; an average of a friction angle with an undrained strength "
+                     "describes no soil, as the drained and the undrained analyses answer different questions "
+                     "- see the weakest-layer shortcut")
     data = np.array([r[:4] for r in rows], dtype=float)
     weights = data[:, 0] / zone
     c_bar, tan_bar, gamma_bar = (weights[:, None] * data[:, 1:]).sum(axis=0)
@@ -1309,8 +1338,6 @@ def _averaged(case: Case) -> HandEstimate:
     notes = [f"average over {zone:.3g} m below the base of {len(rows)} layer(s): "
              f"c = {c_bar:.4g} kPa, phi = {phi_bar:.4g} deg, gamma = {gamma_bar:.4g} kN/m^3",
              "Meyerhof (1963) factors with depth factors"]
-    if len({r[4] for r in rows}) > 1:
-        notes.append("mixes drained (c', phi') and undrained (su) strengths")
     notes += _setting_notes(st, None, None)
     if st.delta_deg > 0.0:
         notes.append(_inclined_note(st, capped, False))
@@ -1325,8 +1352,48 @@ def _level_stand_in(case: Case) -> Case:
     return dataclasses.replace(case, geometry=None, layers=case.layers[:1])
 
 
-def hand_methods(case: Case) -> list[HandEstimate]:
+STRENGTHS = ("as analysed", "as given")
+INFORMATION_ONLY = ("information only: on c', phi' as given, not compared with the bracket, which uses "
+                    "the Davis (1968) reduced strength")
+
+
+def davis_reduced(case: Case) -> Case:
+    """The case with the strength the bounds use: each Mohr-Coulomb layer with a dilation
+    angle gets c* and phi* of the Davis (1968) reduction (``model.davis_reduction``) and
+    no dilation angle; every other layer as given.
+
+    >>> from solver.model import Footing, Ground
+    >>> sand = Layer("sand", "mohr-coulomb", None, 19.0, cohesion=2.0, friction_angle=30.0, dilation_angle=0.0)
+    >>> reduced = davis_reduced(Case("t", Footing(2.0), Ground(), (sand,))).layers[0]
+    >>> round(reduced.cohesion, 3), round(reduced.friction_angle, 2), reduced.dilation_angle
+    (1.732, 26.57, None)
+    """
+    import dataclasses
+
+    def reduced(layer: Layer) -> Layer:
+        if layer.is_tresca or layer.dilation_angle is None:
+            return layer
+        factor, phi = davis_reduction(layer)
+        return dataclasses.replace(layer, cohesion=factor * layer.cohesion, friction_angle=math.degrees(phi),
+                                   dilation_angle=None)
+
+    return dataclasses.replace(case, layers=tuple(reduced(layer) for layer in case.layers))
+
+
+def uses_davis(case: Case) -> bool:
+    """Whether the bounds use a Davis-reduced strength for some layer (a dilation angle given)."""
+    return any(not layer.is_tresca and layer.dilation_angle is not None for layer in case.layers)
+
+
+def hand_methods(case: Case, strength: str = "as analysed") -> list[HandEstimate]:
     """Every hand method for the case's strip footing, under the case's load and ground.
+
+    ``strength``: "as analysed" (default) uses the strength the bounds use, so that the
+    estimates compare with the bracket like with like: where a layer has a dilation angle,
+    c* and phi* of the Davis (1968) reduction (:func:`davis_reduced`), said in each
+    estimate's note. "as given" uses c', phi' as typed; with a dilation angle those
+    estimates are information only (:data:`INFORMATION_ONLY`), not comparable with the
+    bracket. Without a dilation angle the two are the same.
 
     Homogeneous-ground methods (one layer below the base, or all layers below
     it alike): Terzaghi (1943) general and local shear, Meyerhof (1963), Brinch
@@ -1351,6 +1418,41 @@ def hand_methods(case: Case) -> list[HandEstimate]:
         # A drawn site has no layer thicknesses nor a level profile the formulas could read.
         why_drawn = "a site drawn in gmsh: the closed-form methods need level ground and layer thicknesses"
         return [_none(e.method, e.source, why_drawn) for e in hand_methods(_level_stand_in(case))]
+    if strength not in STRENGTHS:
+        raise ValueError(f"strength: {strength!r} is not allowed; must be one of {', '.join(STRENGTHS)}")
+    if not uses_davis(case):
+        return _methods(case)
+    if strength == "as given":
+        return [_noted(e, INFORMATION_ONLY) for e in _methods(case)]
+    reduced = [(layer, davis_reduction(layer)) for layer in case.layers
+               if not layer.is_tresca and layer.dilation_angle is not None]
+    basis = ("on the strength the bounds use, c* and phi* of the Davis (1968) reduction for the dilation angle: "
+             + "; ".join(f"'{layer.name}': psi = {layer.dilation_angle:g}, c* = {factor * layer.cohesion:.3g} kPa, "
+                         f"phi* = {math.degrees(phi):.2f} deg" for layer, (factor, phi) in reduced))
+    return [_noted(e, basis) for e in _methods(davis_reduced(case))]
+
+
+def information_only(case: Case) -> list[HandEstimate]:
+    """With a dilation angle: the methods on c', phi' as given whose value differs from the one
+    on the bounds' reduced strength (information only, never compared); else none."""
+    if not uses_davis(case):
+        return []
+    analysed = {e.method: e.pressure_kPa for e in hand_methods(case)}
+    return [e for e in hand_methods(case, "as given")
+            if e.pressure_kPa is not None and e.pressure_kPa != analysed.get(e.method)]
+
+
+def _noted(estimate: HandEstimate, note: str) -> HandEstimate:
+    """The estimate with ``note`` before its own (only where it gives a value: the others say why not)."""
+    import dataclasses
+
+    if estimate.pressure_kPa is None:
+        return estimate
+    return dataclasses.replace(estimate, note="; ".join(n for n in (note, estimate.note) if n))
+
+
+def _methods(case: Case) -> list[HandEstimate]:
+    """The methods on the case's layers as they stand (see :func:`hand_methods`)."""
     soil, why = _homogeneous(case)
     if case.footing.shape == "circular":
         # Terzaghi's circle and EN 1997-1's shape factors; the others are strip formulas here

@@ -92,6 +92,8 @@ class Footing:
     load_inclination: float = 0.0  # degrees from vertical, toward +x
     eccentricity: float = 0.0  # m from the footing centre, toward +x
     design_load: float | None = None  # kN/m, the line load to check (optional)
+    required_factor_of_safety_on_load: float | None = None  # collapse load / design load the design needs
+    required_factor_of_safety_on_strength: float | None = None  # strength-reduction factor the design needs
     shape: str = "strip"  # "strip" (plane strain) | "circular" (axisymmetric, width = diameter)
 
     @property

@@ -3,12 +3,17 @@
 * ``model``: the ground profile, the layers with their parameters, the water
   table (when given), the footing with its load and the lower bound's mesh; the
   whole model and a detail near the footing.
-* ``mechanism``: the upper bound's collapse mechanism: plastic dissipation
-  shaded on the mesh, velocity arrows, the footing's motion and the extent of
-  the moving soil (m and multiples of B).
+* ``mechanism``: the upper bound's collapse mechanism: the shear strain rate
+  shaded on the mesh (it shows the mechanism in every soil, cohesionless ones
+  included), the layers named, velocity arrows, the footing's motion and the
+  extent of the moving soil (m and multiples of B).
 * ``stress``: the lower bound's stress field: yield utilisation and the
   directions of the principal stresses in the plastic zone (compression
   positive).
+* ``contact``: the lower bound's normal and shear stresses along the footing
+  base, from its stress field.
+* Every detail view frames the upper bound's moving soil and the lower bound's
+  plastic zone together, so that neither is cut off and the pictures match.
 * :func:`convergence_figure`: lower and upper bound, and wall time, against the
   number of elements (for runs that refine the mesh).
 
@@ -48,6 +53,7 @@ from matplotlib.tri import Triangulation
 
 from .export import BoundFields, principal_stresses, write_bytes_atomic
 from .model import Case
+from .result import MOVING_SPEED_FRACTION
 
 STYLE = {"font.size": 8.5, "axes.titlesize": 9.5, "axes.labelsize": 8.5, "legend.fontsize": 8,
          "xtick.labelsize": 8, "ytick.labelsize": 8, "svg.hashsalt": "bearbound",
@@ -60,7 +66,9 @@ LAYER_HATCHES = ("", ".", "/", "x", "\\", "o")
 FOOTING_COLOUR = "#3a3a3a"
 WATER_COLOUR = "#1f4e9c"  # dark: reads as a dark grey in print; the dash pattern tells it apart
 WATER_STYLE = (0, (6, 2, 1, 2))  # dash-dot: distinct from the dashed layer interfaces
-MOVING_SPEED = 1e-3  # as analysis.CLEAR_FRACTION: the soil 'moves' above this fraction of the footing's speed
+# the soil 'moves' above this fraction of the footing's speed: the frame, the stated extent and the
+# arrows all use it, so the frame encloses what the arrows show (result.MOVING_SPEED_FRACTION)
+MOVING_SPEED = MOVING_SPEED_FRACTION
 PLASTIC_UTILISATION = 0.98  # stress points at least this close to the yield surface count as plastic
 ARROW_CELLS = 30  # velocity arrows and stress crosses: grid cells across the detail view
 ARROW_LONGEST = 0.8  # the fastest soil's arrow, in grid cells
@@ -68,7 +76,7 @@ ARROW_CLEARANCE = 0.08  # grid cells an arrow's ends keep below the ground surfa
 # Light-to-dark maps that print in grey.
 UTILISATION_MAP = LinearSegmentedColormap.from_list("utilisation", ["#ffffff", "#e3e3e3", "#a6a6a6", "#6e6e6e"])
 # (light to mid: the black velocity arrows stay visible on the darkest shade, in colour or grey)
-DISSIPATION_MAP = LinearSegmentedColormap.from_list("dissipation", ["#fdf0dc", "#f2b27a", "#d27646", "#a0583a"])
+STRAIN_RATE_MAP = LinearSegmentedColormap.from_list("strain rate", ["#fdf0dc", "#f2b27a", "#d27646", "#a0583a"])
 
 
 def plain(text: str) -> str:
@@ -271,6 +279,77 @@ def split_quadratic(triangles: np.ndarray) -> np.ndarray:
     """Four linear triangles per 6-node triangle (corners 0-2, midsides 3: 0-1, 4: 1-2, 5: 2-0)."""
     t = triangles
     return np.vstack([t[:, [0, 3, 5]], t[:, [3, 1, 4]], t[:, [5, 4, 2]], t[:, [3, 4, 5]]])
+
+
+# area coordinates of the centroids of split_quadratic's four sub-triangles, in its order
+SUB_CENTROIDS = np.array([[2 / 3, 1 / 6, 1 / 6], [1 / 6, 2 / 3, 1 / 6], [1 / 6, 1 / 6, 2 / 3], [1 / 3, 1 / 3, 1 / 3]])
+
+
+def shear_strain_rate(points: np.ndarray, triangles: np.ndarray, velocity: np.ndarray) -> np.ndarray:
+    """The largest engineering shear strain rate sqrt((e_xx - e_yy)^2 + g_xy^2) = |e_1 - e_3| of a
+    quadratic velocity field (6-node triangles, nodal ``velocity`` per unit footing velocity), 1/m,
+    at the centroid of each of :func:`split_quadratic`'s four sub-triangles, in its order.
+
+    It shows the mechanism in every soil; the plastic dissipation does not where c' = 0 (zero
+    under associated flow).
+
+    >>> p = np.array([[0., 0.], [1., 0.], [0., 1.], [.5, 0.], [.5, .5], [0., .5]])
+    >>> shear_strain_rate(p, np.array([[0, 1, 2, 3, 4, 5]]), np.column_stack([p[:, 1], 0 * p[:, 1]])).round(12)
+    array([1., 1., 1., 1.])
+    """
+    x, y = (points[triangles[:, :3], k] for k in (0, 1))  # (n, 3) corners
+    b = np.column_stack([y[:, 1] - y[:, 2], y[:, 2] - y[:, 0], y[:, 0] - y[:, 1]])  # d(area coordinate)/dx * 2A
+    c = np.column_stack([x[:, 2] - x[:, 1], x[:, 0] - x[:, 2], x[:, 1] - x[:, 0]])  # d(area coordinate)/dy * 2A
+    twice_area = x[:, 0] * b[:, 0] + x[:, 1] * b[:, 1] + x[:, 2] * b[:, 2]
+    vel = velocity[triangles]  # (n, 6, 2)
+    out = []
+    for L in SUB_CENTROIDS:
+        # dN_j / dL_k of the six quadratic shape functions (corners 0-2, midsides 0-1, 1-2, 2-0)
+        dN = np.array([[4 * L[0] - 1, 0, 0], [0, 4 * L[1] - 1, 0], [0, 0, 4 * L[2] - 1],
+                       [4 * L[1], 4 * L[0], 0], [0, 4 * L[2], 4 * L[1]], [4 * L[2], 0, 4 * L[0]]])
+        dx = np.einsum("jk,nk->nj", dN, b) / twice_area[:, None]  # (n, 6)
+        dy = np.einsum("jk,nk->nj", dN, c) / twice_area[:, None]
+        exx, eyy = (dx * vel[..., 0]).sum(1), (dy * vel[..., 1]).sum(1)
+        gxy = (dy * vel[..., 0]).sum(1) + (dx * vel[..., 1]).sum(1)
+        out.append(np.hypot(exx - eyy, gxy))
+    return np.concatenate(out)
+
+
+def velocity_jumps(upper: BoundFields) -> tuple[np.ndarray, np.ndarray]:
+    """The upper bound's velocity jumps, found from the mesh: edges whose two triangles have
+    nodes of their own there. Returns the ends (n, 2, 2) m and the jump's mean size over the
+    edge (Simpson's rule on its ends and middle) per unit footing velocity, m/m; empty when
+    the velocity is continuous.
+
+    >>> p = np.array([[0., 0.], [1., 0.], [0., 1.], [.5, 0.], [.5, .5], [0., .5],
+    ...               [1., 0.], [1., 1.], [0., 1.], [1., .5], [.5, 1.], [.5, .5]])
+    >>> v = np.zeros((12, 2)); v[6:, 0] = 2.0
+    >>> f = BoundFields("upper", p, np.array([[0, 1, 2, 3, 4, 5], [6, 7, 8, 9, 10, 11]]), np.zeros(2, int),
+    ...                 {"velocity": v})
+    >>> ends, size = velocity_jumps(f)
+    >>> ends.tolist(), size.tolist()
+    ([[[0.0, 1.0], [1.0, 0.0]]], [2.0])
+    """
+    tri, vel = np.asarray(upper.triangles), np.asarray(upper.arrays["velocity"])
+    if tri.shape[1] != 6 or not len(tri):
+        return np.zeros((0, 2, 2)), np.zeros(0)
+    edges = tri[:, [[0, 1, 3], [1, 2, 4], [2, 0, 5]]].reshape(-1, 3)  # (3n, 3): ends and middle
+    scale = max(float(np.abs(upper.points).max()), 1.0)
+    where = np.round(upper.points / (1e-9 * scale)).astype(np.int64)
+    a, b = where[edges[:, 0]], where[edges[:, 1]]
+    flip = (a[:, 0] > b[:, 0]) | ((a[:, 0] == b[:, 0]) & (a[:, 1] > b[:, 1]))
+    edges[flip] = edges[flip][:, [1, 0, 2]]  # each edge from its lower end, so the two sides line up
+    key = np.column_stack([where[edges[:, 0]], where[edges[:, 1]]])
+    _, which, count = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+    which = which.reshape(-1)
+    order = np.argsort(which, kind="stable")
+    pair = (which[order[:-1]] == which[order[1:]]) & (count[which[order[:-1]]] == 2)
+    one, two = edges[order[:-1][pair]], edges[order[1:][pair]]
+    split = (one != two).any(axis=1)
+    one, two = one[split], two[split]
+    size = np.linalg.norm(vel[one] - vel[two], axis=2)  # (m, 3)
+    mean = (size[:, 0] + size[:, 1] + 4.0 * size[:, 2]) / 6.0
+    return upper.points[one[:, :2]], mean
 
 
 # -- a site drawn in gmsh ------------------------------------------------------------
@@ -786,7 +865,7 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
     profile = Profile.of(case, domain)
     mesh_fields = lower if lower is not None else upper
     site = _drawn_site(case, mesh_fields, half)
-    x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
+    x_lo, x_hi, vd = detail_view(profile, domain, view_extent(upper, lower, half, mechanism))
     tops = (max(Df, site.y_top if site else 0.0) + 0.3 * B, _top(case, x_lo, x_hi, site))
     with rc_context(STYLE):
         kind = "lower" if lower is not None else "upper"
@@ -843,27 +922,110 @@ def _extent(upper: BoundFields | None, half: bool, mechanism: dict | None) -> tu
     return extent
 
 
-def _draw_jumps(ax, upper: BoundFields, half: bool, peak: float, cmap, soil) -> None:
-    """The upper bound's velocity jumps as lines shaded like the triangles: a jump's
-    dissipation per unit length spread over a width equal to its length (about the size
-    of the triangles beside it), kN/m^3 per unit footing velocity, so a slip line and a
-    shear band of the same dissipation look alike; jumps below 1/1000 of the peak are
+def plastic_extent(lower: BoundFields | None, half: bool) -> tuple[float, float, float] | None:
+    """(x_lo, x_hi, depth) in m of the lower bound's plastic zone: the triangles whose every
+    stress node is within 1 - PLASTIC_UTILISATION of the yield surface; None if there is none.
+
+    >>> f = BoundFields("lower", np.array([[0., 0.], [1., 0.], [0., -1.], [3., -2.]]), np.array([[0, 1, 2], [1, 3, 2]]),
+    ...                 np.zeros(2, int), {"utilisation": np.array([[1.0, 0.99, 0.985], [0.5, 1.0, 1.0]])})
+    >>> plastic_extent(f, half=True)
+    (-1.0, 1.0, 1.0)
+    """
+    if lower is None or "utilisation" not in lower.arrays:
+        return None
+    plastic = np.asarray(lower.arrays["utilisation"]).min(axis=1) >= PLASTIC_UTILISATION
+    if not plastic.any():
+        return None
+    corners = lower.points[lower.triangles[plastic][:, :3]].reshape(-1, 2)
+    x, depth = corners[:, 0], float(max(-corners[:, 1].min(), 0.0))
+    if half:
+        reach = float(np.abs(x).max())
+        return -reach, reach, depth
+    return float(x.min()), float(x.max()), depth
+
+
+def view_extent(upper: BoundFields | None, lower: BoundFields | None, half: bool,
+                mechanism: dict | None) -> tuple[float, float, float] | None:
+    """What every detail view frames: the moving soil of the upper bound and the plastic zone of
+    the lower bound together, so that neither field is cut off and the pictures share one view."""
+    found = [e for e in (_extent(upper, half, mechanism), plastic_extent(lower, half)) if e is not None]
+    if not found:
+        return None
+    return min(e[0] for e in found), max(e[1] for e in found), max(e[2] for e in found)
+
+
+def _draw_jumps(ax, ends: np.ndarray, size: np.ndarray, half: bool, peak: float, cmap, soil) -> None:
+    """The upper bound's velocity jumps (:func:`velocity_jumps`) as lines shaded like the
+    triangles: a jump's size over its length (a shear strain rate, as if spread over a width
+    equal to its length, about the size of the triangles beside it), 1/m per unit footing
+    velocity, so a slip line and a shear band look alike; jumps below 1/1000 of the peak are
     not drawn."""
-    if "jump_dissipation" not in upper.arrays or not len(upper.arrays["jump_dissipation"]):
+    if not len(size):
         return
-    ends = np.asarray(upper.arrays["jump_ends"])
-    length = np.hypot(*(ends[:, 1] - ends[:, 0]).T)
-    density = np.asarray(upper.arrays["jump_dissipation"]) / np.maximum(length, 1e-12) ** 2
+    rate = size / np.maximum(np.hypot(*(ends[:, 1] - ends[:, 0]).T), 1e-12)
     if half:
         ends = np.concatenate([ends, ends * [-1.0, 1.0]])
-        density = np.concatenate([density, density])
-    shown = density >= peak * 1e-3
+        rate = np.concatenate([rate, rate])
+    shown = rate >= peak * 1e-3
     if not shown.any():
         return
-    lines = LineCollection(ends[shown], array=np.minimum(density[shown], peak), cmap=cmap,
+    lines = LineCollection(ends[shown], array=np.minimum(rate[shown], peak), cmap=cmap,
                            norm=LogNorm(vmin=peak * 1e-3, vmax=peak), linewidths=1.1, zorder=2)
     ax.add_collection(lines)
     _clip(lines, soil)
+
+
+def _name_layers(ax, case: Case, profile: Profile, site: DrawnSite | None, x_lo: float, x_hi: float,
+                 vd: float, keep_clear: list | None = None) -> None:
+    """Each layer's name in the soil it fills (cut short; the model picture has it whole). Call it
+    last, once the view and every other text are in place: each name takes the first of a few
+    places in its band (just below its top at the right, then at the left, then lower down; on a
+    drawn site, among its triangles) where it overlaps no other text nor the boxes in
+    ``keep_clear`` (axes fractions, x0, y0, x1, y1); a name with no free place is left out."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.transforms import Bbox
+
+    renderer = (ax.figure.canvas if hasattr(ax.figure.canvas, "get_renderer")
+                else FigureCanvasAgg(ax.figure)).get_renderer()
+    taken = [t.get_window_extent(renderer) for t in ax.texts if t.get_visible() and t.get_text().strip()]
+    taken += [Bbox([ax.transAxes.transform((x0, y0)), ax.transAxes.transform((x1, y1))])
+              for x0, y0, x1, y1 in keep_clear or []]
+    frame = ax.get_window_extent(renderer)
+
+    def place(name: str, spots: list[tuple[float, float, str, str]]) -> None:
+        text = textwrap.shorten(plain(name), 36, placeholder=" ...")
+        for x, y, ha, va in spots:
+            label = ax.text(x, y, text, ha=ha, va=va, fontsize=7, zorder=8,
+                            bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.85, "pad": 1.2})
+            box = label.get_window_extent(renderer).expanded(1.04, 1.15)
+            inside = frame.x0 <= box.x0 and box.x1 <= frame.x1 and frame.y0 <= box.y0 and box.y1 <= frame.y1
+            if inside and not any(box.overlaps(other) for other in taken):
+                taken.append(box)
+                return
+            label.remove()
+
+    below = case.layers_below_base()
+    if site is not None:
+        centroid = site.points[site.triangles].mean(axis=1)
+        inside = (centroid[:, 0] > x_lo) & (centroid[:, 0] < x_hi) & (centroid[:, 1] > -vd)
+        for index, (layer, *_) in enumerate(below):
+            mine = np.flatnonzero(inside & (site.layer == index))
+            if len(mine):
+                middle = centroid[mine].mean(axis=0)
+                ranked = mine[np.argsort(np.hypot(*(centroid[mine] - middle).T))][:: max(len(mine) // 6, 1)]
+                place(layer.name, [(float(centroid[i, 0]), float(centroid[i, 1]), "center", "center")
+                                   for i in ranked[:6]])
+        return
+    margin_x, margin_y = 0.012 * (x_hi - x_lo), 0.02 * vd
+    for layer, top, bottom, _ in below:
+        if top >= 0.9 * vd:
+            continue  # too little of the band in view for its name
+        low = min(bottom, vd)
+        spots = []
+        for y in (-top - margin_y, -(top + low) / 2, -low + 4 * margin_y):
+            spots += [(min(x_hi, profile.soil_end(y)) - margin_x, y, "right", "top"),
+                      (max(x_lo, profile.x_min) + margin_x, y, "left", "top")]
+        place(layer.name, spots)
 
 
 def _motion_text(motion: dict | None) -> str:
@@ -878,44 +1040,49 @@ def _motion_text(motion: dict | None) -> str:
 
 
 def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: dict | None,
-                     pressure_kPa: float | None) -> Figure:
-    """The upper bound's mechanism: dissipation shaded, velocity arrows, extent (all in the soil)."""
+                     pressure_kPa: float | None, lower: BoundFields | None = None) -> Figure:
+    """The upper bound's mechanism: shear strain rate shaded, layers named, velocity arrows, extent
+    (all in the soil). The view frames the lower bound's plastic zone too (``lower``), as the
+    stress picture does, so that the two pictures match."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
     profile = Profile.of(case, domain)
     extent = _extent(upper, half, mechanism)
-    x_lo, x_hi, vd = detail_view(profile, domain, extent)
+    x_lo, x_hi, vd = detail_view(profile, domain, view_extent(upper, lower, half, mechanism))
     site = _drawn_site(case, upper, half)
     top = _top(case, x_lo, x_hi, site)
-    caption = ("Shading: plastic dissipation per unit area (white: rigid, below 1/1000 of the peak). Arrows: "
-               "soil velocity, each centred on its point and drawn only where it lies wholly in the soil, "
-               "length in proportion to the speed (key: the footing's velocity along the load = 1). Thick "
-               "arrow: the load along its line of action.")
+    caption = ("Shading: the shear strain rate (the largest engineering shear strain rate, |\u03b5\u0307\u2081 "
+               "\u2212 \u03b5\u0307\u2083|, per unit footing velocity; white: rigid, below 1/1000 of the peak). It "
+               "shows the mechanism in every soil, a cohesionless one included, where the plastic dissipation "
+               f"is zero. Arrows: soil velocity where the soil moves faster than {MOVING_SPEED:.0%} of the "
+               "footing, each centred on its point and drawn only where it lies wholly in the soil, length in "
+               "proportion to the speed (key: the footing's velocity along the load = 1). Thick arrow: the "
+               "load along its line of action.")
     caption += _motion_text(footing_motion(case, upper, half))
-    if len(upper.arrays.get("jump_dissipation", ())):
-        caption += (" Shaded lines: velocity jumps across triangle edges, their dissipation per unit length "
-                    "spread over a width equal to their length.")
+    jump_ends, jump_size = velocity_jumps(upper)
+    if len(jump_size):
+        caption += (" Shaded lines: velocity jumps across triangle edges, the jump over the edge's length "
+                    "(as if spread over a band that wide).")
     if extent is not None:
         mx_lo, mx_hi, md = extent
-        caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.1%} of the footing, "
-                    f"{mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from {mx_lo:.2f} to {mx_hi:.2f} m) "
-                    f"and {md:.2f} m deep ({md / B:.2f} B).")
-    if any(not layer.is_tresca and layer.cohesion == 0 for layer, *_ in case.layers_below_base()):
-        caption += (" A cohesionless layer (c\u2032 = 0) dissipates no energy under associated flow: "
-                    "it shows no shading, its motion shows in the arrows.")
-    caption += " Dashed lines: layer interfaces."
+        caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.0%} of the footing "
+                    f"(where the arrows are drawn), {mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from "
+                    f"{mx_lo:.2f} to {mx_hi:.2f} m) and {md:.2f} m deep ({md / B:.2f} B).")
+    caption += " Dashed lines: layer interfaces; each layer is named in its band."
     if case.ground.water_table is not None:
         caption += " Dash-dot line: the water table."
     with rc_context(STYLE):
         fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
         soil = site.clip_patch(ax) if site else profile.clip_patch(ax, x_lo, x_hi, -vd)
-        tri = corner_triangulation(upper, half)
-        density = np.concatenate([upper.arrays["dissipation"]] * (2 if half else 1))
-        peak = float(density.max()) if density.size and density.max() > 0 else 1.0
-        cmap = DISSIPATION_MAP.with_extremes(under="white")
-        shade = ax.tripcolor(tri, facecolors=np.maximum(density, peak * 1e-9), cmap=cmap,
-                             norm=LogNorm(vmin=peak * 1e-3, vmax=peak), rasterized=True, zorder=1)
-        _draw_jumps(ax, upper, half, peak, cmap, soil)
+        pts = mirror_points(upper.points, half)
+        sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
+        rate = shear_strain_rate(upper.points, upper.triangles, np.asarray(upper.arrays["velocity"]))
+        rate = np.concatenate([rate] * (2 if half else 1))
+        peak = float(rate.max()) if rate.size and rate.max() > 0 else 1.0
+        cmap = STRAIN_RATE_MAP.with_extremes(under="white")
+        shade = ax.tripcolor(Triangulation(pts[:, 0], pts[:, 1], sub), facecolors=np.maximum(rate, peak * 1e-9),
+                             cmap=cmap, norm=LogNorm(vmin=peak * 1e-3, vmax=peak), rasterized=True, zorder=1)
+        _draw_jumps(ax, jump_ends, jump_size, half, peak, cmap, soil)
         if site is None:
             _draw_interfaces(ax, case, profile, x_lo, x_hi)
             _draw_water(ax, case, profile, x_lo, x_hi, -vd, marker=False)
@@ -925,7 +1092,7 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
             _clip(arrows, soil)
             key = _key_value(unit)
             # the key sits in the air above a slope, clear of the arrows; below level ground otherwise
-            ax.quiverkey(arrows, 0.62, 0.9 if profile.slope or site else 0.05, key,
+            ax.quiverkey(arrows, 0.62, 0.9 if profile.slope or site else 0.05, key,  # key_y below
                          f"{key:g} \u00d7 the footing's velocity along the load", labelpos="E",
                          coordinates="axes",
                          fontproperties={"size": 7.5})
@@ -960,8 +1127,13 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
         bound = f"upper bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "upper bound withheld"
         ax.set_title(f"Upper bound: collapse mechanism ({bound}; {upper.n_elements} six-node triangles)",
                      loc="left")
+        key_y = 0.9 if profile.slope or site else 0.05
+        clear = [((-0.75 * B - x_lo) / (x_hi - x_lo), (vd - 0.5 * B) / (vd + top),  # the soil under the footing
+                  (0.75 * B - x_lo) / (x_hi - x_lo), 1.0)]
+        _name_layers(ax, case, profile, site, x_lo, x_hi, vd,
+                     keep_clear=clear + ([(0.6, key_y - 0.05, 1.0, key_y + 0.05)] if arrows is not None else []))
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", extend="min")
-        bar.set_label("plastic dissipation, kN/m\u00b3 per unit footing velocity (log scale)")
+        bar.set_label("shear strain rate, 1/m per unit footing velocity (log scale)")
     return fig
 
 
@@ -995,7 +1167,7 @@ def _velocity_arrows(ax, upper: BoundFields, half: bool, ground: Profile | Drawn
     if fastest <= 0:
         return None, 0.0
     scale = fastest / (ARROW_LONGEST * spacing)  # velocity per m of arrow
-    show = known & (speed.filled(0) > 0.02 * fastest)
+    show = known & (speed.filled(0) > MOVING_SPEED)  # as the frame: the soil counted as moving
     centre = np.column_stack([gx[show], gy[show]])
     half_arrow = np.column_stack([u[show].filled(0), v[show].filled(0)]) / (2 * scale)
     fits = ground.segments_in_soil(centre - half_arrow, centre + half_arrow, ARROW_CLEARANCE * spacing)
@@ -1013,11 +1185,12 @@ UTILISATION_LEVELS = (0.0, 0.5, 0.7, 0.8, 0.9, 0.95, 0.98, 1.0)
 def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict | None,
                   pressure_kPa: float | None, upper: BoundFields | None = None) -> Figure:
     """The lower bound's stress field: utilisation and principal directions in the plastic zone.
-    The view is the mechanism's (``upper`` when given, else ``mechanism``), so both pictures match."""
+    The view frames its plastic zone and the mechanism's moving soil (``upper`` when given, else
+    ``mechanism``) together, as the mechanism picture does, so both pictures match."""
     B, Df = case.footing.width, case.footing.embedment
     half = domain["half_domain_by_symmetry"]
     profile = Profile.of(case, domain)
-    x_lo, x_hi, vd = detail_view(profile, domain, _extent(upper, half, mechanism))
+    x_lo, x_hi, vd = detail_view(profile, domain, view_extent(upper, lower, half, mechanism))
     site = _drawn_site(case, upper if upper is not None else lower, half)
     top = _top(case, x_lo, x_hi, site)
     caption = (f"Shading: yield utilisation, the stress deviator over its value on the yield surface at the same "
@@ -1081,6 +1254,87 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
     return fig
 
 
+def contact_stresses(lower: BoundFields, width_m: float, half: bool
+                     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The lower bound's stresses along the footing base, from its stress field: for each
+    triangle edge on the base (y = 0, |x| <= B/2), sorted along x, its ends' x (n, 2) m, the
+    normal stress (n, 2) kPa compression positive and the shear stress on the soil (n, 2) kPa,
+    positive toward +x (the footing pushing the soil that way). Linear along each edge; a
+    half domain is mirrored (normal stress even, shear stress odd).
+
+    >>> f = BoundFields("lower", np.array([[0., 0.], [1., 0.], [0., -1.]]), np.array([[0, 1, 2]]), np.zeros(1, int),
+    ...                 {"stress_kPa": np.array([[[0., 100., -10.], [0., 80., -10.], [0., 0., 0.]]])})
+    >>> x, normal, shear = contact_stresses(f, 2.0, half=True)
+    >>> x.tolist(), normal.tolist(), shear.tolist()
+    ([[-1.0, -0.0], [0.0, 1.0]], [[80.0, 100.0], [100.0, 80.0]], [[-10.0, -10.0], [10.0, 10.0]])
+    """
+    corners = lower.points[lower.triangles[:, :3]]  # (n, 3, 2)
+    tol = 1e-7 * max(float(np.abs(lower.points).max()), 1.0)
+    on = (np.abs(corners[..., 1]) <= tol) & (np.abs(corners[..., 0]) <= width_m / 2 + tol)
+    stress = np.asarray(lower.arrays["stress_kPa"])  # (n, 3, 3) compression positive
+    xs, normal, shear = [], [], []
+    for a, b in ((0, 1), (1, 2), (2, 0)):  # the three local edges
+        edge = on[:, a] & on[:, b]
+        xs.append(np.column_stack([corners[edge, a, 0], corners[edge, b, 0]]))
+        normal.append(np.column_stack([stress[edge, a, 1], stress[edge, b, 1]]))
+        shear.append(np.column_stack([-stress[edge, a, 2], -stress[edge, b, 2]]))  # tau_xy, tension positive
+    x, n, t = (np.concatenate(v) for v in (xs, normal, shear))
+    swap = x[:, 0] > x[:, 1]
+    x[swap], n[swap], t[swap] = x[swap][:, ::-1], n[swap][:, ::-1], t[swap][:, ::-1]
+    if half:
+        x, n, t = (np.concatenate([-x[:, ::-1], x]), np.concatenate([n[:, ::-1], n]),
+                   np.concatenate([-t[:, ::-1], t]))
+    order = np.argsort(x.mean(axis=1), kind="stable")
+    return x[order], n[order], t[order]
+
+
+def contact_figure(case: Case, domain: dict, lower: BoundFields, pressure_kPa: float | None,
+                   pore_pressure_kPa: float = 0.0) -> Figure:
+    """The lower bound's normal and shear stresses along the footing base (:func:`contact_stresses`),
+    with their mean (the lower-bound pressure) and, when given, the design load's vertical pressure."""
+    B = case.footing.width
+    x, normal, shear = contact_stresses(lower, B, domain["half_domain_by_symmetry"])
+    caption = ("Along the footing base, from the lower bound's stress field: the normal stress (compression "
+               "positive) and the shear stress on the soil (positive toward +x). Both are linear along each "
+               "triangle's edge and may jump from one triangle to the next. They are one statically admissible "
+               "distribution that carries the lower-bound collapse load, not the contact pressure under working "
+               "loads; the mean of the normal stress over B is the lower-bound pressure. The contact carries no "
+               "tension.")
+    if pore_pressure_kPa > 0:
+        caption += f" Stresses are effective: the total normal stress adds the pore pressure {pore_pressure_kPa:.1f} kPa."
+    lines = textwrap.wrap(caption, CAPTION_CHARS)
+    with rc_context(STYLE):
+        column = _Column([("title", TITLE_IN), ("main", 2.6), ("xlabel", XLABEL_IN),
+                          ("caption", 0.14 * len(lines) + 0.08)])
+        ax = column.axes("main")
+        column.text("caption", "\n".join(lines), fontsize=CAPTION_FONT)
+        ax.axhline(0.0, color="#9a9a9a", linewidth=0.6, zorder=1)
+        for edge in (-B / 2, B / 2):
+            ax.axvline(edge, color="#4d4d4d", linewidth=0.8, linestyle=":", zorder=1)
+        ax.plot(x.ravel(), normal.ravel(), color="black", linewidth=1.6, zorder=4,
+                label="normal stress (compression positive)")
+        ax.plot(x.ravel(), shear.ravel(), color="black", linewidth=1.1, linestyle="--", zorder=4,
+                label="shear stress on the soil (positive toward +x)")
+        if pressure_kPa is not None:
+            ax.axhline(pressure_kPa, color="black", linewidth=0.9, linestyle=":", zorder=3,
+                       label=f"mean normal stress = lower-bound pressure {pressure_kPa:.1f} kPa")
+        design = case.footing.design_load
+        if design is not None:
+            vertical = design * math.cos(math.radians(case.footing.load_inclination)) / B
+            ax.axhline(vertical, color="#4d4d4d", linewidth=0.9, linestyle="-.", zorder=3,
+                       label=f"design load, vertical component / B = {vertical:.1f} kPa")
+        ax.set_xlim(-0.55 * B, 0.55 * B)
+        top = max(float(np.nanmax(np.abs(np.concatenate([normal.ravel(), shear.ravel(), [1.0]])))), pressure_kPa or 0.0)
+        ax.set_ylim(min(0.0, float(np.nanmin(shear)) if shear.size else 0.0) - 0.05 * top, 1.45 * top)
+        ax.set_xlabel("x from the footing centre (m); dotted verticals: the footing's edges")
+        ax.set_ylabel("stress on the base (kPa)")
+        ax.legend(loc="upper center", ncols=2, fontsize=7, framealpha=0.95)
+        ax.grid(True, color="#e0e0e0", linewidth=0.5)
+        bound = f"lower bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "lower bound withheld"
+        ax.set_title(f"Lower bound: stresses under the footing ({bound}; B = {B:g} m)", loc="left")
+    return column.fig
+
+
 def convergence_figure(rows: list[tuple[int, float | None, float | None, float]],
                        title: str = "Bounds against mesh size") -> Figure:
     """Lower and upper bound (kPa) and wall time (s) against the number of elements.
@@ -1141,17 +1395,19 @@ def figure_bytes(fig: Figure, fmt: str) -> bytes:
 
 
 def draw_all(case: Case, data: dict, fields: dict[str, BoundFields]) -> dict[str, Figure]:
-    """Every picture the run's data allows, by name: model, mechanism, stress."""
+    """Every picture the run's data allows, by name: model, mechanism, stress, contact."""
     domain = data["domain"]
     upper_data, lower_data = data.get("upper") or {}, data.get("lower") or {}
     mechanism = upper_data.get("extra") or None
     figures = {"model": model_figure(case, domain, fields.get("lower"), fields.get("upper"), mechanism)}
     if "upper" in fields:
         figures["mechanism"] = mechanism_figure(case, domain, fields["upper"], mechanism,
-                                                upper_data.get("pressure_kPa"))
+                                                upper_data.get("pressure_kPa"), fields.get("lower"))
     if "lower" in fields:
         figures["stress"] = stress_figure(case, domain, fields["lower"], mechanism,
                                           lower_data.get("pressure_kPa"), fields.get("upper"))
+        figures["contact"] = contact_figure(case, domain, fields["lower"], lower_data.get("pressure_kPa"),
+                                            data.get("pore_pressure_at_base_kPa") or 0.0)
     return figures
 
 

@@ -240,6 +240,7 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         '<p class="sub">Strip footing: collapse load bracketed by finite-element limit analysis '
         "(rigorous lower and upper bounds)</p>",
         _caution(),
+        _warnings(d),
         _identity(d),
         _bracket(d, case),
         _safety(d, case),
@@ -263,6 +264,16 @@ def _caution(final: bool = False) -> str:
              " The inputs (strengths, unit weights, layer thicknesses) govern the answer more than the method "
              "does; the bounds bracket the collapse load of the idealised problem, not of the ground.")
     return f'<div class="caution"><strong>Caution.</strong> {esc(CAUTION)}{esc(extra)}</div>'
+
+
+def _warnings(d: dict) -> str:
+    """The plausibility warnings (solver.plausible): values allowed but unusual, near the top."""
+    warnings = d.get("input_warnings") or []
+    if not warnings:
+        return ""
+    return ('<div class="caution"><strong>Check these inputs.</strong> They are allowed, and the run used them '
+            "as given, but they are unusual for soils and footings:<ul>"
+            + "".join(f"<li>{esc(w)}</li>" for w in warnings) + "</ul></div>")
 
 
 def _identity(d: dict) -> str:
@@ -350,33 +361,46 @@ def _safety(d: dict, case: Case) -> str:
     out = ["<h2>Factor of safety</h2>"]
     design = fos.get("design_load_kN_per_m")
     if design is not None:
-        load, strength = fos.get("load", {}), fos.get("strength", {})
+        # result.json of an earlier version named them "load" and "strength"
+        load = fos.get("on_load", fos.get("load")) or {}
+        strength = fos.get("on_strength", fos.get("strength")) or {}
         vertical = design * math.cos(math.radians(case.footing.load_inclination))
         slant = (f", along the load's line of action ({num(case.footing.load_inclination, 1, 'degrees')} from "
                  f"vertical); its vertical component is {num(vertical)} kN/m"
                  if case.footing.load_inclination else "")
         out.append(f"<p>Design load: <strong>{num(design)} kN/m</strong>{slant} "
                    f"({num(vertical / d['footing_width_m'])} kPa vertical pressure under the footing).</p>")
-        s_lo, s_up = strength.get("lower"), strength.get("upper")
-        beyond_lo = strength.get("lower_beyond_range")
-        lo_text = (("&ge; " if beyond_lo else "") + num(s_lo, 3)) if s_lo is not None else "&mdash;"
-        up_text = num(s_up, 3) if s_up is not None else "&mdash;"
-        out.append("<table><tr><th>factor</th><th>lower</th><th>upper</th><th>meaning</th></tr>"
-                   f"<tr><td>load factor</td><td class='n'>{num(load.get('lower'), 3)}</td>"
+        search = strength.get("search") or {}
+
+        def value(kind: str) -> str:
+            found = strength.get(kind)
+            if found is None:
+                return "not found" if search.get(kind) == "not found" else "&mdash;"
+            beyond = strength.get(f"{kind}_beyond_range")
+            mark = " (search incomplete)" if search.get(kind) == "incomplete" else ""
+            return ((beyond and esc(beyond).replace("&gt;=", "&ge; ").replace("&lt;=", "&le; ")) or "") + \
+                num(found, 3) + mark
+
+        out.append("<table><tr><th>factor of safety</th><th>lower</th><th>upper</th><th>meaning</th></tr>"
+                   f"<tr><td>on load</td><td class='n'>{num(load.get('lower'), 3)}</td>"
                    f"<td class='n'>{num(load.get('upper'), 3)}</td><td>collapse load / design load, "
                    "from the bracket</td></tr>"
-                   f"<tr><td>strength-reduction factor</td><td class='n'>{lo_text}</td>"
-                   f"<td class='n'>{up_text}</td><td>the factor by which c&prime; (or su) and "
+                   f"<tr><td>on strength (strength-reduction factor)</td><td class='n'>{value('lower')}</td>"
+                   f"<td class='n'>{value('upper')}</td><td>the factor by which c&prime; (or su) and "
                    "tan&nbsp;&phi;&prime; of every layer must be divided for the design load to cause "
                    f"collapse; searched to a relative tolerance of {esc(_percent(strength.get('tolerance')))} "
                    f"({num(strength.get('solves', 0))} extra solves)</td></tr></table>")
-        out.append('<p class="small">The strength factor\'s lower value is an F at which the certified lower '
-                   "bound still carries the design load (so the true F is at least that); its upper value is an "
-                   "F at which the certified upper bound falls to the design load or below (so the true F is at "
-                   "most that). Both are F values actually solved; a bound withheld at some F is never used.</p>")
+        out.append('<p class="small">The factor of safety on strength: its lower value is an F at which the '
+                   "certified lower bound still carries the design load (so the true F is at least that); its "
+                   "upper value is an F at which the certified upper bound falls to the design load or below (so "
+                   "the true F is at most that). Both are F values actually solved; a bound withheld at some F "
+                   "is never used, and a value the search did not prove is given as &ldquo;not found&rdquo; "
+                   "with the reason.</p>")
         notes = strength.get("notes") or []
         if notes:
             out.append("<ul>" + "".join(f"<li>{esc(n)}</li>" for n in notes) + "</ul>")
+        for check in fos.get("checks") or []:
+            out.append(f'<p class="verdict">{esc(check.get("verdict"))}</p>')
         evaluations = strength.get("evaluations") or {}
         if evaluations:
             rows = "".join(f"<tr><td>{esc(kind)}</td><td class='n'>{num(e.get('F'), 4)}</td>"
@@ -393,9 +417,9 @@ def _safety(d: dict, case: Case) -> str:
             ("on tan &phi;&prime; (friction)", num(f.get("friction"), 2)),
             ("on c&prime; (cohesion)", num(f.get("cohesion"), 2)),
             ("on su (undrained_strength)", num(f.get("undrained_strength"), 2)),
-            ("on the action (load)", num(f.get("load"), 2)),
+            ("partial factor on the action (load)", num(f.get("load"), 2)),
             ("on the resistance (resistance)", num(f.get("resistance"), 2)),
-            ("design action E<sub>d</sub> = load factor &times; design load", num(partial.get("action_kN_per_m"), 1, "kN/m")),
+            ("design action E<sub>d</sub> = partial factor on the action &times; design load", num(partial.get("action_kN_per_m"), 1, "kN/m")),
             ("collapse load with design strengths", f"{num(col.get('lower'))} to {num(col.get('upper'))} kN/m"),
             ("design resistance R<sub>d</sub> = that / resistance factor",
              f"{num(res.get('lower'))} to {num(res.get('upper'))} kN/m"),
@@ -408,7 +432,8 @@ def _safety(d: dict, case: Case) -> str:
 
 def _hand(d: dict) -> str:
     """Methods that give a number in a table (unconservative ones flagged), the others grouped by
-    why they do not apply, and the sources as a numbered list."""
+    why they do not apply, and the sources as a numbered list. With a dilation angle, a second
+    table gives the methods on c', phi' as given, for information only (never flagged)."""
     rows = d.get("hand_methods") or []
     if not rows:
         return ""
@@ -421,30 +446,48 @@ def _hand(d: dict) -> str:
             sources.append(source)
         return f" <span class='small'>[{sources.index(source) + 1}]</span>"
 
-    body, not_applicable = [], {}
-    for r in rows:
-        if r.get("pressure_kPa") is None:
-            not_applicable.setdefault(str(r.get("note")), []).append(esc(r.get("method")) + ref(r.get("source")))
-            continue
-        where = str(r.get("where", ""))
-        flagged = "ABOVE THE UPPER BOUND" in where
-        tail = f'<span class="flagmark">&#9650; {esc(where)}</span>' if flagged else esc(where)
-        factors = ", ".join(f"{esc(k)} {esc(f'{v + 0.0:.3g}')}" for k, v in (r.get("factors") or {}).items()
-                            if isinstance(v, (int, float)) and not isinstance(v, bool))
-        note = f"<div class='small'>{esc(r.get('note'))}</div>" if r.get("note") else ""
-        row_class = ' class="flag"' if flagged else ""
-        body.append(f"<tr{row_class}><td>{esc(r.get('method'))}{ref(r.get('source'))}</td>"
-                    f"<td class='n'>{num(r.get('pressure_kPa'))}</td><td>{tail}{note}</td>"
-                    f"<td class='small'>{factors}</td></tr>")
+    def table(rows: list[dict], compared: bool) -> tuple[list[str], dict]:
+        body, not_applicable = [], {}
+        for r in rows:
+            if r.get("pressure_kPa") is None:
+                not_applicable.setdefault(str(r.get("note")), []).append(esc(r.get("method")) + ref(r.get("source")))
+                continue
+            where = str(r.get("where", ""))
+            flagged = compared and "ABOVE THE UPPER BOUND" in where
+            tail = f'<span class="flagmark">&#9650; {esc(where)}</span>' if flagged else esc(where)
+            factors = ", ".join(f"{esc(k)} {esc(f'{v + 0.0:.3g}')}" for k, v in (r.get("factors") or {}).items()
+                                if isinstance(v, (int, float)) and not isinstance(v, bool))
+            note = f"<div class='small'>{esc(r.get('note'))}</div>" if r.get("note") else ""
+            row_class = ' class="flag"' if flagged else ""
+            body.append(f"<tr{row_class}><td>{esc(r.get('method'))}{ref(r.get('source'))}</td>"
+                        f"<td class='n'>{num(r.get('pressure_kPa'))}</td><td>{tail}{note}</td>"
+                        f"<td class='small'>{factors}</td></tr>")
+        return body, not_applicable
+
+    head = "<tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr>"
+    body, not_applicable = table(rows, compared=True)
     out = ["<h2>Hand methods beside the bracket</h2>",
-           "<p>Classical closed-form estimates for a vertical central load. A row marked &#9650; lies above "
-           "the upper bound: that method is <strong>unconservative</strong> for this case.</p>"]
+           "<p>Classical closed-form estimates of the same quantity as the bracket (the vertical component of "
+           "the collapse load over B), under the case's load and ground, each where its method applies. A row "
+           "marked &#9650; lies above the upper bound: that method is <strong>unconservative</strong> for this "
+           "case.</p>"]
+    if d.get("hand_methods_as_given"):
+        out.append("<p>A layer has a dilation angle, so the bounds use the Davis (1968) reduced strength "
+                   "c*, &phi;*; the estimates in this table use the same c*, &phi;*, so that they compare with "
+                   "the bracket like with like. The same methods on c&prime;, &phi;&prime; as given follow "
+                   "below, for information only.</p>")
     if body:
-        out.append("<table><tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr>"
-                   + "".join(body) + "</table>")
+        out.append("<table>" + head + "".join(body) + "</table>")
     if not_applicable:
-        out.append("<h3>Not applicable to this case</h3><ul>" + "".join(
+        out.append("<h3>No value for this case (each says why)</h3><ul>" + "".join(
             f"<li>{', '.join(methods)}: {esc(note)}</li>" for note, methods in not_applicable.items()) + "</ul>")
+    given, _ = table([r for r in d.get("hand_methods_as_given") or [] if r.get("pressure_kPa") is not None],
+                     compared=False)
+    if given:
+        out.append("<h3>On c&prime;, &phi;&prime; as given (information only)</h3><p class='small'>The methods "
+                   "whose value changes with the full strength. Not compared with the bracket and never flagged: "
+                   "the bounds use the Davis-reduced strength, these estimates the full one.</p><table>" + head
+                   + "".join(given) + "</table>")
     out.append("<h3>Sources of the hand methods</h3><ol class='small'>"
                + "".join(f"<li>{esc(source)}</li>" for source in sources) + "</ol>")
     return "\n".join(out)
@@ -453,8 +496,10 @@ def _hand(d: dict) -> str:
 FIGURE_CAPTIONS = {
     "model": ("The model: ground profile (with the crest and toe of a slope), layers with their parameters, "
               "water table, footing with its load, and mesh."),
-    "mechanism": "Upper bound: the collapse mechanism (plastic dissipation, velocities, extent).",
+    "mechanism": "Upper bound: the collapse mechanism (shear strain rate, velocities, extent).",
     "stress": "Lower bound: the stress field (yield utilisation, principal stress directions in the plastic zone).",
+    "contact": ("Lower bound: the normal and shear stresses along the footing base, from its stress field (one "
+                "admissible distribution at collapse, not the working contact pressure)."),
 }
 
 
@@ -462,7 +507,7 @@ def _pictures(run: Run, images: dict[str, bytes]) -> str:
     if not images:
         return ""
     out = ['<h2 class="pagebreak">Pictures</h2>']
-    for name in ("model", "mechanism", "stress"):
+    for name in ("model", "mechanism", "stress", "contact"):
         if name not in images:
             continue
         data = base64.b64encode(images[name]).decode("ascii")
@@ -483,7 +528,11 @@ def _inputs(case: Case, d: dict) -> str:
         ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
                                                                                "positive toward +x"),
         ("design load (along the load's line of action)",
-         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given")]))
+         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given"),
+        ("required factor of safety on load", num(f.required_factor_of_safety_on_load, 2)
+         if f.required_factor_of_safety_on_load is not None else "not given"),
+        ("required factor of safety on strength", num(f.required_factor_of_safety_on_strength, 2)
+         if f.required_factor_of_safety_on_strength is not None else "not given")]))
     ground = [("surcharge on the ground surface", num(g.surcharge, 2, "kPa")
                + (" (on the level ground at footing level only)" if g.slope_angle > 0 else "")),
               ("vertical stress at the base level beside the footing", num(case.overburden_kPa(), 2, "kPa"))]
@@ -527,7 +576,7 @@ def _inputs(case: Case, d: dict) -> str:
     if case.factors is not None:
         fa = case.factors
         meaning = {"friction": "divides tan &phi;&prime;", "cohesion": "divides c&prime;",
-                   "undrained_strength": "divides su", "load": "multiplies the design load",
+                   "undrained_strength": "divides su", "load": "the partial factor on the action: multiplies the design load",
                    "resistance": "divides the bearing resistance"}
         out.append(_kv("Partial factors (dimensionless)",
                        [(esc(k), f"{num(getattr(fa, k), 2)} ({meaning[k]})") for k in meaning]))
@@ -574,7 +623,7 @@ def _statistics(d: dict, run: Run) -> str:
           ("meshed width", num(dom.get("width_m"), 2, "m")), ("meshed depth", num(dom.get("depth_m"), 2, "m"))]
     if extra:
         B = d.get("footing_width_m") or 1.0
-        from .pictures import moving_extent
+        from .pictures import MOVING_SPEED, moving_extent
 
         extent = moving_extent(run.fields.get("upper"), bool(dom.get("half_domain_by_symmetry")))
         if extent is not None:  # measured on the velocity field: right for an asymmetric mechanism too
@@ -584,9 +633,14 @@ def _statistics(d: dict, run: Run) -> str:
         else:
             reach = extra.get("mechanism_half_width_m", 0.0)
             width = f"reaches {num(reach, 2, 'm')} ({num(reach / B, 2)} B) from the footing's centre"
-        kv += [("upper-bound mechanism depth", f"{num(extra.get('mechanism_depth_m'), 2, 'm')} "
-                                               f"({num(extra.get('mechanism_depth_over_B'), 2)} B)"),
-               ("upper-bound mechanism width", width),
+        fraction = extra.get("mechanism_speed_fraction")
+        moving = (f" (the soil moving faster than {esc(f'{MOVING_SPEED:.0%}')} of the footing, as framed in the "
+                  "mechanism picture)")
+        depth = f"{num(extra.get('mechanism_depth_m'), 2, 'm')} ({num(extra.get('mechanism_depth_over_B'), 2)} B)"
+        if fraction != MOVING_SPEED:  # result.json of an earlier version measured at another speed
+            depth = f"{num(extent[2], 2, 'm')} ({num(extent[2] / B, 2)} B)" if extent is not None else "&mdash;"
+        kv += [("upper-bound mechanism depth" + moving, depth),
+               ("upper-bound mechanism width" + moving, width),
                ("mechanism clear of the far boundary", "yes" if extra.get("mechanism_clear_of_boundary") else "NO")]
     out.append(_kv(None, kv))
     return "\n".join(out)

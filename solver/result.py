@@ -26,6 +26,10 @@ def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
     return f"{value:.3e}" if math.isfinite(value) else str(value)
 
 
+# The soil counts as moving faster than this fraction of the footing's velocity along the load: the
+# mechanism's stated extent (result.json) and its frame and arrows in the pictures use the same value.
+MOVING_SPEED_FRACTION = 0.05
+
 CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
            "perfect plasticity with associated flow, plane strain (strip) or axial symmetry (circle) and "
            "the soil model given; "
@@ -70,7 +74,10 @@ class Result:
     # "time_limit_s", "max_steps", "steps", "reached", "stopped", "why"} (solver.adapt.refine_until)
     refinement: dict | None = None
     notes: list[str] = field(default_factory=list)
-    hand_methods: list[dict] = field(default_factory=list)
+    input_warnings: list[str] = field(default_factory=list)  # values allowed but unusual (solver.plausible)
+    hand_methods: list[dict] = field(default_factory=list)  # on the strength the bounds use, compared
+    # with a dilation angle: the same methods on c', phi' as given, information only (not compared)
+    hand_methods_as_given: list[dict] = field(default_factory=list)
     # load and strength-reduction factors and the partial-factor check (solver.safety), when the
     # case gives a design load or partial factors; written to result.json only then
     factor_of_safety: dict | None = None
@@ -109,10 +116,13 @@ class Result:
             "backend": self.backend,
             "pore_pressure_at_base_kPa": self.pore_pressure_at_base_kPa,
             "notes": self.notes,
+            "input_warnings": self.input_warnings,
             "caution": CAUTION,
         }
         if self.hand_methods:
             data["hand_methods"] = self.hand_methods
+        if self.hand_methods_as_given:
+            data["hand_methods_as_given"] = self.hand_methods_as_given
         if self.refinement is not None:
             data["refinement"] = self.refinement
         if self.adapt_history is not None:

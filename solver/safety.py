@@ -1,27 +1,36 @@
 """Factors of safety against a design load, and the check with the user's partial factors.
 
-Three figures, each from certified bounds only:
+Words, used the same way in result.json, summary.csv, the terminal, the report
+and the README (the partial factor on the action is never called a "load
+factor", so that the two are never confused):
 
-* **Load factor**: collapse load over design load. The bracket of the collapse
-  load divided by ``[footing] design_load`` (kN/m) brackets it.
-* **Strength-reduction factor** F: the factor by which the strength of every
-  layer must be divided (c' and tan(phi') for Mohr-Coulomb, su and its gradient
-  for Tresca) for the design load to cause collapse. The true collapse load
-  Q(F) of the idealised problem does not rise with F (the yield surfaces are
-  nested), so a certified lower bound LB(F) >= design load proves F_true >= F,
-  and a certified upper bound UB(F) <= design load proves F_true <= F. Each
-  bound is searched on F separately (a few trials aimed at the root, then
-  bisection) until its bracket of the root is narrower than the stated
-  tolerance; the reported values are F values that were actually solved and
-  certified, so they hold whatever the mesh (coarser meshes only widen them).
+* **Factor of safety on load** (``on_load``): collapse load over design load.
+  The bracket of the collapse load divided by ``[footing] design_load`` (kN/m,
+  along the load's line of action, as the bounds' ``load_kN_per_m``) brackets it.
+* **Factor of safety on strength** (``on_strength``, the strength-reduction
+  factor F): the factor by which the strength of every layer must be divided
+  (c' and tan(phi') for Mohr-Coulomb, su and its gradient for Tresca) for the
+  design load to cause collapse. The true collapse load Q(F) of the idealised
+  problem does not rise with F (the yield surfaces are nested), so a certified
+  lower bound LB(F) >= design load proves F_true >= F, and a certified upper
+  bound UB(F) <= design load proves F_true <= F. Each bound is searched on F
+  separately (a few trials aimed at the root, then bisection) until its
+  bracket of the root is narrower than the stated tolerance; the reported
+  values are F values that were actually solved and certified, so they hold
+  whatever the mesh (coarser meshes only widen them).
+* **Checks** (``checks``), each a verdict line "met", "not met" or
+  "undecided" (by the bracket): whether the collapse load carries the design
+  load, and, when the case gives them, whether the factors of safety reach
+  ``[footing] required_factor_of_safety_on_load`` and ``..._on_strength``.
 * **Partial factors** (``[factors]``): the design resistance is the collapse
   load with design strengths (c'/gamma_c, tan(phi')/gamma_phi, su/gamma_cu)
-  divided by the resistance factor; it is compared with the action
-  (design_load times the load factor). Names as in EN 1997-1; values are the
-  user's: no design approach is assumed here.
+  divided by the resistance factor; it is compared with the design action
+  (design_load times the partial factor on the action). Names as in EN 1997-1;
+  values are the user's: no design approach is assumed here.
 
 A bound that is withheld at some F (solver trouble or failed certificate) is
-never used: the search with that bound stops there and says so.
+never used: the search with that bound goes on below (or above) it, and says
+so; a value the search did not prove is never given.
 """
 from __future__ import annotations
 
@@ -34,9 +43,10 @@ from .model import Case, Factors, Layer
 from .result import figure
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
-F_RANGE = (0.05, 20.0)  # strength factors searched; outside it the factor is reported as beyond
+F_RANGE = (0.05, 20.0)  # strength-reduction factors searched; outside it the factor is reported as beyond
 EXPAND = 1.5  # ratio by which a bracket is widened until it holds the root
 MAX_SOLVES = 40  # per bound: a safety net, never reached with the tolerance above
+MAX_WITHHELD = 3  # per bound: withheld solves after which the search stops (each is a full solve)
 
 
 def reduce_layer(layer: Layer, strength: float, friction: float | None = None) -> Layer:
@@ -70,11 +80,12 @@ def design_strength_case(case: Case, factors: Factors) -> Case:
     return replace(case, layers=layers)
 
 
-def load_factor(lower_kN_per_m: float | None, upper_kN_per_m: float | None,
+def factor_on_load(lower_kN_per_m: float | None, upper_kN_per_m: float | None,
                 design_load_kN_per_m: float) -> dict:
-    """Bracket of collapse load / design load (None where a bound is not certified).
+    """The factor of safety on load: the bracket of collapse load / design load (None where a
+    bound is not certified).
 
-    >>> load_factor(300.0, 330.0, 150.0)
+    >>> factor_on_load(300.0, 330.0, 150.0)
     {'lower': 2.0, 'upper': 2.2}
     """
     return {"lower": None if lower_kN_per_m is None else lower_kN_per_m / design_load_kN_per_m,
@@ -87,7 +98,7 @@ Solver = Callable[[Case, str], Any]  # (case, "lower" | "upper") -> BoundResult
 def search_strength(kind: str, case: Case, design_load: float, load_at_1: float | None,
                     solve: Solver, tolerance: float = STRENGTH_TOLERANCE,
                     progress: Callable[[str], None] | None = None) -> dict:
-    """Bracket the strength factor F with one bound: secant estimates, then bisection.
+    """Bracket the factor of safety on strength F with one bound: secant estimates, then bisection.
 
     Parameters
     ----------
@@ -106,15 +117,23 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
     -------
     dict
         ``value``: the proven bound on F (lower: largest F solved with LB(F) >= design load;
-        upper: smallest F solved with UB(F) <= design load), None if none was proven;
-        ``beyond``: ">=" or "<=" when the root lies outside F_RANGE; ``solves``;
-        ``evaluations``: every F tried; ``notes``.
+        upper: smallest F solved with UB(F) <= design load), None if the search proved
+        nothing beyond the main run's F = 1 without closing its bracket (then ``reason``
+        says why); ``search``: "found" (the bracket of the root closed to the tolerance, or
+        the root lies beyond F_RANGE), "incomplete" (a value, but a withheld solve kept the
+        bracket open: ``reason``) or "not found"; ``beyond``: ">=" or "<=" when the root
+        lies outside F_RANGE; ``solves``; ``evaluations``: every F tried; ``notes``.
+
+    A withheld solve at some F proves nothing at that F, so it is never used; the search
+    goes on between the nearest proven F and the withheld one (a wall it does not try
+    again), at most MAX_WITHHELD times, so that one failed solve does not end it.
     """
     evaluations: list[dict] = []
     notes: list[str] = []
     if load_at_1 is None:
-        return {"value": None, "solves": 0, "evaluations": evaluations,
-                "notes": [f"the {kind} bound at F = 1 was withheld, so no strength factor is taken from it"]}
+        reason = f"the {kind} bound at F = 1 was withheld, so no factor of safety on strength is taken from it"
+        return {"value": None, "search": "not found", "reason": reason, "solves": 0,
+                "evaluations": evaluations, "notes": [reason]}
     evaluations.append({"F": 1.0, "load_kN_per_m": load_at_1, "status": "from the main run"})
 
     def proves(load: float) -> bool:  # does this certified load prove something about F_true at its F?
@@ -124,10 +143,10 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         return load < design_load if kind == "lower" else load <= design_load
 
     solves = 0
-    withheld = False
+    failed: list[float] = []  # F values at which the bound was withheld
 
     def trial(F: float) -> float | None:
-        nonlocal solves, withheld
+        nonlocal solves
         solves += 1
         bound = solve(reduce_strength(case, F), kind)
         load = bound.load_kN_per_m
@@ -136,23 +155,28 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
             text = "withheld" if load is None else f"{figure(load)} kN/m"
             progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
-            withheld = True
-            notes.append(f"the {kind} bound at F = {F:.4g} was withheld ({bound.status}); it is not used "
-                         "and the search with this bound stopped there")
+            failed.append(F)
+            notes.append(f"the {kind} bound at F = {F:.4g} was withheld ({bound.status}); it is not used, "
+                         "and the search went on between the nearest F proven and this one")
         return load
 
     # Bracket [lo, hi] of the root: lo below it (bound > design load), hi at or beyond it.
-    # F = 1 is known from the main run. The first trial is the load factor (exact for
+    # F = 1 is known from the main run. The first trial is the factor of safety on load (exact for
     # weightless Tresca ground); then each trial is the secant estimate of the root through
     # the last two points in (log F, log load), kept inside the bracket and, once it lies
     # within the tolerance of one end, pushed past the root by half the tolerance so that
     # the next trial closes the bracket. Two steps in a row that do not halve the bracket
     # are followed by a bisection (in log F): never much slower than bisection alone.
+    # A withheld F becomes a wall (wall_lo or wall_hi): later trials stay strictly inside
+    # the interval between the walls, and the search ends when that interval is within
+    # the tolerance, or after MAX_WITHHELD withheld solves.
     lo, hi = (None, 1.0) if above_root(load_at_1) else (1.0, None)
+    wall_lo = wall_hi = None
     known = [(1.0, load_at_1)]
 
-    def closed() -> bool:
-        return lo is not None and hi is not None
+    def side(proven: float | None, wall: float | None, pick) -> float | None:
+        ends = [x for x in (proven, wall) if x is not None]
+        return pick(ends) if ends else None
 
     def secant() -> float | None:
         """Root of the line through the last two points in (log F, log load), or None."""
@@ -164,66 +188,98 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         return math.exp(min(max(root, -50.0), 50.0))
 
     slow, width = 0, None
-    while solves < MAX_SOLVES:
-        if closed() and hi / lo <= 1 + tolerance:
-            break
+    while solves < MAX_SOLVES and len(failed) < MAX_WITHHELD:
+        a, b = side(lo, wall_lo, max), side(hi, wall_hi, min)  # the interval trials may use
+        if a is not None and b is not None and b / a <= 1 + tolerance:
+            break  # closed on proven ends, or as close to a withheld F as the tolerance asks
         estimate = load_at_1 / design_load if len(known) == 1 else secant()
-        if not closed():  # the root lies beyond every F tried: widen, guided by the estimate
-            if lo is None:
-                F = hi / EXPAND if estimate is None else min(max(estimate, hi / EXPAND ** 3), hi / (1 + tolerance))
+        if a is None or b is None:  # the root lies beyond every F tried: widen, guided by the estimate
+            if a is None:
+                F = b / EXPAND if estimate is None else min(max(estimate, b / EXPAND ** 3), b / (1 + tolerance))
             else:
-                F = lo * EXPAND if estimate is None else max(min(estimate, lo * EXPAND ** 3), lo * (1 + tolerance))
-        elif estimate is None or not lo < estimate < hi or slow >= 2:
-            F, slow = math.sqrt(lo * hi), 0
+                F = a * EXPAND if estimate is None else max(min(estimate, a * EXPAND ** 3), a * (1 + tolerance))
+        elif estimate is None or not a < estimate < b or slow >= 2 or failed:
+            F, slow = math.sqrt(a * b), 0  # after a withheld solve: bisection toward the proven end
         else:
-            near_lo, near_hi = estimate / lo <= 1 + tolerance, hi / estimate <= 1 + tolerance
+            near_lo, near_hi = estimate / a <= 1 + tolerance, b / estimate <= 1 + tolerance
             F = estimate
             if near_hi and not near_lo:
-                F = max(estimate / (1 + tolerance / 2), math.sqrt(lo * estimate))
+                F = max(estimate / (1 + tolerance / 2), math.sqrt(a * estimate))
             elif near_lo and not near_hi:
-                F = min(estimate * (1 + tolerance / 2), math.sqrt(hi * estimate))
+                F = min(estimate * (1 + tolerance / 2), math.sqrt(b * estimate))
         F = min(max(F, F_RANGE[0]), F_RANGE[1])
-        if any(abs(math.log(F / p[0])) < 1e-12 for p in known):
-            if not closed():
+        if any(abs(math.log(F / p)) < 1e-12 for p in [k[0] for k in known] + failed):
+            if a is None or b is None:
                 break  # at the end of the range searched
-            F, slow = math.sqrt(lo * hi), 0
+            F, slow = math.sqrt(a * b), 0
         load = trial(F)
         if load is None:
-            break
+            # the wall goes on the side away from this bound's proven value, so the search
+            # keeps improving it: above lo for the lower bound, below hi for the upper
+            beyond_value = (lo is not None and F > lo) if kind == "lower" else not (hi is not None and F < hi)
+            if beyond_value:
+                wall_hi = F if wall_hi is None else min(wall_hi, F)
+            else:
+                wall_lo = F if wall_lo is None else max(wall_lo, F)
+            continue
         known.append((F, load))
         if above_root(load):
             hi = F if hi is None else min(hi, F)
         else:
             lo = F if lo is None else max(lo, F)
-        if closed():
+        if lo is not None and hi is not None:
             new_width = math.log(hi / lo)
             slow = slow + 1 if width is not None and new_width > 0.5 * width else 0
             width = new_width
     proven = [e["F"] for e in evaluations if e["load_kN_per_m"] is not None and proves(e["load_kN_per_m"])]
     value = (max(proven) if kind == "lower" else min(proven)) if proven else None
-    beyond = None
-    if not withheld and kind == "lower" and hi is None:
+    beyond, reason = None, None
+    if not failed and kind == "lower" and hi is None:
         beyond = ">="
         notes.append(f"the lower bound still carries the design load at F = {F_RANGE[1]:g}, "
                      f"the end of the range searched: F >= {F_RANGE[1]:g}")
-    if not withheld and kind == "lower" and lo is None:
-        notes.append(f"the lower bound does not carry the design load even at F = {F_RANGE[0]:g}, "
-                     "the end of the range searched: no lower bound on F")
-    if not withheld and kind == "upper" and lo is None:
+    if not failed and kind == "lower" and lo is None:
+        reason = (f"the lower bound does not carry the design load even at F = {F_RANGE[0]:g}, "
+                  "the end of the range searched: no lower bound on F")
+    if not failed and kind == "upper" and lo is None:
         beyond = "<="
         notes.append(f"the upper bound is at or below the design load even at F = {F_RANGE[0]:g}, "
                      f"the end of the range searched: F <= {F_RANGE[0]:g}")
-    if not withheld and kind == "upper" and hi is None:
-        notes.append(f"the upper bound exceeds the design load even at F = {F_RANGE[1]:g}, "
-                     "the end of the range searched: no upper bound on F")
-    return {"value": value, "beyond": beyond, "solves": solves, "evaluations": evaluations, "notes": notes}
+    if not failed and kind == "upper" and hi is None:
+        reason = (f"the upper bound exceeds the design load even at F = {F_RANGE[1]:g}, "
+                  "the end of the range searched: no upper bound on F")
+    closed = lo is not None and hi is not None and hi / lo <= 1 + tolerance
+    if value is not None and (closed or beyond):
+        search = "found"
+    elif failed:
+        shown = ", ".join(f"{F:.4g}" for F in sorted(failed))
+        reason = (f"the {kind} bound was withheld at F = {shown} (solver trouble or a failed certificate "
+                  "on this mesh, not a property of the ground)")
+        if value is not None and value != 1.0:
+            search = "incomplete"
+            nearest = min(failed, key=lambda F: abs(math.log(F / value)))
+            reason += (f"; {value:.4g} is the {'largest' if kind == 'lower' else 'smallest'} F proven, "
+                       f"{abs(math.log(nearest / value)) * 100:.2g} % from the nearest withheld F; the "
+                       "root may lie beyond it")
+        else:  # only the main run's F = 1: that is the design load's check, not a factor of safety on strength found
+            search, value = "not found", None
+            reason += "; no F but the main run's F = 1 was proven, so no value is given (a finer mesh may help)"
+    else:
+        search = "found" if value is not None else "not found"
+        if value is None and reason is None:
+            reason = f"the search with the {kind} bound proved no F"
+    if reason:
+        notes.append(reason)
+    return {"value": value, "search": search, "reason": reason, "beyond": beyond, "solves": solves,
+            "evaluations": evaluations, "notes": notes}
 
 
 def factor_of_safety(case: Case, result, *, elements: int | None = None, backend: str | None = None,
                      tolerance: float = STRENGTH_TOLERANCE,
                      progress: Callable[[str], None] | None = None, solve: Solver | None = None,
                      parallel: bool | None = None) -> dict | None:
-    """Load factor, strength-reduction factor and partial-factor check for a finished Result.
+    """Factors of safety on load and on strength, the checks and the partial-factor check
+    for a finished Result.
 
     Parameters
     ----------
@@ -249,7 +305,8 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     -------
     dict or None
         None when the case gives neither ``design_load`` nor ``[factors]``; else
-        ``{"design_load_kN_per_m", "load", "strength", "partial_factors"}`` (those that apply).
+        ``{"design_load_kN_per_m", "on_load", "on_strength", "checks", "partial_factors"}``
+        (those that apply).
     """
     design_load = case.footing.design_load
     if design_load is None and case.factors is None:
@@ -268,11 +325,12 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     up1 = result.upper.load_kN_per_m if result.upper else None
     out: dict = {"design_load_kN_per_m": design_load}
     if design_load is not None:
-        out["load"] = load_factor(lo1, up1, design_load)
+        out["on_load"] = factor_on_load(lo1, up1, design_load)
         strength = {"lower": None, "upper": None, "solves": 0, "tolerance": tolerance,
-                    "method": "each bound separately: estimates aimed at the root (the load factor, then "
-                              "secants in log F and log load), then bisection on F to the tolerance; "
-                              "the values are F actually solved and certified", "evaluations": {}, "notes": []}
+                    "method": "each bound separately: estimates aimed at the root (the factor of safety on "
+                              "load, then secants in log F and log load), then bisection on F to the "
+                              "tolerance; the values are F actually solved and certified", "search": {},
+                    "reason": {}, "evaluations": {}, "notes": []}
         asked = [(k, load) for k, bound, load in (("lower", result.lower, lo1), ("upper", result.upper, up1))
                  if bound is not None]
         if parallel is None:
@@ -282,20 +340,87 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
                                                                   progress), asked, parallel and len(asked) > 1)
         for kind in ("lower", "upper"):
             if kind not in found_by_kind:
-                strength["notes"].append(f"the {kind} bound was not asked for")
+                strength["search"][kind] = "not asked for"
+                strength["reason"][kind] = f"the {kind} bound was not asked for"
+                strength["notes"].append(strength["reason"][kind])
                 continue
             found = found_by_kind[kind]
             strength[kind] = found["value"]
+            strength["search"][kind] = found["search"]
+            strength["reason"][kind] = found["reason"]
             strength["solves"] += found["solves"]
             strength["evaluations"][kind] = found["evaluations"]
             strength["notes"] += found["notes"]
             if found.get("beyond"):
                 strength[f"{kind}_beyond_range"] = found["beyond"]
-        out["strength"] = strength
+        out["on_strength"] = strength
+        out["checks"] = safety_checks(case, lo1, up1, out["on_load"], strength)
     if case.factors is not None:
         out["partial_factors"] = partial_factor_check(case, result, design_load, solve)
     out["wall_s"] = time.perf_counter() - start
     return out
+
+
+def _verdict(check: str, outcome: str, text: str, **more) -> dict:
+    return {"check": check, **more, "outcome": outcome, "verdict": text}
+
+
+def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: float | None,
+                  on_load: dict, on_strength: dict) -> list[dict]:
+    """Verdict lines: is the design load carried, and are the required factors of safety met?
+
+    Each is ``{"check", "outcome", "verdict"}`` with outcome "met", "not met" or "undecided"
+    (the bracket cannot tell); "met" is proven by a lower bound, "not met" by an upper bound.
+
+    >>> from types import SimpleNamespace as NS
+    >>> case = NS(footing=NS(design_load=120.0, required_factor_of_safety_on_load=None,
+    ...                      required_factor_of_safety_on_strength=None))
+    >>> safety_checks(case, 26.8, 27.1, {"lower": 0.223, "upper": 0.226}, {})[0]["outcome"]
+    'not met'
+    """
+    P = case.footing.design_load
+    along = " (along the load's line of action)" if getattr(case.footing, "load_inclination", 0.0) else ""
+    checks = []
+    if lower_kN_per_m is not None and lower_kN_per_m >= P:
+        checks.append(_verdict("design load carried", "met",
+                               f"the design load {figure(P)} kN/m is carried: the lower bound of the collapse "
+                               f"load{along}, {figure(lower_kN_per_m)} kN/m, is above it"))
+    elif upper_kN_per_m is not None and upper_kN_per_m < P:
+        checks.append(_verdict("design load carried", "not met",
+                               f"the design load {figure(P)} kN/m is ABOVE the collapse load: the upper bound{along}, "
+                               f"{figure(upper_kN_per_m)} kN/m, is below it, so the footing collapses under "
+                               f"the design load (factor of safety on load at most {figure(upper_kN_per_m / P, 3)})"))
+    elif lower_kN_per_m is not None and upper_kN_per_m is not None:
+        checks.append(_verdict("design load carried", "undecided",
+                               f"the design load {figure(P)} kN/m lies inside the collapse bracket{along} "
+                               f"[{figure(lower_kN_per_m)}, {figure(upper_kN_per_m)}] kN/m: the footing is at "
+                               "collapse under it, and the bracket cannot tell whether it is carried"))
+    else:
+        checks.append(_verdict("design load carried", "undecided",
+                               "no complete bracket of the collapse load (a bound was withheld or not asked "
+                               "for): whether the design load is carried is not decided"))
+    required = (("on load", case.footing.required_factor_of_safety_on_load, on_load, {}),
+                ("on strength", case.footing.required_factor_of_safety_on_strength, on_strength,
+                 on_strength.get("reason") or {}))
+    for name, R, found, reasons in required:
+        if R is None:
+            continue
+        lo, up = found.get("lower"), found.get("upper")
+        shown = f"[{'none' if lo is None else figure(lo, 3)}, {'none' if up is None else figure(up, 3)}]"
+        check, head = f"required factor of safety {name}", f"required factor of safety {name} {R:g}"
+        if lo is not None and lo >= R:
+            checks.append(_verdict(check, "met", f"{head}: met (the factor is {shown}; its lower value, "
+                                                  "proven by the lower bound, reaches it)", required=R))
+        elif up is not None and up < R:
+            checks.append(_verdict(check, "not met", f"{head}: NOT met (the factor is {shown}; its upper "
+                                                      "value, proven by the upper bound, is below it)", required=R))
+        else:
+            why = ("the required value lies inside the bracket; a finer mesh narrows it" if lo is not None
+                   and up is not None else "; ".join(r for r in (reasons.get("lower"), reasons.get("upper")) if r)
+                   or "a bound of the factor is missing")
+            checks.append(_verdict(check, "undecided", f"{head}: undecided by the bracket {shown} ({why})",
+                                   required=R))
+    return checks
 
 
 def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
@@ -312,7 +437,7 @@ def _run_each(work: Callable, asked: list, parallel: bool) -> dict:
 
 def partial_factor_check(case: Case, result, design_load: float | None, solve: Solver) -> dict:
     """Design resistance R_d = R(design strengths) / resistance factor against the action
-    E_d = load factor * design_load. Proven covered when the lower bound of R_d >= E_d,
+    E_d = partial factor on the action * design_load. Proven covered when the lower bound of R_d >= E_d,
     proven not covered when the upper bound of R_d < E_d; otherwise undecided."""
     factors = case.factors
     unfactored = all(getattr(factors, k) == 1.0 for k in ("friction", "cohesion", "undrained_strength"))
@@ -355,30 +480,40 @@ def partial_factor_check(case: Case, result, design_load: float | None, solve: S
 def format_safety(fos: dict) -> list[str]:
     """Summary lines for the command line.
 
-    >>> format_safety({"design_load_kN_per_m": 150.0, "load": {"lower": 2.0, "upper": 2.1},
-    ...                "strength": {"lower": 1.5, "upper": 1.6, "solves": 6, "tolerance": 0.01}})[1]
-    '    load factor      [2.000, 2.100]  (collapse load / design load)'
+    >>> format_safety({"design_load_kN_per_m": 150.0, "on_load": {"lower": 2.0, "upper": 2.1},
+    ...                "on_strength": {"lower": 1.5, "upper": 1.6, "solves": 6, "tolerance": 0.01}})[1]
+    '    on load      [2.000, 2.100]  (collapse load / design load)'
     """
     def show(value, prefix=""):
         return "none" if value is None else f"{prefix}{figure(value, 3)}"
 
     lines = []
     if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m")
-        load = fos.get("load", {})
-        lines.append(f"    load factor      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
+        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m "
+                     "(along the load's line of action)")
+        load = fos.get("on_load", {})
+        lines.append(f"    on load      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
                      "(collapse load / design load)")
-        strength = fos.get("strength")
+        strength = fos.get("on_strength")
         if strength:
+            search = strength.get("search") or {}
             lower = show(strength.get("lower"), ">= " if strength.get("lower_beyond_range") else "")
-            lines.append(f"    strength factor  [{lower}, {show(strength.get('upper'))}]  (c, su and tan phi "
-                         f"divided by F; searched to {strength['tolerance']:.0%}, {strength['solves']} solves)")
-            lines += [f"    NOTE: {note}" for note in strength.get("notes", [])]
+            upper = show(strength.get("upper"), "<= " if strength.get("upper_beyond_range") else "")
+            marks = [k for k in ("lower", "upper") if search.get(k) in ("incomplete", "not found")]
+            lines.append(f"    on strength  [{lower}, {upper}]  (strength-reduction factor: c', su and tan phi' "
+                         f"divided by F until collapse; searched to {strength['tolerance']:.0%}, "
+                         f"{strength['solves']} solves)")
+            lines += [f"    NOTE: {kind} value {search[kind]}: {(strength.get('reason') or {}).get(kind)}"
+                      for kind in marks]
+            lines += [f"    NOTE: {note}" for note in strength.get("notes", [])
+                      if note not in (strength.get("reason") or {}).values()]
+    lines += [f"  VERDICT: {check['verdict']}" for check in fos.get("checks", [])]
     partial = fos.get("partial_factors")
     if partial:
         res = partial["design_resistance_kN_per_m"]
         action = partial["action_kN_per_m"]
         lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {figure(action)} kN/m" if action is not None else ""))
+                     + (f", design action {figure(action)} kN/m (partial factor on the action "
+                        f"{partial['factors']['load']:g} x design load)" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines

@@ -879,53 +879,19 @@ def write_charts(sweep: Sweep, records: list[dict], out_dir: pathlib.Path) -> li
     return files
 
 
+# Each band differs in print without colour too: its own marker and its own hatch on the fill.
+BAND_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*", "<", ">")
+BAND_HATCHES = ("", "////", "\\\\", "...", "xx", "||", "--", "++", "oo", "**")
+
+
 def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter], out_dir: pathlib.Path,
                 stem: str, subtitle: str) -> list[pathlib.Path]:
     from matplotlib import rc_context
-    from matplotlib.figure import Figure
-    from matplotlib.lines import Line2D
 
     from .pictures import missing_glyphs_quiet
 
     chart = sweep.chart
-    x_param = params[chart.x]
-    line_param = params[chart.lines] if chart.lines else None
-    line_values = line_param.values if line_param else (None,)
-    figure = Figure(figsize=(7.0, 4.8), layout="constrained")
-    axes = figure.add_subplot()
-    colours = [f"C{i % 10}" for i in range(len(line_values))]
-    no_result = False
-    for value, colour in zip(line_values, colours):
-        rows = [r for r in records if line_param is None or r["values"][chart.lines] == value]
-        rows.sort(key=lambda r: r["values"][chart.x])
-        x = np.array([r["values"][chart.x] for r in rows], dtype=float)
-        lower, upper = (np.array([_chart_value(r, side, chart) for r in rows], dtype=float)
-                        for side in ("lower", "upper"))
-        label = "" if line_param is None else f"{line_param.label} = {_value_text(value, line_param.unit)}"
-        band = np.isfinite(lower) & np.isfinite(upper)
-        axes.fill_between(x, lower, upper, where=band, color=colour, alpha=0.25, linewidth=0,
-                          interpolate=False)
-        axes.plot(x, upper, "-", marker="o", markersize=3.5, color=colour, label=label or None)
-        axes.plot(x, lower, "--", marker="o", markersize=3.5, color=colour)
-        failed = ~(np.isfinite(lower) | np.isfinite(upper))
-        if failed.any():  # drawn on the x axis, so that a missing point is seen, not guessed
-            axes.plot(x[failed], np.zeros(failed.sum()), "x", color=colour, markersize=7, clip_on=False)
-            no_result = True
-    # One entry per band, then what the line styles and crosses mean.
-    styles = [Line2D([], [], color="k", linestyle="-", label="upper bound"),
-              Line2D([], [], color="k", linestyle="--", label="lower bound")]
-    if no_result:
-        styles.append(Line2D([], [], color="k", marker="x", linestyle="none", label="no result (see sweep.csv)"))
-    handles, _ = axes.get_legend_handles_labels()
-    axes.legend(handles=handles + styles, fontsize=7.5, loc="best")
-    axes.set_xlabel(_axis_label(x_param.label, x_param.unit))
-    axes.set_ylabel(_output_label(chart))
-    axes.set_title(chart.title + (f"\n{subtitle}" if subtitle else ""), fontsize=10)
-    axes.grid(True, alpha=0.3)
-    axes.set_ylim(bottom=0)
-    figure.text(0.01, 0.005, "Shaded: the bracket between the lower and upper bound. " + CAUTION,
-                fontsize=5.5, wrap=True, va="bottom")
-    figure.get_layout_engine().set(rect=(0, 0.05, 1, 0.95))
+    figure = chart_figure(sweep, records, params, subtitle)
     files = []
     for fmt in chart.formats:
         path = out_dir / f"{stem}.{fmt}"
@@ -938,6 +904,67 @@ def _draw_chart(sweep: Sweep, records: list[dict], params: dict[str, Parameter],
             tmp.unlink(missing_ok=True)
         files.append(path)
     return files
+
+
+def chart_figure(sweep: Sweep, records: list[dict], params: dict[str, Parameter], subtitle: str = ""):
+    """The chart of one group of points: a lower-upper band per value of chart.lines, each with its
+    own colour, marker and hatch (so that the bands differ in grey print), the upper bound solid
+    and the lower bound dashed, crosses on the x axis where a point has no result."""
+    from matplotlib.figure import Figure
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    chart = sweep.chart
+    x_param = params[chart.x]
+    line_param = params[chart.lines] if chart.lines else None
+    line_values = line_param.values if line_param else (None,)
+    figure = Figure(figsize=(7.0, 4.8), layout="constrained")
+    axes = figure.add_subplot()
+    colours = [f"C{i % 10}" for i in range(len(line_values))]
+    no_result = False
+    bands: list[tuple] = []
+    for index, (value, colour) in enumerate(zip(line_values, colours)):
+        marker = BAND_MARKERS[index % len(BAND_MARKERS)]
+        hatch = BAND_HATCHES[index % len(BAND_HATCHES)]
+        rows = [r for r in records if line_param is None or r["values"][chart.lines] == value]
+        rows.sort(key=lambda r: r["values"][chart.x])
+        x = np.array([r["values"][chart.x] for r in rows], dtype=float)
+        lower, upper = (np.array([_chart_value(r, side, chart) for r in rows], dtype=float)
+                        for side in ("lower", "upper"))
+        label = "" if line_param is None else f"{line_param.label} = {_value_text(value, line_param.unit)}"
+        band = np.isfinite(lower) & np.isfinite(upper)
+        axes.fill_between(x, lower, upper, where=band, facecolor=colour, alpha=0.25, linewidth=0,
+                          interpolate=False)
+        if hatch:  # the hatch opaque, over the translucent fill
+            axes.fill_between(x, lower, upper, where=band, facecolor="none", edgecolor=colour, hatch=hatch,
+                              linewidth=0, interpolate=False)
+        axes.plot(x, upper, "-", marker=marker, markersize=4, color=colour)
+        if label:  # the band's entry: its fill and hatch, and its marker
+            bands.append(((Patch(facecolor=colour, alpha=0.25, edgecolor="none"),
+                           Patch(facecolor="none", edgecolor=colour, hatch=hatch, linewidth=0),
+                           Line2D([], [], color=colour, marker=marker, markersize=4)), label))
+        axes.plot(x, lower, "--", marker=marker, markersize=4, color=colour, markerfacecolor="white")
+        failed = ~(np.isfinite(lower) | np.isfinite(upper))
+        if failed.any():  # drawn on the x axis, so that a missing point is seen, not guessed
+            axes.plot(x[failed], np.zeros(failed.sum()), "x", color=colour, markersize=7, clip_on=False)
+            no_result = True
+    # One entry per band, then what the line styles and crosses mean.
+    styles = [Line2D([], [], color="k", linestyle="-", marker="o", label="upper bound (filled markers)"),
+              Line2D([], [], color="k", linestyle="--", marker="o", markerfacecolor="white",
+                     label="lower bound (open markers)")]
+    if no_result:
+        styles.append(Line2D([], [], color="k", marker="x", linestyle="none", label="no result (see sweep.csv)"))
+    axes.legend(handles=[h for h, _ in bands] + styles, labels=[t for _, t in bands] + [h.get_label() for h in styles],
+                fontsize=7.5, loc="best")
+    axes.set_xlabel(_axis_label(x_param.label, x_param.unit))
+    axes.set_ylabel(_output_label(chart))
+    axes.set_title(chart.title + (f"\n{subtitle}" if subtitle else ""), fontsize=10)
+    axes.grid(True, alpha=0.3)
+    axes.set_ylim(bottom=0)
+    figure.text(0.01, 0.005, "Shaded: the bracket between the lower and upper bound. " + CAUTION,
+                fontsize=5.5, wrap=True, va="bottom")
+    figure.get_layout_engine().set(rect=(0, 0.05, 1, 0.95))
+    return figure
 
 
 def _chart_value(record: dict, side: str, chart: ChartSpec) -> float:

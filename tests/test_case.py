@@ -112,6 +112,8 @@ EXPECTED_KEY = {
     "load_inclination_smooth_base.toml": "footing.load_inclination",
     "load_inclination_90.toml": "footing.load_inclination",
     "design_load_zero.toml": "footing.design_load",
+    "required_factor_without_design_load.toml": "footing.required_factor_of_safety_on_load",
+    "required_factor_below_one.toml": "footing.required_factor_of_safety_on_strength",
     "dilation_above_friction.toml": "layers[1].dilation_angle",
     "dilation_on_tresca.toml": "layers[1].dilation_angle",
     "saturated_below_unit_weight.toml": "layers[1].saturated_unit_weight",

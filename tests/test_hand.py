@@ -12,6 +12,7 @@ import math
 import pytest
 
 import solver.hand
+from solver.hand import _meyerhof_hanna
 from solver.hand import (
     bearing_factors,
     ec7_undrained_ic,
@@ -247,15 +248,27 @@ def test_drained_sand_strip():
                          ("Vesic (1973/1975)", "vesic"), ("EN 1997-1:2004 Annex D.4, drained", "ec7")):
         ngamma = bearing_factors(method, 30.0)["Ngamma"]
         assert found[name].pressure_kPa == pytest.approx(0.5 * 19.0 * 1.5 * ngamma), name
-    assert found["Terzaghi (1943), general shear"].pressure_kPa == pytest.approx(0.5 * 19.0 * 1.5 * 19.7, rel=0.01)
+    # Terzaghi's N_gamma is a recalled table: no value in reports where the N_gamma term counts
+    for name in ("Terzaghi (1943), general shear", "Terzaghi (1943), local shear"):
+        assert found[name].pressure_kPa is None and "N_gamma" in found[name].note
     assert found["EN 1997-1:2004 Annex D.3, undrained"].pressure_kPa is None
+
+
+def test_terzaghi_is_given_where_its_n_gamma_term_vanishes():
+    # weightless c-phi soil: Terzaghi (1943) q_u = c Nc + q Nq with his closed forms, no table
+    case = strip_case(sand("silt", 25.0, c=10.0, unit_weight=0.0), surcharge=5.0)
+    f = terzaghi_factors(25.0)
+    found = by_method(case)["Terzaghi (1943), general shear"]
+    assert found.pressure_kPa == pytest.approx(10.0 * f["Nc"] + 5.0 * f["Nq"])
+    assert "from memory" not in found.source and "Bowles" not in found.source
 
 
 def test_smooth_base_is_flagged_for_rough_base_formulas():
     case = strip_case(sand("sand", 35.0), base="smooth")
     found = by_method(case)
     assert "rough base" in found["EN 1997-1:2004 Annex D.4, drained"].note
-    assert "rough base" in found["Terzaghi (1943), general shear"].note
+    weightless = by_method(strip_case(sand("sand", 35.0, c=1.0, unit_weight=0.0), base="smooth"))
+    assert "rough base" not in weightless["Terzaghi (1943), general shear"].note  # no gamma term, no matter
 
 
 def test_alike_layers_count_as_homogeneous():
@@ -274,7 +287,8 @@ def test_layered_ground_gives_none_with_a_reason_for_homogeneous_methods():
         assert found[name].pressure_kPa is None, name
         assert "layered ground" in found[name].note and "'soft clay'" in found[name].note
         assert found[name].factors == {}
-    assert found["Meyerhof & Hanna (1978), strong over weak"].pressure_kPa is not None
+    hanna = found["Meyerhof & Hanna (1978), strong over weak"]
+    assert hanna.pressure_kPa is None and "charts" in hanna.note  # applies, but its chart values are recalled
 
 
 def test_methods_keep_their_order_on_every_case():
@@ -295,24 +309,24 @@ def test_meyerhof_hanna_limits():
     # Meyerhof & Hanna (1978): as H -> 0 the formula tends to q_b, the lower layer's
     # own capacity; for a deep weak layer it is capped at q_t, the top layer's.
     thin = strip_case(sand("sand", 40.0, thickness=1e-6), clay("clay", 30.0))
-    est = by_method(thin)["Meyerhof & Hanna (1978), strong over weak"]
+    est = _meyerhof_hanna(thin, recalled_charts=True)
     assert est.pressure_kPa == pytest.approx(_meyerhof_surface(30.0, 0.0, 17.0, 2.0, 0.0), rel=1e-4)
     deep = strip_case(sand("sand", 40.0, thickness=10.0), clay("clay", 30.0))
-    est = by_method(deep)["Meyerhof & Hanna (1978), strong over weak"]
+    est = _meyerhof_hanna(deep, recalled_charts=True)
     assert est.pressure_kPa == pytest.approx(_meyerhof_surface(0.0, 40.0, 19.0, 2.0, 0.0))
     assert "top-layer value" in est.note and "from memory" in est.note
 
 
 def test_meyerhof_hanna_sand_over_clay_lies_between_its_limits():
     case = strip_case(sand("sand", 40.0, thickness=1.0), clay("clay", 30.0))
-    value = by_method(case)["Meyerhof & Hanna (1978), strong over weak"].pressure_kPa
+    value = _meyerhof_hanna(case, recalled_charts=True).pressure_kPa
     assert _meyerhof_surface(30.0, 0.0, 17.0, 2.0, 0.0) < value < _meyerhof_surface(0.0, 40.0, 19.0, 2.0, 0.0)
 
 
 def test_meyerhof_hanna_clay_over_clay_punching_term():
     # Strong clay over weak clay, Meyerhof & Hanna (1978): q_u = 5.14 c2 + 2 ca H / B + q <= q_t.
     case = strip_case(clay("stiff", 100.0, thickness=1.0), clay("soft", 30.0), surcharge=10.0)
-    est = by_method(case)["Meyerhof & Hanna (1978), strong over weak"]
+    est = _meyerhof_hanna(case, recalled_charts=True)
     ca = est.factors["ca_over_c1"] * 100.0
     assert 0.6 * 100.0 <= ca <= 100.0
     assert est.pressure_kPa == pytest.approx((math.pi + 2.0) * 30.0 + 2.0 * ca * 1.0 / 2.0 + 10.0)
@@ -616,3 +630,71 @@ def test_layered_methods_under_inclined_load_and_slope_say_why():
     found = by_method(loaded_case(*crust, inclination=8.0))
     assert found["Equivalent homogeneous: weakest layer within 2B"].pressure_kPa == pytest.approx(
         PRANDTL * 30.0 * (82.0 / 90.0) ** 2)
+
+
+# -- like with like, no averages of unlike soils, no recalled values in reports ---------
+
+def test_with_a_dilation_angle_the_methods_use_the_bounds_reduced_strength():
+    # Davis (1968): beta = cos(psi) cos(phi) / (1 - sin(psi) sin(phi)); c* = beta c, tan(phi*) = beta tan(phi)
+    phi, psi, c = 35.0, 5.0, 4.0
+    beta = (math.cos(math.radians(psi)) * math.cos(math.radians(phi))
+            / (1.0 - math.sin(math.radians(psi)) * math.sin(math.radians(phi))))
+    phi_star = math.degrees(math.atan(beta * math.tan(math.radians(phi))))
+    dilating = Layer("sand", "mohr-coulomb", None, 19.0, cohesion=c, friction_angle=phi, dilation_angle=psi)
+    case = strip_case(dilating, embedment=0.5)
+    analysed = by_method(case)["Meyerhof (1963)"]
+    like = by_method(strip_case(sand("sand", phi_star, c=beta * c), embedment=0.5))["Meyerhof (1963)"]
+    assert analysed.pressure_kPa == pytest.approx(like.pressure_kPa)
+    assert "Davis (1968)" in analysed.note and f"phi* = {phi_star:.2f}" in analysed.note
+    given = {e.method: e for e in hand_methods(case, "as given")}["Meyerhof (1963)"]
+    full = by_method(strip_case(sand("sand", phi, c=c), embedment=0.5))["Meyerhof (1963)"]
+    assert given.pressure_kPa == pytest.approx(full.pressure_kPa)
+    assert given.pressure_kPa > analysed.pressure_kPa
+    assert given.note.startswith("information only")
+    # without a dilation angle both are the same list
+    plain = strip_case(sand("sand", phi, c=c))
+    assert hand_methods(plain) == hand_methods(plain, "as given")
+
+
+def test_a_run_with_a_dilation_angle_flags_only_like_with_like():
+    # The issue: with a dilation angle every hand method came out ABOVE THE UPPER BOUND, as the
+    # bracket used phi* and the methods the full phi. Now the flags come from phi* only.
+    from solver.analysis import analyse
+    from solver.case import parse_case
+
+    case = parse_case({"footing": {"width": 1.0, "embedment": 0.5}, "layers": [
+        {"name": "sand", "model": "mohr-coulomb", "cohesion": 2.0, "friction_angle": 35.0,
+         "dilation_angle": 0.0, "unit_weight": 19.0}], "analysis": {"elements": 400}})
+    result = analyse(case, parallel=False)
+    compared = {r["method"]: r for r in result.hand_methods}
+    given = {r["method"]: r for r in result.hand_methods_as_given}
+    assert given and set(given) <= set(compared)
+    values = [r for r in result.hand_methods if r["pressure_kPa"] is not None]
+    assert values and not all(r["where"].startswith("ABOVE") for r in values)
+    for method, row in given.items():  # only those the full strength changes, never flagged
+        assert row["where"] == "information only" and row["pressure_kPa"] > compared[method]["pressure_kPa"]
+    assert "hand_methods_as_given" in result.to_dict()
+
+
+def test_the_average_shortcut_does_not_average_drained_with_undrained_layers():
+    # sand 0.5 m over clay, both within B = 2 m: phi' and su must not be averaged
+    case = strip_case(sand("sand", 34.0, thickness=0.5), clay("clay", 40.0))
+    est = by_method(case)["Equivalent homogeneous: average over 1B"]
+    assert est.pressure_kPa is None and "mix drained" in est.note and "'clay'" in est.note
+    # two drained layers still average
+    drained = strip_case(sand("sand", 34.0, thickness=0.5), sand("silt", 28.0, c=3.0))
+    assert by_method(drained)["Equivalent homogeneous: average over 1B"].pressure_kPa is not None
+
+
+@pytest.mark.parametrize("layers", [
+    (sand("sand", 32.0),),
+    (clay("clay", 40.0),),
+    (sand("sand", 38.0, thickness=1.0), clay("soft clay", 20.0)),
+    (clay("stiff", 90.0, thickness=1.0), clay("soft", 25.0)),
+    (sand("upper", 36.0, thickness=0.8), sand("lower", 28.0, c=5.0)),
+])
+def test_no_estimate_says_from_memory(layers):
+    for strength in ("as analysed", "as given"):
+        for est in hand_methods(strip_case(*layers, embedment=0.5), strength):
+            assert "from memory" not in est.source and "from memory" not in est.note, est.method
+            assert "memory" not in est.note and "recalled" not in est.note, est.method

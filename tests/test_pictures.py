@@ -37,13 +37,18 @@ LAYERED = {
 }
 
 
-@pytest.fixture(scope="module")
-def layered_run():
-    case = parse_case(LAYERED, name="layered")
+def solved(data: dict, name: str):
+    """(case, result.json's dict, fields by bound) of a case solved on its coarse mesh."""
+    case = parse_case(data, name=name)
     result = analyse(case)
     fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
               if v is not None}
     return case, result.to_dict(), fields
+
+
+@pytest.fixture(scope="module")
+def layered_run():
+    return solved(LAYERED, "layered")
 
 
 def drawn_texts(fig):
@@ -73,7 +78,7 @@ def test_doctests():
 def test_every_picture_draws_with_no_text_overlapping_or_off_the_page(layered_run):
     case, data, fields = layered_run
     figures = draw_all(case, data, fields)
-    assert set(figures) == {"model", "mechanism", "stress"}
+    assert set(figures) == {"model", "mechanism", "stress", "contact"}
     for name, fig in figures.items():
         boxes = drawn_texts(fig)
         page = fig.bbox
@@ -92,7 +97,7 @@ def test_labels_carry_units_and_case_text_is_literal(layered_run):
     for name in figures:
         assert "(m)" in texts[name], name  # axes in metres
     assert "kN/m\u00b3" in texts["model"] and "kPa" in texts["model"]
-    assert "kN/m\u00b3 per unit footing velocity" in texts["mechanism"]
+    assert "shear strain rate, 1/m per unit footing velocity" in texts["mechanism"]
     assert "B)" in texts["mechanism"] and "m deep" in texts["mechanism"]  # extent in m and in B
     assert "yield utilisation" in texts["stress"] and "compression" in texts["stress"]
     # the '$...$' of the case file is escaped, so matplotlib draws it instead of parsing it
@@ -103,7 +108,7 @@ def test_labels_carry_units_and_case_text_is_literal(layered_run):
 def test_written_files_are_png_and_svg_without_script_and_repeatable(layered_run, tmp_path):
     case, data, fields = layered_run
     paths = write_pictures(draw_all(case, data, fields), tmp_path)
-    assert sorted(p.name for p in paths) == sorted(f"{n}.{e}" for n in ("model", "mechanism", "stress")
+    assert sorted(p.name for p in paths) == sorted(f"{n}.{e}" for n in ("model", "mechanism", "stress", "contact")
                                                    for e in ("png", "svg"))
     for path in paths:
         if path.suffix == ".png":
@@ -169,12 +174,9 @@ SLOPE = {
 
 @pytest.fixture(scope="module")
 def slope_run():
-    case = parse_case(SLOPE, name="slope")
-    result = analyse(case)
-    fields = {k: v for k, v in (("lower", bound_fields(result.lower)), ("upper", bound_fields(result.upper)))
-              if v is not None}
+    case, data, fields = solved(SLOPE, "slope")
     assert set(fields) == {"lower", "upper"}
-    return case, result.to_dict(), fields
+    return case, data, fields
 
 
 def ground_top(domain, x):
@@ -210,6 +212,8 @@ def test_slope_pictures_put_no_arrow_and_no_soil_line_in_the_air(slope_run):
     assert face.any()
     # interfaces (dashed) and the water table (dash-dot) end where they meet the ground
     for name, fig in figures.items():
+        if name == "contact":
+            continue  # a graph of stress along the base, not a map of the ground
         for axes in fig.axes:
             for line in axes.get_lines():
                 if line.get_linestyle() in ("--", "-."):  # interfaces; the water table's dash-dot is '--' here
@@ -268,6 +272,7 @@ def test_slope_pictures_draw_the_profile_the_crest_toe_and_the_inclined_eccentri
     domain = data["domain"]
     crest, toe, height = domain["slope_crest_x_m"], domain["slope_toe_x_m"], domain["slope_height_m"]
     figures = draw_all(case, data, fields)
+    figures.pop("contact")  # a graph of stress along the base, not a map of the ground
     for name, fig in figures.items():
         ax = fig.axes[1] if name == "model" else fig.axes[0]
         # the ground line runs through the crest and the toe
@@ -377,3 +382,103 @@ def test_drawn_site_pictures_draw_the_mesh_outline_and_leave_the_air_blank(tmp_p
         for px, py in pixels:
             patch = image[int(height - py) - 1:int(height - py) + 2, int(px) - 1:int(px) + 2]
             assert patch.min() > 0.97, f"something is drawn in the air at pixel {px:.0f}, {py:.0f}"
+
+
+# -- issue 14: the pictures show what the numbers mean ----------------------------------
+
+SAND_OVER_CLAY = {
+    "title": "Test: cohesionless sand over clay",
+    "footing": {"width": 1.5},
+    "layers": [
+        {"name": "clean sand", "thickness": 1.0, "model": "mohr-coulomb", "cohesion": 0.0,
+         "friction_angle": 34.0, "unit_weight": 18.0},
+        {"name": "firm clay", "model": "tresca", "undrained_strength": 35.0, "unit_weight": 18.0},
+    ],
+    "analysis": {"elements": 600},
+}
+
+
+@pytest.fixture(scope="module")
+def sand_run():
+    return solved(SAND_OVER_CLAY, "sand")
+
+
+def test_the_mechanism_shows_in_a_cohesionless_layer_and_names_the_layers(sand_run):
+    from solver.pictures import shear_strain_rate, split_quadratic
+
+    case, data, fields = sand_run
+    upper = fields["upper"]
+    in_sand = upper.layer == 0
+    assert np.all(upper.arrays["dissipation"][in_sand] == 0.0)  # c' = 0: nothing to shade by dissipation
+    rate = shear_strain_rate(upper.points, upper.triangles, upper.arrays["velocity"])
+    sub_in_sand = np.tile(in_sand, 4)  # split_quadratic's order: the four sub-triangles, element by element
+    shown = rate[sub_in_sand] >= 1e-3 * rate.max()
+    assert shown.mean() > 0.05  # the sand's shear zones are shaded
+    fig = draw_all(case, data, fields)["mechanism"]
+    ax = fig.axes[0]
+    mirrored = 2 if data["domain"]["half_domain_by_symmetry"] else 1
+    shade = [c for c in ax.collections if c.get_array() is not None and len(c.get_array()) == mirrored * len(rate)]
+    assert len(shade) == 1 and len(split_quadratic(upper.triangles)) == len(rate)  # shaded by the strain rate
+    texts = " ".join(t.get_text() for t, _ in drawn_texts(fig))
+    assert "clean sand" in texts and "firm clay" in texts and "shear strain rate" in texts
+
+
+def test_the_extent_frame_arrows_and_result_use_one_threshold(sand_run):
+    from matplotlib.quiver import Quiver
+    from matplotlib.patches import Rectangle
+    from solver.pictures import MOVING_SPEED, moving_extent
+
+    case, data, fields = sand_run
+    half = data["domain"]["half_domain_by_symmetry"]
+    extra = data["upper"]["extra"]
+    assert extra["mechanism_speed_fraction"] == MOVING_SPEED == 0.05
+    x_lo, x_hi, depth = moving_extent(fields["upper"], half)
+    assert extra["mechanism_depth_m"] == pytest.approx(depth)
+    assert extra["mechanism_x_max_m"] == pytest.approx(x_hi)
+    fig = draw_all(case, data, fields)["mechanism"]
+    ax = fig.axes[0]
+    frames = [p for p in ax.patches if isinstance(p, Rectangle) and p.get_linestyle() == "--"]
+    assert len(frames) == 1 and frames[0].get_x() == pytest.approx(x_lo) and frames[0].get_width() == pytest.approx(x_hi - x_lo)
+    quiver = [c for c in ax.collections if isinstance(c, Quiver)][0]
+    cell = (ax.get_xlim()[1] - ax.get_xlim()[0]) / solver.pictures.ARROW_CELLS
+    assert quiver.X.min() >= x_lo - cell and quiver.X.max() <= x_hi + cell  # no arrow outside the frame
+    assert quiver.Y.min() >= -depth - cell
+    caption = " ".join(t.get_text() for t in fig.texts)
+    assert "faster than 5% of the footing" in " ".join(caption.split())
+
+
+def test_both_field_pictures_frame_the_plastic_zone_and_the_mechanism(slope_run):
+    from solver.pictures import moving_extent, plastic_extent
+
+    case, data, fields = slope_run
+    figures = draw_all(case, data, fields)
+    half = data["domain"]["half_domain_by_symmetry"]
+    zones = [plastic_extent(fields["lower"], half), moving_extent(fields["upper"], half)]
+    views = {name: (figures[name].axes[0].get_xlim(), figures[name].axes[0].get_ylim())
+             for name in ("mechanism", "stress")}
+    assert views["mechanism"] == views["stress"]  # one view: the pictures match
+    (x0, x1), (y0, _) = views["stress"]
+    domain = data["domain"]
+    for lo, hi, depth in zones:
+        assert x0 <= max(lo, domain["x_min_m"]) + 1e-9 and min(hi, domain["x_max_m"]) <= x1 + 1e-9
+        assert y0 <= -min(depth, domain["depth_m"]) + 1e-9
+
+
+@pytest.mark.parametrize("run", ["slope_run", "layered_run"])
+def test_the_contact_stresses_carry_the_lower_bound_load(run, request):
+    # the normal stress along the base integrates to the vertical collapse load of the lower
+    # bound, the shear stress to its horizontal component (a half domain mirrored)
+    from solver.pictures import contact_stresses
+
+    case, data, fields = request.getfixturevalue(run)
+    x, normal, shear = contact_stresses(fields["lower"], case.footing.width, data["domain"]["half_domain_by_symmetry"])
+    length = x[:, 1] - x[:, 0]
+    assert length.min() > 0 and length.sum() == pytest.approx(case.footing.width)
+    extra = data["lower"]["extra"]
+    assert (normal.mean(axis=1) * length).sum() == pytest.approx(extra["vertical_kN_per_m"], rel=2e-3)
+    assert (shear.mean(axis=1) * length).sum() == pytest.approx(extra["horizontal_kN_per_m"],
+                                                                abs=2e-3 * extra["vertical_kN_per_m"])
+    assert normal.min() >= -1e-6 * normal.max()  # the contact carries no tension
+    fig = draw_all(case, data, fields)["contact"]
+    texts = " ".join(t.get_text() for t, _ in drawn_texts(fig))
+    assert "normal stress" in texts and "shear stress" in texts and "(kPa)" in texts

@@ -23,11 +23,13 @@ title = "=HYPERLINK(\\"http://example.invalid\\") <script>document.title='PWNED'
 width = 1.5
 embedment = 0.5
 design_load = 180.0
+required_factor_of_safety_on_load = 2.0
+required_factor_of_safety_on_strength = 1.3
 [ground]
 surcharge = 2.0
 [[layers]]
 name = "<img src=x onerror=alert(1)> gravel"
-thickness = 1.5
+thickness = 2.0
 model = "mohr-coulomb"
 cohesion = 2.0
 friction_angle = 33.0
@@ -96,21 +98,24 @@ def test_run_writes_every_output_and_never_touches_the_case_file(hostile_run):
     folder, out, before, done = hostile_run
     names = {p.name for p in out.iterdir()}
     assert names == {"result.json", "case.toml", "fields.vtu", "summary.csv", "report.html",
-                     "model.png", "model.svg", "mechanism.png", "mechanism.svg", "stress.png", "stress.svg"}
+                     "model.png", "model.svg", "mechanism.png", "mechanism.svg", "stress.png", "stress.svg",
+                     "contact.png", "contact.svg"}
     assert (folder / "rail.toml").read_bytes() == before
     assert (out / "case.toml").read_bytes() == before  # a byte-for-byte copy
     assert not [p for p in out.iterdir() if p.name.startswith(".")]  # no temporary file left behind
-    assert "factor of safety" in done.stdout and "strength factor" in done.stdout
+    assert "factor of safety" in done.stdout and "on strength" in done.stdout and "VERDICT" in done.stdout
+    assert "load factor" not in done.stdout  # one word for one thing: the partial factor is "on the action"
 
 
 def test_factor_of_safety_in_result_json(hostile_run):
     _, out, _, _ = hostile_run
     fos = json.loads((out / "result.json").read_text())["factor_of_safety"]
     data = json.loads((out / "result.json").read_text())
-    assert fos["load"]["lower"] == pytest.approx(data["lower"]["load_kN_per_m"] / 180.0)
-    assert fos["load"]["upper"] == pytest.approx(data["upper"]["load_kN_per_m"] / 180.0)
-    strength = fos["strength"]
-    assert 1.0 < strength["lower"] <= strength["upper"] < fos["load"]["upper"]
+    assert fos["on_load"]["lower"] == pytest.approx(data["lower"]["load_kN_per_m"] / 180.0)
+    assert fos["on_load"]["upper"] == pytest.approx(data["upper"]["load_kN_per_m"] / 180.0)
+    strength = fos["on_strength"]
+    assert 1.0 < strength["lower"] <= strength["upper"] < fos["on_load"]["upper"]
+    assert fos["checks"][0]["check"] == "design load carried" and fos["checks"][0]["outcome"] == "met"
     assert isinstance(strength["solves"], int) and strength["solves"] >= 2
     partial = fos["partial_factors"]
     assert partial["action_kN_per_m"] == pytest.approx(180.0 * 1.35)
@@ -135,6 +140,7 @@ def test_report_escapes_case_text_and_loads_nothing(hostile_run):
     data = json.loads((out / "result.json").read_text())
     assert data["case"]["sha256"] in page and data["software"]["version"] in page
     assert "@media print" in page
+    assert "from memory" not in page  # a value only recalled is not in a filed report
 
 
 def test_report_flags_unconservative_hand_methods(hostile_run):
@@ -153,8 +159,15 @@ def test_summary_csv_is_one_row_and_never_a_formula(hostile_run):
     assert len(rows) == 1
     row = rows[0]
     data = json.loads((out / "result.json").read_text())
-    assert float(row["lower_kPa"]) == data["lower"]["pressure_kPa"]
-    assert float(row["strength_factor_upper"]) == data["factor_of_safety"]["strength"]["upper"]
+    assert float(row["lower_pressure_kPa"]) == data["lower"]["pressure_kPa"]
+    assert float(row["factor_of_safety_on_strength_upper"]) == data["factor_of_safety"]["on_strength"]["upper"]
+    # each column holds what its name says: the resultant along the load's line, and its vertical part
+    assert float(row["lower_resultant_load_kN_per_m"]) == data["lower"]["load_kN_per_m"]
+    assert float(row["lower_vertical_load_kN_per_m"]) == pytest.approx(data["lower"]["extra"]["vertical_kN_per_m"])
+    assert row["design_load_carried"] == "met"
+    assert float(row["required_factor_of_safety_on_load"]) == 2.0
+    assert row["required_factor_of_safety_on_load_met"] in ("met", "not met", "undecided")
+    assert row["required_factor_of_safety_on_strength_met"] in ("met", "not met", "undecided")
     assert row["title"].startswith("'=")  # quoted so that a spreadsheet shows it as text
 
 
@@ -193,6 +206,11 @@ def test_flags_skip_pictures_and_report_and_reruns_give_the_same_numbers(tmp_pat
     for side in ("lower", "upper"):
         assert a[side]["pressure_kPa"] == b[side]["pressure_kPa"]
     assert "factor_of_safety" not in a  # no design load, no factors
+    # a weightless soil is allowed (verification uses it) but unusual: warned, never blocking
+    assert any("layers[1].unit_weight = 0" in w for w in a["input_warnings"])
+    assert "WARNING: layers[1].unit_weight = 0" in first.stdout
+    page = (tmp_path / "b" / "report.html").read_text(encoding="utf-8")
+    assert "Check these inputs" in page and "layers[1].unit_weight = 0" in page
     assert (tmp_path / "a" / "fields.vtu").read_bytes() == (tmp_path / "b" / "fields.vtu").read_bytes()
 
 
@@ -298,7 +316,7 @@ def test_report_restates_slope_water_and_load_inputs_and_the_new_results(tmp_pat
                 f"pore pressure at the footing base</td><td>0.0{thin}kPa",
                 f"14.00{thin}degrees (Davis reduction)", f"18.00{thin}kN/m³; saturated 19.50{thin}kN/m³",
                 f"18.00{thin}kN/m³; saturated = unit weight", "<td>tresca</td>",
-                "cohesion</td><td>1.30 (divides c&prime;)", "load</td><td>1.35 (multiplies the design load)"):
+                "cohesion</td><td>1.30 (divides c&prime;)", "load</td><td>1.35 (the partial factor on the action: multiplies the design load)"):
         assert row in inputs, row
     # the results at collapse: V, H and M from each certified bound, and the pore pressure at the base
     bracket = page[page.index("The bracket"):page.index("Factor of safety")]
@@ -331,3 +349,25 @@ def test_fields_vtu_keeps_the_velocity_jumps(tmp_path):
     back = read_fields_vtu(path)["upper"]
     for name in ("jump_ends", "jump_dissipation", "velocity", "dissipation"):
         assert np.array_equal(back.arrays[name], live.arrays[name]), name
+
+
+def test_report_says_not_found_with_the_reason_and_prints_the_verdicts():
+    # the issue's case: the lower-bound search proved nothing beyond the main run's F = 1
+    from solver.report import _safety
+
+    case = parse_case({"footing": {"width": 1.5, "design_load": 200.0, "required_factor_of_safety_on_strength": 1.5},
+                       "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 60.0,
+                                   "unit_weight": 19.0}]})
+    reason = ("the lower bound was withheld at F = 2.142 (solver trouble or a failed certificate on this mesh, "
+              "not a property of the ground); no F but the main run's F = 1 was proven, so no value is given")
+    fos = {"design_load_kN_per_m": 200.0, "on_load": {"lower": 2.07, "upper": 2.13},
+           "on_strength": {"lower": None, "upper": 2.134, "search": {"lower": "not found", "upper": "found"},
+                           "reason": {"lower": reason, "upper": None}, "solves": 5, "tolerance": 0.01,
+                           "notes": [reason], "evaluations": {}},
+           "checks": [{"check": "design load carried", "outcome": "met", "verdict": "the design load 200.0 kN/m is carried"},
+                      {"check": "required factor of safety on strength", "required": 1.5, "outcome": "undecided",
+                       "verdict": "required factor of safety on strength 1.5: undecided by the bracket [none, 2.134]"}]}
+    page = _safety({"factor_of_safety": fos, "footing_width_m": 1.5}, case)
+    assert "<td class='n'>not found</td>" in page and "1.000" not in page
+    assert "withheld at F = 2.142" in page
+    assert page.count('class="verdict"') == 2 and "undecided by the bracket" in page

@@ -12,7 +12,7 @@ import solver.safety
 from solver.analysis import analyse
 from solver.case import parse_case
 from solver.model import Factors
-from solver.safety import (STRENGTH_TOLERANCE, design_strength_case, factor_of_safety, load_factor,
+from solver.safety import (STRENGTH_TOLERANCE, design_strength_case, factor_of_safety, factor_on_load,
                            reduce_strength, search_strength)
 
 PRANDTL_NC = 2 + math.pi  # Prandtl (1920): q_u = (2 + pi) su, weightless Tresca half-space, no surcharge
@@ -53,9 +53,9 @@ def test_reduce_strength_divides_c_su_gradient_and_tan_phi():
     assert d_clay.undrained_strength == pytest.approx(40.0 / 1.4)
 
 
-def test_load_factor_is_the_bracket_over_the_design_load_and_none_when_withheld():
-    assert load_factor(300.0, 330.0, 150.0) == {"lower": 2.0, "upper": 2.2}
-    assert load_factor(None, 330.0, 150.0) == {"lower": None, "upper": 2.2}
+def test_factor_on_load_is_the_bracket_over_the_design_load_and_none_when_withheld():
+    assert factor_on_load(300.0, 330.0, 150.0) == {"lower": 2.0, "upper": 2.2}
+    assert factor_on_load(None, 330.0, 150.0) == {"lower": None, "upper": 2.2}
 
 
 def test_search_proves_only_from_solved_values(monkeypatch):
@@ -82,15 +82,42 @@ def test_search_proves_only_from_solved_values(monkeypatch):
         assert found["solves"] <= 8
 
 
-def test_withheld_bound_stops_the_search_and_is_not_used(monkeypatch):
+def test_withheld_bound_is_not_used_and_the_search_goes_on_below_it(monkeypatch):
+    # The issue's case: the lower bound at F = 2.142 ended infeasible and the search stopped,
+    # leaving the main run's F = 1 as "the" lower value. Now the search bisects below a
+    # withheld F. Fake lower bound 529 / F^2 (root 2.3 at 100 kN/m), withheld from F = 2.142 on.
     monkeypatch.setattr(solver.safety, "reduce_strength", lambda case, F: F)
-    answers = iter([bound(120.0), bound(None, "withheld: certificate failed: flow_rule = 1e-3")])
-    found = search_strength("lower", None, 100.0, 300.0, lambda F, kind: next(answers))
-    # F = 3 (the load factor) gave 120 >= 100: proven; the next trial was withheld
-    assert found["value"] == pytest.approx(3.0)
-    assert found["solves"] == 2
-    assert any("withheld" in note and "not used" in note for note in found["notes"])
-    assert [e["load_kN_per_m"] for e in found["evaluations"]][-1] is None
+
+    def solve(F, kind):
+        return bound(None, "withheld: infeasible") if F >= 2.142 else bound(529.0 / F ** 2)
+
+    found = search_strength("lower", None, 100.0, 529.0, solve)
+    assert found["value"] > 2.0  # proven by a certified solve, not the main run's F = 1
+    solved = {e["F"]: e["load_kN_per_m"] for e in found["evaluations"]}
+    assert solved[found["value"]] >= 100.0
+    assert found["search"] == "incomplete" and "withheld" in found["reason"]
+    assert all(e["load_kN_per_m"] is None for e in found["evaluations"] if e["F"] >= 2.142)
+    assert sum(e["load_kN_per_m"] is None for e in found["evaluations"]) <= solver.safety.MAX_WITHHELD
+
+
+def test_a_search_that_proves_nothing_beyond_F_1_gives_no_value_and_says_why(monkeypatch):
+    monkeypatch.setattr(solver.safety, "reduce_strength", lambda case, F: F)
+    found = search_strength("lower", None, 100.0, 300.0, lambda F, kind: bound(None, "withheld: infeasible"))
+    assert found["value"] is None and found["search"] == "not found"
+    assert "withheld" in found["reason"] and "F = 1" in found["reason"]
+    assert found["solves"] == solver.safety.MAX_WITHHELD
+
+
+def test_withheld_inside_a_closed_bracket_keeps_improving_the_upper_value(monkeypatch):
+    # fake upper bound 300 / F^2: root sqrt(3); withheld in a band just above the root
+    monkeypatch.setattr(solver.safety, "reduce_strength", lambda case, F: F)
+
+    def solve(F, kind):
+        return bound(None, "withheld") if 1.75 < F < 1.9 else bound(300.0 / F ** 2)
+
+    found = search_strength("upper", None, 100.0, 300.0, solve)
+    assert found["value"] is not None and found["value"] >= math.sqrt(3.0)
+    assert 300.0 / found["value"] ** 2 <= 100.0
 
 
 def test_withheld_bound_at_F_1_gives_nothing():
@@ -103,15 +130,16 @@ def test_strength_factor_brackets_prandtl_on_weightless_clay():
     result = analyse(case)
     fos = factor_of_safety(case, result)
     exact = PRANDTL_NC * 30.0 * 2.0 / 150.0  # q(F) = (2 + pi) su / F exactly, so F = (2 + pi) su B / P
-    strength = fos["strength"]
+    strength = fos["on_strength"]
     assert strength["lower"] <= exact <= strength["upper"]
-    # weightless Tresca ground: LB(F) = LB(1) / F on one mesh, so F is the load factor to the tolerance
-    assert strength["lower"] == pytest.approx(fos["load"]["lower"], rel=STRENGTH_TOLERANCE)
+    # weightless Tresca ground: LB(F) = LB(1) / F on one mesh, so F is the factor on load to the tolerance
+    assert strength["lower"] == pytest.approx(fos["on_load"]["lower"], rel=STRENGTH_TOLERANCE)
     # the search stops when its bracket of the root is within the tolerance: F_upper <= (1 + tol) root
-    assert fos["load"]["upper"] * (1 - 1e-9) <= strength["upper"] <= fos["load"]["upper"] * (1 + STRENGTH_TOLERANCE) * (1 + 1e-9)
-    assert fos["load"]["lower"] == pytest.approx(result.lower.load_kN_per_m / 150.0)
+    assert fos["on_load"]["upper"] * (1 - 1e-9) <= strength["upper"] <= fos["on_load"]["upper"] * (1 + STRENGTH_TOLERANCE) * (1 + 1e-9)
+    assert fos["on_load"]["lower"] == pytest.approx(result.lower.load_kN_per_m / 150.0)
     assert 0 < strength["solves"] <= 6
     assert not strength["notes"]
+    assert strength["search"] == {"lower": "found", "upper": "found"}
 
 
 def reissner_pressure(c, phi_deg):
@@ -134,8 +162,8 @@ def test_strength_factor_brackets_the_exact_factor_on_weightless_c_phi_soil():
 
     exact = brentq(lambda F: pressure_at(F) * B - design, 1.0, 10.0)
     fos = factor_of_safety(case, analyse(case))
-    assert fos["strength"]["lower"] <= exact <= fos["strength"]["upper"]
-    assert fos["strength"]["upper"] / fos["strength"]["lower"] < 1.25  # a useful bracket on a coarse mesh
+    assert fos["on_strength"]["lower"] <= exact <= fos["on_strength"]["upper"]
+    assert fos["on_strength"]["upper"] / fos["on_strength"]["lower"] < 1.25  # a useful bracket on a coarse mesh
 
 
 def test_partial_factors_check_covered_not_covered_and_undecided():
@@ -170,9 +198,51 @@ def test_the_two_strength_searches_at_once_equal_them_in_turn():
     gmsh lock) give exactly the serial values, solve by solve."""
     case = clay_case()
     result = analyse(case)
-    serial = factor_of_safety(case, result, parallel=False)["strength"]
-    together = factor_of_safety(case, result, parallel=True)["strength"]
+    serial = factor_of_safety(case, result, parallel=False)["on_strength"]
+    together = factor_of_safety(case, result, parallel=True)["on_strength"]
     for kind in ("lower", "upper"):
         assert together[kind] == serial[kind]
         assert together["evaluations"][kind] == serial["evaluations"][kind]
     assert together["solves"] == serial["solves"]
+
+
+def footing_with(design_load, on_load=None, on_strength=None):
+    return SimpleNamespace(footing=SimpleNamespace(design_load=design_load,
+                                                   required_factor_of_safety_on_load=on_load,
+                                                   required_factor_of_safety_on_strength=on_strength))
+
+
+def test_design_load_against_the_collapse_bracket_gets_a_plain_verdict():
+    from solver.safety import safety_checks
+
+    # the crane-rail case of the issue: 120 kN/m on a footing that collapses at 27 kN/m
+    above = safety_checks(footing_with(120.0), 26.8, 27.1, {"lower": 0.223, "upper": 0.226}, {})[0]
+    assert above["outcome"] == "not met" and "ABOVE the collapse load" in above["verdict"]
+    carried = safety_checks(footing_with(100.0), 200.0, 210.0, {"lower": 2.0, "upper": 2.1}, {})[0]
+    assert carried["outcome"] == "met" and "is carried" in carried["verdict"]
+    inside = safety_checks(footing_with(205.0), 200.0, 210.0, {}, {})[0]
+    assert inside["outcome"] == "undecided" and "inside the collapse bracket" in inside["verdict"]
+    withheld = safety_checks(footing_with(100.0), None, 210.0, {}, {})[0]
+    assert withheld["outcome"] == "undecided"
+
+
+@pytest.mark.parametrize("required, load, strength, outcomes", [
+    ((2.0, 1.5), (2.1, 2.3), (1.6, 1.7), ["met", "met"]),
+    ((3.0, 1.8), (2.1, 2.3), (1.6, 1.7), ["not met", "not met"]),
+    ((2.2, 1.65), (2.1, 2.3), (1.6, 1.7), ["undecided", "undecided"]),
+    ((2.0, 1.5), (2.1, 2.3), (None, 1.7), ["met", "undecided"]),
+])
+def test_required_factors_of_safety_are_met_not_met_or_undecided_by_the_bracket(required, load, strength,
+                                                                               outcomes):
+    from solver.safety import safety_checks
+
+    on_strength = {"lower": strength[0], "upper": strength[1],
+                   "reason": {"lower": "the lower bound was withheld at F = 1.9" if strength[0] is None else None}}
+    checks = safety_checks(footing_with(100.0, *required), 100.0 * load[0], 100.0 * load[1],
+                           {"lower": load[0], "upper": load[1]}, on_strength)
+    assert [c["check"] for c in checks] == ["design load carried", "required factor of safety on load",
+                                           "required factor of safety on strength"]
+    assert [c["outcome"] for c in checks[1:]] == outcomes
+    assert [c["required"] for c in checks[1:]] == list(required)
+    if strength[0] is None:
+        assert "withheld" in checks[2]["verdict"]  # the reason, not a bare "undecided"

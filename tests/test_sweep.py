@@ -252,6 +252,24 @@ def test_more_keys_than_two_give_one_chart_per_combination(tmp_path):
     assert sorted(f.name for f in files) == [f"chart-{i}.png" for i in (1, 2, 3)]
 
 
+def test_chart_bands_differ_without_colour():
+    # Grey print: each band has its own marker and hatch, not only its own colour.
+    from matplotlib.collections import PolyCollection
+
+    sweep = sweep_of({"layers.0.thickness": [0.25, 0.5, 1.0], "footing.width": [1.0, 2.0, 3.0]})
+    # Invented numbers: this checks the drawing only, not any result.
+    records = [{"values": p.values, "case": p.case_dict, "lower_kPa": 100.0 + p.index,
+                "upper_kPa": 110.0 + p.index} for p in sweep.points]
+    figure = solver.sweep.chart_figure(sweep, records, sweep.parameter)
+    axes = figure.axes[0]
+    markers = {line.get_marker() for line in axes.lines if len(line.get_xdata())}
+    hatches = {c.get_hatch() for c in axes.collections if isinstance(c, PolyCollection)}
+    assert len(markers) == 3 and len(hatches - {None}) >= 2
+    legend = axes.get_legend()
+    assert [t.get_text() for t in legend.get_texts()][:3] == ["footing width = 1 m", "footing width = 2 m",
+                                                              "footing width = 3 m"]
+
+
 def test_a_point_over_the_time_limit_is_stopped_and_the_sweep_goes_on(tmp_path):
     """One point (400k triangles) would take far longer than the whole test's timeout; with
     point_time_limit_s = 4 it is stopped, recorded as failed, and the next point (a fresh
