@@ -380,9 +380,11 @@ def _terzaghi_circle_value(case: Case, raw: dict, where: str) -> float:
         _fail(where, "case.footing.shape: 'terzaghi_circle' needs shape = 'circular'")
     from solver.hand import hand_methods
 
-    row = next(h for h in hand_methods(case) if h.method == "Terzaghi (1943), general shear, circle")
-    if row.pressure_kPa is None:
-        _fail(where, f"case: 'terzaghi_circle' does not apply here ({row.note})")
+    rows = [h for h in hand_methods(case) if h.method.startswith("Terzaghi (1943), general shear")]
+    if not rows or rows[0].pressure_kPa is None:
+        _fail(where, "case: 'terzaghi_circle' gives no value here"
+              + (f" ({rows[0].note})" if rows and rows[0].note else ""))
+    row = rows[0]
     return row.pressure_kPa
 
 
