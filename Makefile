@@ -38,9 +38,10 @@ $(MKL_STAMP): $(STAMP)
 test: setup  ## run the test suite (3 to 5 minutes on 2 cores)
 	@$(PY) -m pytest -q
 
-demo: setup  ## solve examples/pump-house.toml and examples/embankment-crest.toml (adaptive, up to 60 s each)
+demo: setup  ## solve the demo cases in examples/ (adaptive, up to 60 s each)
 	@$(VENV)/bin/bearbound run examples/pump-house.toml
 	@$(VENV)/bin/bearbound run examples/embankment-crest.toml
+	@$(VENV)/bin/bearbound run examples/water-tank.toml
 
 verify: setup  ## run every verification case against its published value (finer meshes)
 	@$(VENV)/bin/bearbound verify

@@ -11,6 +11,9 @@ Cases (invented soils; references for the error columns, where there is one):
   eccentric  Tresca su = 40 kPa, gamma = 18, load at e = B/8 from the centre, B = 2 m
   slope      Tresca su = 40 kPa, gamma = 18, 26.6 deg slope 4 m high, setback 1 m, B = 2 m
   clays      Tresca su = 40 kPa over su = 20 kPa at 0.5 B (earlier benchmark, kept)
+  circle     as prandtl under a rough circular footing, B = diameter (6.05, Eason & Shield
+             1960; value from memory)
+  circle_ngamma  as ngamma30 under a rough circular footing (no reference at hand)
 
 The goal table (the default): each case as `bearbound run` solves it by default,
 starting at 4000 triangles per bound, target gap 1 %, time limit 60 s, each in a
@@ -34,6 +37,7 @@ import math
 import resource
 import subprocess
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -41,6 +45,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 GOAL_CASES = ["prandtl", "ngamma30", "ngamma35", "sandclay", "crust", "eccentric", "slope"]
+UNIFORM_CASES = ["prandtl", "circle", "ngamma30", "circle_ngamma", "clays", "slope"]  # circles beside strips
 
 
 def make_case(name: str, analysis: dict):
@@ -62,6 +67,10 @@ def make_case(name: str, analysis: dict):
         "clays": ({"width": 2.0}, {}, [{**clay(40.0, 18.0), "name": "stiff", "thickness": 1.0},
                                        {**clay(20.0, 17.0), "name": "soft"}], None),
     }
+    if name in ("circle", "circle_ngamma"):
+        strip, _ = make_case("prandtl" if name == "circle" else "ngamma30", analysis)
+        circle = replace(strip, title=f"{name}", footing=replace(strip.footing, shape="circular"))
+        return circle, (6.05 if name == "circle" else None)
     footing, ground, layers, reference = cases[name]
     return parse_case({"title": name, "footing": footing, "ground": ground, "layers": layers,
                        "analysis": analysis}), reference
@@ -131,7 +140,7 @@ def uniform_table(names: list[str], sizes: list[int], serial: bool) -> None:
 
 def main() -> None:
     parser = argparse.ArgumentParser()
-    parser.add_argument("--cases", nargs="*", default=None, help=f"default {' '.join(GOAL_CASES)}")
+    parser.add_argument("--cases", nargs="*", default=None, help=f"default {' '.join(GOAL_CASES)}; --uniform: {' '.join(UNIFORM_CASES)}")
     parser.add_argument("--uniform", action="store_true", help="fixed meshes at --sizes instead of the goal table")
     parser.add_argument("--sizes", type=int, nargs="*", default=[2500, 5000, 10000])
     parser.add_argument("--time-limit", type=float, default=60.0, help="s, the default run's time limit")
@@ -142,7 +151,7 @@ def main() -> None:
     if args.one:
         print(json.dumps(one(args.one[0], json.loads(args.one[1]), args.serial)))
         return
-    names = args.cases or GOAL_CASES
+    names = args.cases or (UNIFORM_CASES if args.uniform else GOAL_CASES)
     if args.uniform:
         uniform_table(names, args.sizes, args.serial)
     else:

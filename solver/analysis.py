@@ -13,20 +13,37 @@ import time
 import numpy as np
 
 from .certify import certify_lower, certify_upper, lower_stress_field, restore_velocities, upper_velocity_field
+from .certify_axisym import (certify_lower_axisym, certify_upper_axisym, lower_stress_field_axisym,
+                             upper_velocity_field_axisym)
 from .conic import solve, stronger_settings
+from .ground import material_arrays, node_cohesion
 from .hand import hand_methods, information_only, where_it_falls
 from .lower import lower_bound_program
-from .ground import material_arrays, node_cohesion
+from .lower_axisym import lower_bound_program_axisym
 from .mesh import Mesh, build_mesh, far_edge_names, grow_domain, open_velocity_jumps, plan_domain
 from .model import Case, davis_reduction
 from .plausible import input_warnings
 from .result import MOVING_SPEED_FRACTION, BoundResult, Result, caveats
 from .upper import upper_bound_program
+from .upper_axisym import upper_bound_program_axisym
 
 LOWER_METHOD = ("linear stress triangles with stress discontinuities on every edge (Sloan 1988); "
                 "semi-infinite extension elements beyond the far boundary (after Pastor 1978; Sloan 1988)")
 UPPER_METHOD = ("6-node triangles, quadratic continuous velocity, flow rule as cones at the corners "
                 "(Makrodimopoulos & Martin 2006, 2007); far boundary fixed")
+LOWER_METHOD_AXISYM = ("axisymmetric: weighted stresses r sigma quadratic in each triangle, in exact pointwise "
+                       "equilibrium with the hoop stress, discontinuities on every edge, Mohr-Coulomb over all "
+                       "three principal pairs at Bernstein control points; a far field admissible to infinity")
+UPPER_METHOD_AXISYM = ("axisymmetric: 6-node triangles, weighted velocities (r u_r, r u_z) quadratic and continuous, "
+                       "3D flow rule at the Bernstein coefficients of r^2 times the strain rate, dissipation exact "
+                       "(phi > 0) or bounded from above (Tresca); far boundary fixed")
+# (program, certificate, fields) of each bound, by footing shape
+STAGES = {("strip", "lower"): (lower_bound_program, certify_lower, lower_stress_field, LOWER_METHOD),
+          ("strip", "upper"): (upper_bound_program, certify_upper, upper_velocity_field, UPPER_METHOD),
+          ("circular", "lower"): (lower_bound_program_axisym, certify_lower_axisym, lower_stress_field_axisym,
+                                  LOWER_METHOD_AXISYM),
+          ("circular", "upper"): (upper_bound_program_axisym, certify_upper_axisym, upper_velocity_field_axisym,
+                                  UPPER_METHOD_AXISYM)}
 UPPER_JUMPS = ("; except that the velocity may jump across every interior edge (after Sloan & Kleeman 1995), "
                "flow rule and dissipation of each jump bounded through its Bernstein coefficients")
 SLOPE_UNSTABLE = ("the slope is not stable under its own weight: a certified mechanism of the ground alone "
@@ -103,8 +120,8 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
                          "rigorous but may be " + ("low" if bound.kind == "lower" else "high"))
     used = [b.mesh.domain for b in (lower, upper) if b is not None and b.mesh is not None] or [domain]
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
-                    footing_width_m=case.footing.width, lower=lower, upper=upper, timing=timing,
-                    domain=domain_record(domain, used),
+                    footing_width_m=case.footing.width, footing_shape=case.footing.shape,
+                    lower=lower, upper=upper, timing=timing, domain=domain_record(domain, used),
                     pore_pressure_at_base_kPa=case.pore_pressure_at_base_kPa(),
                     backend=backend, notes=notes, input_warnings=input_warnings(case))
     result.adapt_history = history
@@ -267,7 +284,7 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
             if kind == "upper" and uses_velocity_jumps(case):
                 mesh = open_velocity_jumps(mesh)
             t1 = time.perf_counter()
-            program = (lower_bound_program if kind == "lower" else upper_bound_program)(case, mesh)
+            program = STAGES[case.footing.shape, kind][0](case, mesh)
             t2 = time.perf_counter()
             job = Job(solve, program, backend, settings=settings)
             job.start() if parallel and len(requests) > 1 else job.run()
@@ -286,7 +303,7 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
             # without them.
             t0 = time.perf_counter()
             mesh = build_mesh(case, order=1, elements=elements, domain=domain, size_hint=size_hint, fan=False)
-            program = lower_bound_program(case, mesh)
+            program = STAGES[case.footing.shape, kind][0](case, mesh)
             timing["mesh_s"] += time.perf_counter() - t0
             again = solve(program, backend, settings=settings)
             timing["solve_s"] += again.solve_s
@@ -310,8 +327,10 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
 
 
 def _certify(case: Case, kind: str, mesh: Mesh, program, solution):
-    """The solution (the upper bound's velocities restored: certify.restore_velocities) and
-    its certificate."""
+    """The solution (a strip's upper-bound velocities restored: certify.restore_velocities)
+    and its certificate."""
+    if case.footing.shape != "strip":
+        return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
     if kind == "lower":
         return solution, certify_lower(case, mesh, program, solution)
     solution = restore_velocities(case, mesh, program, solution)
@@ -325,6 +344,7 @@ def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timin
     trouble) is solved once more with stronger settings (conic.stronger_settings), and that
     solve is certified instead."""
     t3 = time.perf_counter()
+    strip = case.footing.shape == "strip"
     solution, certificate = _certify(case, kind, mesh, program, solution)
     stronger = stronger_settings(program)
     again_s = 0.0
@@ -337,11 +357,13 @@ def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timin
         solution, certificate = _certify(case, kind, mesh, program, again)
         solution = dataclasses.replace(solution, iterations=iterations)
         certificate["solved_again_after"] = first
-    if kind == "upper" and solution.ray is not None:  # "unbounded": is the solver's mechanism real?
+    if kind == "upper" and solution.ray is not None and strip:  # "unbounded": is the solver's mechanism real?
         certificate = certify_upper(case, mesh, program, dataclasses.replace(solution, x=solution.ray), ray=True)
     timing["solve_s"] += again_s
     timing["certify_s"] = time.perf_counter() - t3 - again_s
-    load = certificate.get("load_kN_per_m") if certificate["passed"] and solution.x is not None else None
+    load = (certificate.get("load_kN_per_m" if strip else "load_kN")
+            if certificate["passed"] and solution.x is not None else None)
+    _, _, field_of, method = STAGES[case.footing.shape, kind]
     status = solution.status if certificate["passed"] else f"withheld: {certificate.get('reason', solution.status)}"
     if solution.ray is not None:  # no bound either way; the certificate says whether the mechanism is real
         proven = certificate["passed"]
@@ -357,25 +379,27 @@ def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timin
                               "load is zero or negative")
     extra, fields = {}, {}
     if solution.x is not None:
+        fields = field_of(case, mesh, program, solution.x)
         if kind == "upper":
-            fields = upper_velocity_field(case, mesh, program, solution.x)
             extra = _mechanism_extent(mesh, fields["velocity"])
         else:
-            fields = lower_stress_field(case, mesh, program, solution.x)
             extra = _yield_at_far_boundary(case, mesh, program, solution.x, fields)
     extra.update({"domain_width_m": mesh.domain.x_max - mesh.domain.x_min, "domain_depth_m": mesh.domain.depth,
                   "linear_solver": solution.linear_solver})
     delta = math.radians(case.footing.load_inclination)
-    if load is not None:
+    if load is not None and strip:
         extra.update({"vertical_kN_per_m": load * math.cos(delta), "horizontal_kN_per_m": load * math.sin(delta),
                       "moment_kNm_per_m": load * math.cos(delta) * case.footing.eccentricity})
+    elif load is not None:
+        extra["vertical_kN"] = load
     return BoundResult(
-        kind=kind, pressure_kPa=None if load is None else load * math.cos(delta) / case.footing.width,
-        load_kN_per_m=load, status=status, certificate=certificate, elements=mesh.n_elements,
+        kind=kind, pressure_kPa=None if load is None else load * math.cos(delta) / case.footing.bearing_area,
+        load_kN_per_m=load if strip else None, load_kN=None if strip else load, status=status,
+        certificate=certificate, elements=mesh.n_elements,
         variables=program.n_variables, equalities=program.n_zero, cones=program.n_soc,
         iterations=solution.iterations,
         timing=timing,
-        method=LOWER_METHOD if kind == "lower" else UPPER_METHOD + (UPPER_JUMPS if mesh.jumps is not None else ""),
+        method=method + (UPPER_JUMPS if mesh.jumps is not None else ""),
         extra=extra, mesh=mesh, fields=fields)
 
 
@@ -427,8 +451,9 @@ def _yield_at_far_boundary(case: Case, mesh: Mesh, program, x: np.ndarray, field
     there the model's extent, not the soil, limits the load the field can carry."""
     names = far_edge_names(mesh)
     far = names != ""
-    floor = EDGE_RADIUS * np.median(fields["radius_kPa"])
-    at_yield = (fields["utilisation"] >= EDGE_YIELD) & (fields["radius_kPa"] > floor)
+    radius = fields.get("radius_kPa")  # a circle's field gives the utilisation only
+    floor = EDGE_RADIUS * np.median(radius) if radius is not None else 0.0
+    at_yield = (fields["utilisation"] >= EDGE_YIELD) & ((radius > floor) if radius is not None else True)
     hits = at_yield[mesh.boundary_element[far]].any(axis=1)  # per far edge: its triangle or its strip
     strips = program.layout.get("strips", {}).get("strip")
     if strips is not None and len(strips) == far.sum():  # one strip per far edge, in boundary order

@@ -168,6 +168,7 @@ FOOTING_KEYS = {
     "load_inclination": Key(float, "degrees from vertical", gt=-90, lt=90, default=0.0),
     "eccentricity": Key(float, "m", default=0.0),
     "design_load": Key(float, "kN/m", gt=0, le=1e6, default=None, above="; no strip footing carries that" + _UNITS),
+    "shape": Key(str, choices=("strip", "circular"), default="strip"),  # circular: width = diameter
     # the factors of safety the design must reach (optional; checked against design_load)
     "required_factor_of_safety_on_load": Key(float, "collapse load / design load", ge=1, le=10, default=None),
     "required_factor_of_safety_on_strength": Key(float, "strength-reduction factor", ge=1, le=10, default=None),
@@ -269,6 +270,26 @@ NOT_WITH_GEOMETRY = (
     ("ground.slope_height", None, "left out with a [geometry] file: draw the slope instead"),
     ("analysis.model_width", None, "left out with a [geometry] file: the drawing gives the model's extent"),
     ("analysis.model_depth", None, "left out with a [geometry] file: the drawing gives the model's extent"),
+    ("footing.shape", "strip", "'strip' with a [geometry] file: this version analyses a drawn site "
+                               "as a strip footing only"),
+)
+# Keys a circular (axisymmetric) footing does not take in this version: (key path, value when
+# not given, what is allowed and why). A slope, an inclined or an eccentric load is not axisymmetric.
+NOT_WITH_CIRCLE = (
+    ("footing.load_inclination", 0.0, "0 (degrees) with shape = 'circular': this version analyses a "
+                                      "circular footing under a central vertical load only"),
+    ("footing.eccentricity", 0.0, "0 (m) with shape = 'circular': this version analyses a circular "
+                                  "footing under a central vertical load only"),
+    ("ground.slope_angle", 0.0, "0 (degrees) with shape = 'circular': a slope beside a circle is not "
+                                "axisymmetric"),
+    ("footing.design_load", None, "left out with shape = 'circular': this version gives factors of "
+                                  "safety for strip footings only"),
+    ("footing.required_factor_of_safety_on_load", None, "left out with shape = 'circular': this version "
+                                                         "gives factors of safety for strip footings only"),
+    ("footing.required_factor_of_safety_on_strength", None, "left out with shape = 'circular': this version "
+                                                             "gives factors of safety for strip footings only"),
+    ("analysis.velocity_jumps", "none", "'none' with shape = 'circular': velocity jumps are built for "
+                                        "strip footings only"),
 )
 
 
@@ -469,10 +490,12 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
                            f"< {total:g} (m), the total thickness of the layers, so that the "
                            "footing base sits in soil (or leave out the last layer's thickness)")
     _check_consistency(parts["footing"], parts["ground"], layers)
+    _check_circle(parts)
     case = Case(title=shown(name, 200) if title is None else title, layers=layers, name=name,
                 source_sha256=source_sha256, **parts)
     _check_strata(case)
     _check_model_extent(case)
+    _check_circle_depths(case)
     return case
 
 
@@ -521,6 +544,44 @@ def _read_geometry(raw: Any, base_dir: str | pathlib.Path | None, parts: dict, l
     from .sitefile import read_site  # imports gmsh
 
     return read_site(path, layers, parts["footing"].width, where="geometry.file")
+
+
+def _check_circle(parts: dict) -> None:
+    """Refuse what a circular footing does not take in this version (NOT_WITH_CIRCLE)."""
+    if parts["footing"].shape != "circular":
+        return
+    for key, unset, why in NOT_WITH_CIRCLE:
+        table, field_name = key.split(".")
+        value = getattr(parts[table], field_name)
+        if value != unset:
+            raise _not_allowed(key, value, why)
+    if parts["factors"] is not None:
+        raise CaseError("factors: not allowed with shape = 'circular'; leave [factors] out: this "
+                        "version gives factors of safety for strip footings only")
+
+
+CIRCLE_DEEPEST_INTERFACE = 50  # footing widths below the base: deepest interface a circle's model holds
+
+
+def _check_circle_depths(case: Case) -> None:
+    """A circular footing's model holds every interface between strata that differ (the far
+    field below its mesh carries the last meshed stratum only, solver.lower_axisym): one
+    deeper than CIRCLE_DEEPEST_INTERFACE footing widths would make a model thousands of
+    widths deep, and the model_depth a user gives must hold them all."""
+    if case.footing.shape != "circular" or not case.required_interfaces():
+        return
+    deepest, B = case.required_interfaces()[-1], case.footing.width
+    water = case.water_depth_below_base()
+    key, value = (("ground.water_table", case.ground.water_table) if deepest == water
+                  else ("layers", f"an interface {deepest + case.footing.embedment:g} m deep"))
+    if deepest > CIRCLE_DEEPEST_INTERFACE * B:
+        raise _not_allowed(key, value, f"within {CIRCLE_DEEPEST_INTERFACE} B ({CIRCLE_DEEPEST_INTERFACE * B:g} m) "
+                           "below the base with shape = 'circular': this version meshes every interface under a "
+                           "circle, and no mechanism of the footing reaches that deep; leave it out")
+    depth = case.analysis.model_depth
+    if depth is not None and depth <= deepest:
+        raise _not_allowed("analysis.model_depth", depth, f"> {deepest:g} (m below the footing base) with "
+                           "shape = 'circular': the model must hold every interface under a circle in this version")
 
 
 def _check_strata(case: Case) -> None:

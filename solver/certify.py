@@ -86,14 +86,16 @@ def stress_scale(case: Case, pressure_kPa: float, field_kPa: float = 0.0) -> flo
     return scale if scale > 0.0 else (field_kPa if field_kPa > 0.0 else 1.0)
 
 
-def solver_slack(program: ConicProgram, x: np.ndarray, homogeneous: bool = False) -> float:
+def solver_slack(program: ConicProgram, x: np.ndarray, homogeneous: bool = False,
+                 feasibility: float = FEASIBILITY) -> float:
     """The largest residual of one row of the program that the solver's own stopping test
     lets through at ``x`` (times FLOW_FACTOR, for the flow rule's breach): its feasibility
     tolerance relative to max(1, ||b|| + ||x|| + ||s||), 2-norms (solver.conic.FEASIBILITY).
-    ``homogeneous``: x is a ray, judged against b = 0."""
+    ``homogeneous``: x is a ray, judged against b = 0; ``feasibility``: the tolerance the
+    program was solved to, when not the default."""
     b = 0.0 * program.b if homogeneous else program.b
     s = b - program.A @ x
-    return float(FLOW_FACTOR * FEASIBILITY * max(1.0, np.linalg.norm(b) + np.linalg.norm(x) + np.linalg.norm(s)))
+    return float(FLOW_FACTOR * feasibility * max(1.0, np.linalg.norm(b) + np.linalg.norm(x) + np.linalg.norm(s)))
 
 
 def certify_lower(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution) -> dict:

@@ -356,7 +356,7 @@ def _interrupt_after_writing() -> Iterator[list[int]]:
 def format_summary(result, written: list[Path] | None = None) -> str:
     """The bracket, what limits trust in it, each bound's standing, the whole wall time, the
     factors of safety, the hand methods beside it and every file written."""
-    B = result.footing_width_m
+    area = result.bearing_area
     lines = [f"{result.title}"] + [f"  WARNING: {w}" for w in getattr(result, "input_warnings", [])]
     lines.append("  collapse pressure under the footing, kPa (compression positive)")
     for bound in (result.lower, result.upper):
@@ -371,7 +371,7 @@ def format_summary(result, written: list[Path] | None = None) -> str:
     up = result.upper.pressure_kPa if result.upper else None
     if lo is not None and up is not None:
         lines.append(f"    bracket     [{lo:.2f}, {up:.2f}] kPa, gap {result.gap_percent:.2f} %; "
-                     f"vertical collapse load [{lo * B:.1f}, {up * B:.1f}] kN/m")
+                     f"vertical collapse load [{lo * area:.1f}, {up * area:.1f}] {result.load_unit}")
         extra_lo, extra_up = result.lower.extra, result.upper.extra
         if extra_lo.get("horizontal_kN_per_m") or extra_lo.get("moment_kNm_per_m"):
             lines.append(f"    at collapse  H [{extra_lo['horizontal_kN_per_m']:.1f}, {extra_up['horizontal_kN_per_m']:.1f}] kN/m, "
@@ -391,7 +391,8 @@ def format_summary(result, written: list[Path] | None = None) -> str:
     for note in result.notes:
         lines.append(f"  NOTE: {note}")
     if result.hand_methods:
-        lines.append("  hand methods, kPa (vertical component / B)")
+        lines.append("  hand methods, kPa (vertical component / "
+                     + ("B)" if result.footing_shape == "strip" else "footing area)"))
         lines += _hand_lines(result.hand_methods)
     if getattr(result, "hand_methods_as_given", None):
         lines.append(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")
@@ -437,7 +438,8 @@ def _hand(args) -> int:
                  "where": "; ".join(f"{k} {v + 0.0:.3g}" for k, v in h.factors.items())} for h in estimates]
 
     print("\n".join([case.title] + [f"  WARNING: {w}" for w in input_warnings(case)]))
-    print("  hand methods, kPa (vertical component / B)")
+    print("  hand methods, kPa (vertical component / "
+          + ("B)" if case.footing.shape == "strip" else "footing area)"))
     print("\n".join(_hand_lines(rows(hand_methods(case)))))
     if information_only(case):
         print(f"  hand methods on c', phi' as given, kPa: {AS_GIVEN}")

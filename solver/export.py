@@ -69,9 +69,11 @@ def bound_fields(bound) -> BoundFields | None:
         return None
     mesh = bound.mesh
     if bound.kind == "lower":
-        return BoundFields("lower", mesh.points, mesh.triangles, mesh.layer,
-                           {"stress_kPa": -np.asarray(bound.fields["stress"]),
-                            "utilisation": np.asarray(bound.fields["utilisation"])})
+        arrays = {"stress_kPa": -np.asarray(bound.fields["stress"]),
+                  "utilisation": np.asarray(bound.fields["utilisation"])}
+        if "hoop_kPa" in bound.fields:  # a circular footing's hoop stress
+            arrays["hoop_kPa"] = -np.asarray(bound.fields["hoop_kPa"])
+        return BoundFields("lower", mesh.points, mesh.triangles, mesh.layer, arrays)
     arrays = {"velocity": np.asarray(bound.fields["velocity"]),
               "dissipation": np.asarray(bound.fields["dissipation_density"])}
     if "jump_dissipation" in bound.fields:
@@ -188,7 +190,7 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
     offset = 0
     point_data = {name: [] for name in ("lb_sigma_x_kPa", "lb_sigma_y_kPa", "lb_tau_xy_kPa",
                                         "lb_sigma_1_kPa", "lb_sigma_3_kPa", "lb_utilisation",
-                                        "ub_velocity", "ub_speed")}
+                                        "lb_sigma_theta_kPa", "ub_velocity", "ub_speed")}
     cell_data = {name: [] for name in ("bound", "layer", "lb_utilisation_max", "ub_dissipation_kN_per_m3",
                                        "ub_jump_dissipation_kN_per_m")}
     if lower is not None:
@@ -201,6 +203,8 @@ def fields_mesh(lower: BoundFields | None, upper: BoundFields | None):
         values = {"lb_sigma_x_kPa": stress[:, 0], "lb_sigma_y_kPa": stress[:, 1], "lb_tau_xy_kPa": stress[:, 2],
                   "lb_sigma_1_kPa": s1, "lb_sigma_3_kPa": s3,
                   "lb_utilisation": lower.arrays["utilisation"].reshape(-1),
+                  "lb_sigma_theta_kPa": lower.arrays["hoop_kPa"].reshape(-1) if "hoop_kPa" in lower.arrays
+                  else _nan(3 * n),  # a circle's hoop stress; none for a strip
                   "ub_velocity": _nan((3 * n, 3)), "ub_speed": _nan(3 * n)}
         for name in point_data:
             point_data[name].append(values[name])

@@ -841,6 +841,8 @@ def _slope_note(st: _Setting) -> str:
 
 
 NO_SLOPE = "does not cover a sloping ground"
+NOT_FOR_CIRCLE = ("circular footing: this version gives Terzaghi's circle form and EN 1997-1's shape "
+                  "factors only")
 
 
 def _inclined_note(st: _Setting, capped: bool, solved: bool) -> str:
@@ -887,8 +889,8 @@ def _terzaghi_on(case: Case, soil: _Soil | None, why: str, local_shear: bool) ->
     gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
     if phi_used > 0.0 and gamma > 0.0:
         return _none(name, SRC_TERZAGHI, TERZAGHI_NGAMMA_UNCHECKED)
-    est = terzaghi_footing(soil.phi_deg, soil.c_kPa, gamma, st.width_eff, st.q, "strip",
-                           local_shear=local_shear)
+    est = terzaghi_footing(soil.phi_deg, soil.c_kPa, gamma, st.width_eff, st.q,
+                           "circle" if case.footing.shape == "circular" else "strip", local_shear=local_shear)
     notes = [why, est.note, *_setting_notes(st, soil, gamma)]
     if st.eccentricity != 0.0:
         notes.append("B' with Terzaghi's factors is common practice, not Terzaghi's")
@@ -994,20 +996,40 @@ def _ec7_undrained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
         return _none(name, source, f"{NO_SLOPE}: Annex D has no ground-inclination factors "
                                    "(its b factors are for an inclined base)")
     cu = soil.c_kPa
+    sc = ec7_shape_factors(case, 0.0)["sc_undrained"]
 
     def pressure(V: float, H: float) -> float:
-        return (math.pi + 2.0) * cu * ec7_undrained_ic(H, st.width_eff, cu) + st.q
+        return (math.pi + 2.0) * cu * sc * ec7_undrained_ic(H, st.width_eff, cu) + st.q
 
     limit = sliding_limit_kN_per_m(st.tan_delta, cu, 0.0, st.width_eff)  # ic's own range, H <= A' cu
     V, capped = solve_vertical_load(pressure, st.width_eff, st.tan_delta, limit)
     ic = ec7_undrained_ic(V * st.tan_delta, st.width_eff, cu)
-    factors = {"Nc": math.pi + 2.0, "Nq": 1.0, "Ngamma": 0.0, "bc": 1.0, "sc": 1.0, "ic": ic}
+    factors = {"Nc": math.pi + 2.0, "Nq": 1.0, "Ngamma": 0.0, "bc": 1.0, "sc": sc, "ic": ic}
     load = "vertical load: ic = 1" if st.delta_deg == 0.0 else f"ic = {ic:.4g}"
-    notes = [why, f"strip, level base: bc = sc = 1; {load}; Annex D has no depth factors",
+    shape = "strip" if sc == 1.0 else "circle: sc = 1.2 (from memory)"
+    notes = [why, f"{shape}, level base: bc = 1; {load}; Annex D has no depth factors",
              *_setting_notes(st, soil, None)]
     if st.delta_deg > 0.0:
         notes.append(_inclined_note(st, capped, True))
     return _finish(name, source, st, V, factors, notes)
+
+
+def ec7_shape_factors(case: Case, phi_deg: float) -> dict[str, float]:
+    """EN 1997-1:2004 Annex D shape factors: 1 for a strip; for a circle (B = L) sc = 1.2
+    undrained, and drained sq = 1 + sin(phi'), sgamma = 0.7, sc = (sq Nq - 1)/(Nq - 1)
+    (the factors for a square or circular footing; from memory).
+
+    >>> from solver.model import Footing, Ground
+    >>> clay = Layer("clay", "tresca", None, 18.0, undrained_strength=40.0)
+    >>> ec7_shape_factors(Case("t", Footing(2.0, shape="circular"), Ground(), (clay,)), 30.0)["sq"]
+    1.5
+    """
+    if case.footing.shape == "strip":
+        return {"sc": 1.0, "sq": 1.0, "sgamma": 1.0, "sc_undrained": 1.0}
+    sq = 1.0 + math.sin(math.radians(phi_deg))
+    nq = bearing_factors("ec7", phi_deg)["Nq"] if phi_deg > 0.0 else 1.0
+    sc = (sq * nq - 1.0) / (nq - 1.0) if nq > 1.0 else 1.2
+    return {"sc": sc, "sq": sq, "sgamma": 0.7, "sc_undrained": 1.2}
 
 
 def _ec7_drained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
@@ -1030,6 +1052,7 @@ def _ec7_drained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
         return _none(name, source, "inclined load with phi' = 0: the D.4 inclination factors "
                                    "need phi' > 0")
     f = bearing_factors("ec7", phi)
+    shape = ec7_shape_factors(case, phi)
     gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
 
     def inclination(V: float, H: float) -> dict[str, float]:
@@ -1039,15 +1062,18 @@ def _ec7_drained(case: Case, soil: _Soil | None, why: str) -> HandEstimate:
 
     def pressure(V: float, H: float) -> float:
         i = inclination(V, H)
-        return (c * f["Nc"] * i["ic"] + st.q * f["Nq"] * i["iq"]
-                + 0.5 * gamma * st.width_eff * f["Ngamma"] * i["igamma"])
+        return (c * f["Nc"] * shape["sc"] * i["ic"] + st.q * f["Nq"] * shape["sq"] * i["iq"]
+                + 0.5 * gamma * st.width_eff * f["Ngamma"] * shape["sgamma"] * i["igamma"])
 
     limit = sliding_limit_kN_per_m(st.tan_delta, c, phi, st.width_eff)
     V, capped = solve_vertical_load(pressure, st.width_eff, st.tan_delta, limit)
     i = inclination(V, V * st.tan_delta)
-    factors = {**f, "bc": 1.0, "bq": 1.0, "bgamma": 1.0, "sc": 1.0, "sq": 1.0, "sgamma": 1.0,
-               "ic": i["ic"], "iq": i["iq"], "igamma": i["igamma"]}
-    notes = [why, "strip, level base: b = s = 1" + ("; vertical load: i = 1" if st.delta_deg == 0.0
+    factors = {**f, "bc": 1.0, "bq": 1.0, "bgamma": 1.0, "sc": shape["sc"], "sq": shape["sq"],
+               "sgamma": shape["sgamma"], "ic": i["ic"], "iq": i["iq"], "igamma": i["igamma"]}
+    shape_note = ("strip, level base: b = s = 1" if case.footing.shape == "strip" else
+                  "circle, level base: b = 1, sq = 1 + sin phi', sgamma = 0.7, sc = (sq Nq - 1)/(Nq - 1) "
+                  "(from memory)")
+    notes = [why, shape_note + ("; vertical load: i = 1" if st.delta_deg == 0.0
                                                     else "; m = 2 (strip, H along B')"),
              "Annex D has no depth factors", *_setting_notes(st, soil, gamma)]
     if st.delta_deg > 0.0:
@@ -1428,6 +1454,14 @@ def _noted(estimate: HandEstimate, note: str) -> HandEstimate:
 def _methods(case: Case) -> list[HandEstimate]:
     """The methods on the case's layers as they stand (see :func:`hand_methods`)."""
     soil, why = _homogeneous(case)
+    if case.footing.shape == "circular":
+        # Terzaghi's circle and EN 1997-1's shape factors; the others are strip formulas here
+        import dataclasses
+        strip = dataclasses.replace(case, footing=dataclasses.replace(case.footing, shape="strip"))
+        own = {0: _terzaghi_on(case, soil, why, local_shear=False), 1: _terzaghi_on(case, soil, why, local_shear=True),
+               5: _ec7_undrained(case, soil, why), 6: _ec7_drained(case, soil, why)}
+        return [own[i] if i in own else _none(e.method, e.source, NOT_FOR_CIRCLE)
+                for i, e in enumerate(hand_methods(strip))]
     return [
         _terzaghi_on(case, soil, why, local_shear=False),
         _terzaghi_on(case, soil, why, local_shear=True),

@@ -25,14 +25,16 @@ from .model import Case, continues
 # Boundary edge kinds (codes in Mesh.boundary_kind).
 FOOTING, GROUND, SYMMETRY, FAR_SIDE, FAR_BASE = range(5)
 FIXED = 5  # a drawn site's rigid boundary (solver.sitefile): no velocity (upper), any traction (lower)
-BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base", "fixed")
+AXIS = 6  # the axis r = 0 of an axisymmetric (circular) case: no radial velocity, no shear
+BOUNDARY_NAMES = ("footing", "ground", "symmetry", "far side", "far base", "fixed", "axis")
 
 _GMSH_LOCK = threading.Lock()  # gmsh keeps one global model per process
 
 
 @dataclass(frozen=True)
 class Domain:
-    """Extent of the meshed region, m. ``half``: only x >= 0 is meshed (symmetric case)."""
+    """Extent of the meshed region, m. ``half``: only x >= 0 is meshed (symmetric case).
+    ``axisymmetric``: x is the radius r of a circular footing's case and x = 0 its axis."""
 
     half: bool
     x_min: float
@@ -44,6 +46,7 @@ class Domain:
     crest_x: float | None = None  # m: the ground falls away from (crest_x, 0) ...
     toe_x: float | None = None  # ... to (toe_x, -slope_height), level beyond
     slope_height: float = 0.0  # m
+    axisymmetric: bool = False
 
     @property
     def slope(self) -> bool:
@@ -281,6 +284,7 @@ def plan_domain(case: Case, half: bool | None = None) -> Domain:
     floor = model_depth - 0.2 * (model_depth - slope.get("slope_height", 0.0))
     model_depth = min([d for d in interfaces if floor < d <= model_depth], default=model_depth)
     half = is_symmetric(case) if half is None else half
+    half = half or case.footing.shape == "circular"  # a circle: the meridian half-plane r >= 0
     x_min = 0.0 if half else -(B / 2 + 2.0 * reach + B)
     analysis = case.analysis
     if analysis.model_width is not None:
@@ -296,10 +300,19 @@ def _domain(case: Case, half: bool, x_min: float, x_max: float, depth: float, re
     below an interface is put on the interface: a thinner band under it would only cost
     small triangles (a grown or user-given depth; the plan places its base the same way)."""
     below = [s.bottom for s in case.strata()[:-1]]
-    depth = min([d for d in below if 0.95 * depth < d <= depth], default=depth)
+    axisymmetric = case.footing.shape == "circular"
+    if axisymmetric:
+        # The circle's far field below the mesh carries the last meshed stratum only
+        # (solver.lower_axisym): every interface between strata that differ lies inside, with
+        # a band of a fifth of its depth under the deepest one.
+        required = case.required_interfaces()
+        depth = max([depth] + [1.25 * d for d in required if d > 0.8 * depth])
+    else:
+        depth = min([d for d in below if 0.95 * depth < d <= depth], default=depth)
     interfaces = tuple(d for d in below if d < depth)
     return Domain(half=half, x_min=x_min, x_max=x_max, depth=depth, interfaces=interfaces,
-                  mechanism_width=reach, mechanism_depth=mechanism_depth, **slope)
+                  mechanism_width=reach, mechanism_depth=mechanism_depth, axisymmetric=axisymmetric,
+                  **slope)
 
 
 SPREAD = 2.0  # a strong stratum spreads the load onto a weaker one below it by at most this much
@@ -955,7 +968,7 @@ def _assemble_mesh(points: np.ndarray, triangles: np.ndarray, domain: Domain, ca
     kind[np.abs(midpoint[:, 1] + domain.depth) < tol] = FAR_BASE
     kind[np.abs(midpoint[:, 0] - domain.x_max) < tol] = FAR_SIDE
     if domain.half:
-        kind[np.abs(midpoint[:, 0]) < tol] = SYMMETRY
+        kind[np.abs(midpoint[:, 0]) < tol] = AXIS if domain.axisymmetric else SYMMETRY
     else:
         kind[np.abs(midpoint[:, 0] - domain.x_min) < tol] = FAR_SIDE
     if domain.slope:

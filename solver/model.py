@@ -83,9 +83,10 @@ def davis_reduction(layer: Layer) -> tuple[float, float]:
 
 @dataclass(frozen=True)
 class Footing:
-    """A rigid strip footing of width ``width`` (m) founded at ``embedment`` (m)."""
+    """A rigid footing founded at ``embedment`` (m): a strip of width ``width`` (m), or a
+    circle of diameter ``width`` (``shape = "circular"``, analysed as axisymmetric)."""
 
-    width: float  # m, B
+    width: float  # m, B (the diameter of a circle)
     base: str = "rough"  # "rough" | "smooth"
     embedment: float = 0.0  # m, Df
     load_inclination: float = 0.0  # degrees from vertical, toward +x
@@ -93,6 +94,13 @@ class Footing:
     design_load: float | None = None  # kN/m, the line load to check (optional)
     required_factor_of_safety_on_load: float | None = None  # collapse load / design load the design needs
     required_factor_of_safety_on_strength: float | None = None  # strength-reduction factor the design needs
+    shape: str = "strip"  # "strip" (plane strain) | "circular" (axisymmetric, width = diameter)
+
+    @property
+    def bearing_area(self) -> float:
+        """Area the collapse load is spread over: B (m^2 per m run) for a strip, pi B^2/4 (m^2)
+        for a circle; collapse pressure = collapse load / bearing_area."""
+        return self.width if self.shape == "strip" else math.pi * self.width ** 2 / 4.0
 
 
 @dataclass(frozen=True)

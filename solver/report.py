@@ -279,7 +279,7 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         f"<title>{esc(d.get('title'))} &ndash; bearbound report</title>",
         f"<style>{STYLE}</style>", "</head>", "<body>",
         f"<h1>{esc(d.get('title'))}</h1>",
-        f'<p class="sub">{esc(subtitle(limits))}</p>',
+        f'<p class="sub">{esc(subtitle(limits, d.get("footing_shape", "strip")))}</p>',
         _meta_line(d, case),
         _result_box(d, case, limits),
         _caution(),
@@ -302,15 +302,15 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
     return "\n".join(parts) + "\n"
 
 
-def subtitle(limits: list[str]) -> str:
+def subtitle(limits: list[str], shape: str = "strip") -> str:
     """What the page brackets; "rigorous" only when nothing limits the bounds (:func:`caveats`).
 
     >>> subtitle([])
     'Strip footing: collapse load bracketed by finite-element limit analysis (rigorous lower and upper bounds)'
-    >>> "rigorous" in subtitle(["the upper bound is withheld"])
-    False
+    >>> subtitle(["the upper bound is withheld"], "circular")
+    'Circular footing: collapse load bracketed by finite-element limit analysis (lower and upper bounds, with 1 caveat beside the bracket)'
     """
-    head = "Strip footing: collapse load bracketed by finite-element limit analysis"
+    head = f"{shape.capitalize()} footing: collapse load bracketed by finite-element limit analysis"
     if not limits:
         return head + " (rigorous lower and upper bounds)"
     return head + f" (lower and upper bounds, with {len(limits)} caveat{'s' * (len(limits) > 1)} beside the bracket)"
@@ -352,10 +352,14 @@ def _result_box(d: dict, case: Case, limits: list[str]) -> str:
     """The bracket and the verdicts beside what limits trust in them, at the top of the page."""
     lower, upper = d.get("lower") or {}, d.get("upper") or {}
     lo, up, B = lower.get("pressure_kPa"), upper.get("pressure_kPa"), d.get("footing_width_m")
+    if d.get("footing_shape", "strip") == "strip":
+        area, unit, size = B, "kN/m", f"vertical component, B = {num(B, 2)} m"
+    else:
+        area, unit, size = math.pi * B ** 2 / 4, "kN", f"diameter {num(B, 2)} m"
     if lo is not None and up is not None:
         head = (f'Collapse pressure <span class="big">{num(lo)} to {num(up)} kPa</span><br>'
-                f"gap {num(d.get('gap_percent'), 2)} %; collapse load {num(lo * B)} to {num(up * B)} kN/m "
-                f"(vertical component, B = {num(B, 2)} m)")
+                f"gap {num(d.get('gap_percent'), 2)} %; collapse load {num(lo * area)} to {num(up * area)} {unit} "
+                f"({size})")
     else:
         sides = [f"{kind} bound {num(b.get('pressure_kPa'))} kPa" for kind, b in (("lower", lower), ("upper", upper))
                  if b.get("pressure_kPa") is not None]
@@ -765,12 +769,12 @@ CERTIFICATE_FIGURES = {
     "stress_scale_kPa": ("stress scale: the largest of the collapse pressure, each layer's strength a footing "
                          "width below its top, the overburden and gamma B", "kPa"),
     "load_kN_per_m": ("collapse load this bound certifies", "kN/m"),
+    "load_kN": ("collapse load this bound certifies", "kN"),
     "energy_of_the_mechanism": ("energy the mechanism of the ground alone releases (per unit velocity)", "kN/m"),
-    "objective_kN_per_m": ("the solver's objective", "kN/m"),
-    "recomputed_kN_per_m": ("the load recomputed from the velocities", "kN/m"),
-    "dissipation_kN_per_m": ("plastic dissipation", "kN/m"),
-    "gravity_work_kN_per_m": ("work done against the soil's weight", "kN/m"),
-    "surcharge_work_kN_per_m": ("work done against the surcharge", "kN/m"),
+    **{f"{key}_{unit_key}": (words, unit) for key, words in (
+        ("objective", "the solver's objective"), ("recomputed", "the load recomputed from the velocities"),
+        ("dissipation", "plastic dissipation"), ("gravity_work", "work done against the soil's weight"),
+        ("surcharge_work", "work done against the surcharge")) for unit_key, unit in (("kN_per_m", "kN/m"), ("kN", "kN"))},
     "work_rate_before": ("the load's work rate as solved, before the velocities were divided by it", ""),
 }
 TOLERANCE_KEYS = ("tolerance_kPa", "restored_tolerance", "flow_tolerance", "load_tolerance", "limits", "passed")

@@ -34,7 +34,8 @@ def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
 MOVING_SPEED_FRACTION = 0.05
 
 CAUTION = ("Results are for checking by a qualified geotechnical engineer. The analysis assumes "
-           "perfect plasticity with associated flow, plane strain and the soil model given; "
+           "perfect plasticity with associated flow, plane strain (strip) or axial symmetry (circle) and "
+           "the soil model given; "
            "local codes and licensed practice govern.")
 
 
@@ -56,6 +57,7 @@ class BoundResult:
     # not written to result.json: the mesh and the solution fields, for pictures and exports
     mesh: object = field(default=None, repr=False)
     fields: dict = field(default_factory=dict, repr=False)
+    load_kN: float | None = None  # a circular footing's collapse load (its load_kN_per_m is None)
 
 
 @dataclass
@@ -88,6 +90,16 @@ class Result:
     # the whole command's wall time split (s): bounds, strength_search, pictures, report, other,
     # total (solver.cli); None when the Result was made without the command (the Python API)
     wall_time_s: dict | None = None
+    footing_shape: str = "strip"  # "strip" | "circular" (footing_width_m is then the diameter)
+
+    @property
+    def bearing_area(self) -> float:
+        """m^2 per m run (strip) or m^2 (circle): collapse pressure = collapse load / this."""
+        return self.footing_width_m if self.footing_shape == "strip" else math.pi * self.footing_width_m ** 2 / 4
+
+    @property
+    def load_unit(self) -> str:
+        return "kN/m" if self.footing_shape == "strip" else "kN"
 
     @property
     def gap_percent(self) -> float | None:
@@ -105,6 +117,7 @@ class Result:
             "case": {"name": self.case_name, "sha256": self.case_sha256},
             "software": {"name": "bearbound", "version": __version__},
             "footing_width_m": self.footing_width_m,
+            "footing_shape": self.footing_shape,
             "lower": _bound_dict(self.lower),
             "upper": _bound_dict(self.upper),
             "gap_percent": json_safe(self.gap_percent),

@@ -32,7 +32,10 @@ SECTIONS: list[tuple[str, bool, list[Entry]]] = [
          "free text: the report's title (default: the file's name)"),
     ]),
     ("[footing]", False, [
-        ("width", "1.2", False, "the footing width B"),
+        ("width", "1.2", False, "the footing width B (a circle's diameter)"),
+        ("shape", '"strip"', False, "strip (plane strain, loads per m run) | circular (axisymmetric: a "
+                                    "vertical central load, no slope, design load or partial factors in this "
+                                    "version)"),
         ("base", '"rough"', False, "the contact under the footing: rough (no slip) or smooth (no shear)"),
         ("embedment", "0.5", False, "depth Df of the footing base below the ground; the soil above the base "
                                     "acts as a surcharge beside the footing"),

@@ -161,21 +161,31 @@ def upper_bound_program(case: Case, mesh: Mesh) -> ConicProgram:
     depth = -mesh.points[tri[:, :3], 1]
     c_corner = node_cohesion(mat, mesh.layer[:, None], depth)
     weight = area[:, None] * (c_corner + c_corner.sum(axis=1, keepdims=True)) / 12.0  # exact for linear c
-    gamma = mat["gamma"][mesh.layer]
-    c_w = np.zeros(2 * n_nodes)  # objective over the full velocity vector
-    np.add.at(c_w, col_v[:, 3:].ravel(), np.repeat(factor * gamma * area / 3.0, 3))  # integral of v: A/3 at midside
-    ground = mesh.boundary_kind == GROUND
-    g_edges = mesh.boundary_edges[ground]
-    _, g_len = mesh.edge_normals(mesh.boundary_element[ground], mesh.boundary_local[ground])
-    q_edge = surcharge_on_edges(case, mesh, ground)
-    np.add.at(c_w, (2 * g_edges + 1).ravel(),
-              (factor * (q_edge * g_len)[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])).ravel())
+    c_w = load_work_weights(case, mesh, factor)  # objective over the full velocity vector
     objective = np.concatenate([T.T @ c_w, factor * (np.cos(phi)[:, None] * weight / L[:, None]).ravel(),
                                 factor * jump_weight.ravel()])
     return ConicProgram(c=objective, A=A, b=b, n_zero=n_zero, n_nonneg=6 * n_jump, n_soc=3 * n_el,
                         objective_constant=float(c_w @ f), kind="upper",
                         layout={"T": T, "f": f, "motion": motion, "rho": n_z + rho, "jump_t": n_z + t_jump,
                                 "symmetry_factor": factor})
+
+
+def load_work_weights(case: Case, mesh: Mesh, factor: float) -> np.ndarray:
+    """(2 n_nodes,) kN per unit velocity component: the work rate against self-weight and the
+    surcharge, factor * (integral(gamma v dA) + integral(q v ds)) with v the second velocity
+    component of each node (upward), exact for quadratic v (A/3 at each midside node; 1/6,
+    1/6, 2/3 of q L along a ground edge)."""
+    mat = material_arrays(case)
+    c_w = np.zeros(2 * len(mesh.points))
+    gamma = mat["gamma"][mesh.layer]
+    np.add.at(c_w, (2 * mesh.triangles[:, 3:] + 1).ravel(), np.repeat(factor * gamma * mesh.areas() / 3.0, 3))
+    ground = mesh.boundary_kind == GROUND
+    g_edges = mesh.boundary_edges[ground]
+    _, g_len = mesh.edge_normals(mesh.boundary_element[ground], mesh.boundary_local[ground])
+    q_edge = surcharge_on_edges(case, mesh, ground)
+    np.add.at(c_w, (2 * g_edges + 1).ravel(),
+              (factor * (q_edge * g_len)[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])).ravel())
+    return c_w
 
 
 # Bernstein coefficients (b0, b1, b2) of a quadratic along an edge from its values at

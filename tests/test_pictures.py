@@ -394,7 +394,7 @@ SAND_OVER_CLAY = {
          "friction_angle": 34.0, "unit_weight": 18.0},
         {"name": "firm clay", "model": "tresca", "undrained_strength": 35.0, "unit_weight": 18.0},
     ],
-    "analysis": {"elements": 600},
+    "analysis": {"elements": 600, "mesh": "fixed"},
 }
 
 

@@ -303,6 +303,7 @@ BAD_CASES = {  # file -> (the message starts with, and contains)
     "geometry_water_table.toml": ("ground.water_table", "no water table with a drawn site"),
     "geometry_slope_keys.toml": ("ground.slope_angle", "draw the slope instead"),
     "geometry_embedment.toml": ("footing.embedment", "draw the soil beside the footing instead"),
+    "geometry_circular.toml": ("footing.shape", "as a strip footing only"),
     "geometry_file_missing.toml": ("geometry.file", "no such file"),
     "geometry_file_extension.toml": ("geometry.file", "must be a gmsh .geo script or .msh mesh"),
     "geometry_key_typo.toml": ("geometry.fiel", "did you mean 'file'?"),

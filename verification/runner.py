@@ -263,6 +263,9 @@ def _fail(where: str, text: str) -> None:
 def _plain_strip(case: Case, where: str, formula: str, allow: tuple[str, ...] = ()) -> None:
     """Refuse what ``formula`` does not describe: a slope, a water table, an inclined
     or eccentric load (unless ``allow`` names it)."""
+    if case.footing.shape != "strip":
+        _fail(where, f"case.footing.shape: {case.footing.shape!r} is not allowed with {formula!r}; the "
+                     "reference is for a strip footing")
     checks = [("slope", "ground.slope_angle", case.ground.slope_angle != 0.0),
               ("water_table", "ground.water_table", case.ground.water_table is not None),
               ("load_inclination", "footing.load_inclination", case.footing.load_inclination != 0.0),
@@ -370,6 +373,21 @@ def _level_ground_value(case: Case, raw: dict, where: str) -> float:
     return 2.0 + math.pi
 
 
+def _terzaghi_circle_value(case: Case, raw: dict, where: str) -> float:
+    """kPa: Terzaghi's (1943) circle form, 1.3 c Nc + q Nq + 0.3 gamma B Ngamma, as solver.hand
+    prints it beside the bracket (a hand method: reported, never a reference to fail on)."""
+    if case.footing.shape != "circular":
+        _fail(where, "case.footing.shape: 'terzaghi_circle' needs shape = 'circular'")
+    from solver.hand import hand_methods
+
+    rows = [h for h in hand_methods(case) if h.method.startswith("Terzaghi (1943), general shear")]
+    if not rows or rows[0].pressure_kPa is None:
+        _fail(where, "case: 'terzaghi_circle' gives no value here"
+              + (f" ({rows[0].note})" if rows and rows[0].note else ""))
+    row = rows[0]
+    return row.pressure_kPa
+
+
 # formula -> (value from case, entry and place; quantity it gives; allowed notes; allowed checks)
 CASE_FORMULAS: dict[str, tuple[Callable[[Case, dict, str], float], str, tuple[str, ...], tuple[str, ...]]] = {
     "green_inclined": (_green_value, "vertical_over_c", ("from memory",), ("bracket",)),
@@ -380,6 +398,7 @@ CASE_FORMULAS: dict[str, tuple[Callable[[Case, dict, str], float], str, tuple[st
     "prandtl_tresca_weakest": (_weakest_value, "pressure_kPa", ("rigorous limit",), ("at_least",)),
     "prandtl_tresca_top": (_top_mechanism_value, "pressure_over_c", ("rigorous limit",), ("at_most",)),
     "level_ground_tresca": (_level_ground_value, "pressure_over_c", ("common practice",), ("bracket",)),
+    "terzaghi_circle": (_terzaghi_circle_value, "pressure_kPa", ("hand method",), ("report",)),
 }
 
 
