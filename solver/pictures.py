@@ -1397,20 +1397,26 @@ def figure_bytes(fig: Figure, fmt: str) -> bytes:
     return buffer.getvalue()
 
 
-def draw_all(case: Case, data: dict, fields: dict[str, BoundFields]) -> dict[str, Figure]:
-    """Every picture the run's data allows, by name: model, mechanism, stress, contact."""
+def draw_all(case: Case, data: dict, fields: dict[str, BoundFields], progress=None) -> dict[str, Figure]:
+    """Every picture the run's data allows, by name: model, mechanism, stress, contact.
+    ``progress`` (a solver.progress.Progress) counts them on its bar."""
     domain = data["domain"]
     upper_data, lower_data = data.get("upper") or {}, data.get("lower") or {}
     mechanism = upper_data.get("extra") or None
-    figures = {"model": model_figure(case, domain, fields.get("lower"), fields.get("upper"), mechanism)}
+    drawings = {"model": lambda: model_figure(case, domain, fields.get("lower"), fields.get("upper"), mechanism)}
     if "upper" in fields:
-        figures["mechanism"] = mechanism_figure(case, domain, fields["upper"], mechanism,
-                                                upper_data.get("pressure_kPa"), fields.get("lower"))
+        drawings["mechanism"] = lambda: mechanism_figure(case, domain, fields["upper"], mechanism,
+                                                         upper_data.get("pressure_kPa"), fields.get("lower"))
     if "lower" in fields:
-        figures["stress"] = stress_figure(case, domain, fields["lower"], mechanism,
-                                          lower_data.get("pressure_kPa"), fields.get("upper"))
-        figures["contact"] = contact_figure(case, domain, fields["lower"], lower_data.get("pressure_kPa"),
-                                            data.get("pore_pressure_at_base_kPa") or 0.0)
+        drawings["stress"] = lambda: stress_figure(case, domain, fields["lower"], mechanism,
+                                                   lower_data.get("pressure_kPa"), fields.get("upper"))
+        drawings["contact"] = lambda: contact_figure(case, domain, fields["lower"], lower_data.get("pressure_kPa"),
+                                                     data.get("pore_pressure_at_base_kPa") or 0.0)
+    figures = {}
+    for done, (name, draw) in enumerate(drawings.items()):
+        if progress is not None:
+            progress.bar(f"drawing {name}", done, len(drawings))
+        figures[name] = draw()
     return figures
 
 
@@ -1422,7 +1428,7 @@ def write_pictures(figures: dict[str, Figure], out_dir: Path, progress=None) -> 
     for name, fig in figures.items():
         for fmt in ("png", "svg"):
             if progress is not None:
-                progress.bar(f"{name}.{fmt}", len(paths), total)
+                progress.bar(f"writing {name}.{fmt}", len(paths), total)
             path = Path(out_dir) / f"{name}.{fmt}"
             write_bytes_atomic(path, figure_bytes(fig, fmt))
             paths.append(path)

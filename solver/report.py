@@ -130,7 +130,7 @@ def write_run_files(result, case: Case, case_path: Path, out_dir: Path, *, pictu
     if pictures or report:
         run = load_run(out_dir)
         with clock.part("pictures"):
-            figures = drawing.draw_all(run.case, run.data, run.fields)
+            figures = drawing.draw_all(run.case, run.data, run.fields, progress)
             if pictures:
                 written += drawing.write_pictures(figures, out_dir, progress)
         if report:

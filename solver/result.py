@@ -242,8 +242,10 @@ def caveats(case, data: dict) -> list[str]:
                        f"edge, not the soil, may limit it, so it may be {side}")
     pore = data.get("pore_pressure_at_base_kPa") or 0.0
     if pore > 0:
+        lo, up = ((data.get(kind) or {}).get("pressure_kPa") for kind in ("lower", "upper"))
+        total = f" (total: {lo + pore:.1f} to {up + pore:.1f} kPa)" if lo is not None and up is not None else ""
         out.append(f"the water table is above the footing base: the pressures are effective; the total contact "
-                   f"pressure adds the pore pressure at the base, {pore:.1f} kPa")
+                   f"pressure adds the pore pressure at the base, {pore:.1f} kPa{total}")
     refinement, gap = data.get("refinement") or {}, data.get("gap_percent")
     if refinement.get("mesh") == "adaptive" and not refinement.get("reached") and gap is not None:
         steps = refinement["steps"]

@@ -431,7 +431,9 @@ def test_caveats_name_everything_that_limits_trust():
     assert caveats(plain, at_edge) == ["the upper bound's mechanism moves at the right and base edge of its model: "
                                        "the model's edge, not the soil, may limit it, so it may be high"]
     wet = {**good, "pore_pressure_at_base_kPa": 9.81}
-    assert "the pressures are effective" in caveats(plain, wet)[0] and "9.8 kPa" in caveats(plain, wet)[0]
+    assert caveats(plain, wet) == ["the water table is above the footing base: the pressures are effective; the "
+                                   "total contact pressure adds the pore pressure at the base, 9.8 kPa (total: "
+                                   "309.8 to 311.8 kPa)"]
     withheld = {**good, "upper": {"pressure_kPa": None, "status": "withheld: certificate failed"}, "gap_percent": None}
     assert caveats(plain, withheld) == ["the upper bound is withheld (withheld: certificate failed): no bracket"]
     one_side = {**good, "upper": None, "gap_percent": None}
