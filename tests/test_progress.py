@@ -7,22 +7,11 @@ import select
 import subprocess
 import sys
 
+from test_failures import CLAY
+
 from solver.progress import Progress
 
-TINY = """
-title = "Progress on a small clay case"
-[footing]
-width = 2.0
-design_load = 150.0
-[[layers]]
-name = "clay"
-model = "tresca"
-undrained_strength = 30.0
-unit_weight = 18.0
-[analysis]
-elements = 300
-mesh = "fixed"
-"""
+TINY = CLAY.replace("width = 2.0", "width = 2.0\ndesign_load = 150.0")  # a strength search to show
 
 
 class Terminal(io.StringIO):
