@@ -213,7 +213,7 @@ def test_an_error_while_the_other_bound_solves_is_one_line_not_an_abort(tmp_path
                 raise ValueError("the upper bound's mesh failed")
             return real(case, order, **kwargs)
         solver.analysis.build_mesh = build
-        sys.exit(solver.cli.main(["run", "clay.toml", "--no-pictures", "--no-report"]))
+        sys.exit(solver.cli.main(["run", "clay.toml", "--no-pictures", "--no-report", "--no-progress"]))
         """)
     done = subprocess.run([sys.executable, "-c", script], cwd=tmp_path, capture_output=True, text=True, timeout=300)
     assert done.returncode == 3, (done.returncode, done.stderr)
