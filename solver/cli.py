@@ -183,13 +183,13 @@ def _solve_and_write(args, case, out_dir: Path, folder, progress, clock):
         if case.footing.design_load is not None or case.factors is not None:
             from .safety import factor_of_safety
 
-            progress.stage("factor of safety")
+            progress.stage("factors of safety (extra solves, each on one fixed mesh)")
             with clock.part("strength_search"):
                 result.factor_of_safety = factor_of_safety(
                     case, result, elements=args.elements, backend=args.backend, progress=progress.say,
                     parallel=False if args.serial else None,
                     starting=lambda kind, what: progress.doing(kind, f"{kind} bound at {what}"))
-            progress.say(f"factor of safety: {result.factor_of_safety['wall_s']:.1f} s")
+            progress.say(f"factors of safety: {result.factor_of_safety['wall_s']:.1f} s")
         progress.stage("drawing the pictures" if not args.no_pictures else "writing the outputs")
         return result
 

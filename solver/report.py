@@ -226,7 +226,8 @@ th, td { border: 1px solid #999; padding: 1mm 1.8mm; text-align: left; vertical-
 th { background: #e8e8e8; font-weight: 600; }
 td.n { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 table.meta td:first-child, table.kv td:first-child { width: 38%; background: #f4f4f4; }
-.caution { border: 2.5px solid #111; padding: 2.5mm 3.5mm; margin: 3mm 0; background: #f2f2f2; }
+.caution { border: 2.5px solid #111; padding: 2.5mm 3.5mm; margin: 3mm 0; background: #f2f2f2;
+           page-break-inside: avoid; break-inside: avoid; }
 .caution strong { letter-spacing: 0.02em; }
 .result { display: flex; gap: 4mm; border: 2px solid #111; padding: 3mm 3.5mm; margin: 2mm 0 3mm 0;
           page-break-inside: avoid; break-inside: avoid; }
@@ -247,7 +248,7 @@ figure img { width: 100%; height: auto; border: 1px solid #ccc; }
 figcaption { font-size: 9pt; color: #222; margin-top: 1mm; }
 code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 8.5pt; word-break: break-all; }
 ul { margin: 1mm 0 3mm 0; padding-left: 6mm; }
-footer { margin-top: 8mm; font-size: 8.5pt; color: #333; border-top: 1px solid #999; padding-top: 2mm; }
+footer { margin-top: 2mm; font-size: 8pt; color: #333; border-top: 1px solid #999; padding-top: 1.5mm; }
 /* Printed: A4, numbered pages where the browser supports page-margin boxes (README, "The report
    on paper"); no forced page breaks, so that no page is left half empty: figures, table rows,
    short tables and the result box are kept whole, long tables break between rows, and a heading
@@ -293,10 +294,9 @@ def build_html(run: Run, images: dict[str, bytes]) -> str:
         _certificates(d),
         _statistics(d, run),
         _notes(run),
-        '<div class="keep">' + _caution(final=True),
-        f"<footer>bearbound {esc(d.get('software', {}).get('version'))}; case file SHA-256 "
-        f'<span class="hash">{esc(d["case"].get("sha256"))}</span>. Pressures and loads are compression '
-        "positive; pressure = vertical component of the collapse load / B.</footer></div>",
+        _caution(final=True, footer=f"bearbound {esc(d.get('software', {}).get('version'))}; case file SHA-256 "
+                 f'<span class="hash">{esc(d["case"].get("sha256"))}</span>. Pressures and loads are compression '
+                 "positive; pressure = vertical component of the collapse load / B."),
         "</body>", "</html>",
     ]
     return "\n".join(parts) + "\n"
@@ -351,15 +351,12 @@ def _meta_line(d: dict, case: Case) -> str:
 def _result_box(d: dict, case: Case, limits: list[str]) -> str:
     """The bracket and the verdicts beside what limits trust in them, at the top of the page."""
     lower, upper = d.get("lower") or {}, d.get("upper") or {}
-    lo, up, B = lower.get("pressure_kPa"), upper.get("pressure_kPa"), d.get("footing_width_m")
-    if d.get("footing_shape", "strip") == "strip":
-        area, unit, size = B, "kN/m", f"vertical component, B = {num(B, 2)} m"
-    else:
-        area, unit, size = math.pi * B ** 2 / 4, "kN", f"diameter {num(B, 2)} m"
+    lo, up = lower.get("pressure_kPa"), upper.get("pressure_kPa")
+    area, unit, size = _footing_measure(d)
     if lo is not None and up is not None:
         head = (f'Collapse pressure <span class="big">{num(lo)} to {num(up)} kPa</span><br>'
                 f"gap {num(d.get('gap_percent'), 2)} %; collapse load {num(lo * area)} to {num(up * area)} {unit} "
-                f"({size})")
+                f"(vertical, {size})")
     else:
         sides = [f"{kind} bound {num(b.get('pressure_kPa'))} kPa" for kind, b in (("lower", lower), ("upper", upper))
                  if b.get("pressure_kPa") is not None]
@@ -377,11 +374,14 @@ def _result_box(d: dict, case: Case, limits: list[str]) -> str:
             f'<div class="caveats">{right}</div></div>')
 
 
-def _caution(final: bool = False) -> str:
+def _caution(final: bool = False, footer: str = "") -> str:
+    """The caution box; the last one says more and carries the page's footer (``footer``, HTML),
+    so that the two print together."""
     extra = ("" if not final else
              " The inputs (strengths, unit weights, layer thicknesses) govern the answer more than the method "
              "does; the bounds bracket the collapse load of the idealised problem, not of the ground.")
-    return f'<div class="caution"><strong>Caution.</strong> {esc(CAUTION)}{esc(extra)}</div>'
+    foot = f"<footer>{footer}</footer>" if footer else ""
+    return f'<div class="caution"><strong>Caution.</strong> {esc(CAUTION)}{esc(extra)}{foot}</div>'
 
 
 def _warnings(d: dict) -> str:
@@ -417,9 +417,18 @@ def _kv(title: str | None, rows: list[tuple[str, str]], heading_level: int = 3, 
     return f'<div{keep}>{head}<table class="{cls}">{body}</table></div>'
 
 
+def _footing_measure(d: dict) -> tuple[float, str, str]:
+    """What a pressure is multiplied by to give the load (m per m run, or m^2), the load's unit
+    and the footing's size in words, for a strip or a circle."""
+    B = d.get("footing_width_m")
+    if d.get("footing_shape", "strip") == "strip":
+        return B, "kN/m", f"B = {num(B, 2)} m"
+    return math.pi * B ** 2 / 4, "kN", f"diameter {num(B, 2)} m"
+
+
 def _bracket(d: dict, case: Case) -> str:
     lower, upper = d.get("lower") or {}, d.get("upper") or {}
-    B = d.get("footing_width_m")
+    area, unit, size = _footing_measure(d)
     lo, up = lower.get("pressure_kPa"), upper.get("pressure_kPa")
     out = ["<h2>The bracket</h2>"]
     f = case.footing
@@ -427,8 +436,8 @@ def _bracket(d: dict, case: Case) -> str:
     if lo is not None and up is not None:
         text = (f'<p>Collapse pressure under the footing: <strong>'
                 f"{num(lo)} to {num(up)} kPa</strong> (gap {num(d.get('gap_percent'), 2)} %)<br>"
-                f"{'Vertical collapse load' if inclined else 'Collapse load'}: {num(lo * B)} to {num(up * B)} kN/m "
-                f"of footing, B = {num(B, 2)} m")
+                f"{'Vertical collapse load' if inclined else 'Collapse load'}: {num(lo * area)} to {num(up * area)} "
+                f"{unit}{' of footing' if unit == 'kN/m' else ''}, {size}")
         if inclined:
             ex_lo, ex_up = lower.get("extra") or {}, upper.get("extra") or {}
             text += (f"<br>The load along its line of action ({num(f.load_inclination, 1, 'degrees')} from "
@@ -451,16 +460,17 @@ def _bracket(d: dict, case: Case) -> str:
                          f'{esc(str(b.get("status")).removeprefix("withheld: "))}')
         extra = b.get("extra") or {}
         rows.append(f"<tr><td>{kind} bound</td><td class='n'>{num(b.get('pressure_kPa'))}</td>"
-                    f"<td class='n'>{num(b.get('load_kN_per_m'))}</td>"
+                    f"<td class='n'>{num(b.get('load_kN_per_m') if unit == 'kN/m' else b.get('load_kN'))}</td>"
                     f"<td class='n'>{num(extra.get('vertical_kN_per_m'))}</td>"
                     f"<td class='n'>{num(extra.get('horizontal_kN_per_m'))}</td>"
                     f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td><td>{standing}</td></tr>")
-    out.append('<table class="keep"><thead><tr><th>bound</th><th>pressure (kPa)</th><th>load (kN/m)</th>'
+    out.append(f'<table class="keep"><thead><tr><th>bound</th><th>pressure (kPa)</th><th>load ({unit})</th>'
                "<th>V (kN/m)</th><th>H (kN/m)</th><th>M (kNm/m)</th><th>standing</th></tr></thead>"
                + "".join(rows) + "</table>")
     methods = "; ".join(f"{kind} bound: {esc(b.get('method'))}" for kind, b in (("lower", lower), ("upper", upper))
                         if b.get("method"))
-    out.append('<p class="small">Pressure: the vertical component of the collapse load over B. Load: the '
+    over = "B" if unit == "kN/m" else "the footing's area, &pi; D&sup2;/4"
+    out.append(f'<p class="small">Pressure: the vertical component of the collapse load over {over}. Load: the '
                "collapse load along its line of action; V and H its vertical and horizontal components, M its "
                f"moment about the footing's centre (V times the eccentricity), all at collapse. Methods: {methods}.</p>")
     if case.ground.water_table is not None:
@@ -474,7 +484,7 @@ def _bracket(d: dict, case: Case) -> str:
         out.append(f"<p>{text}.</p>")
     out.append('<p class="small">A bound is reported only when its certificate (the residuals of the '
                "solution, recomputed after the solve) passes. The true collapse load of the idealised "
-               "problem (rigid-perfectly plastic soil, associated flow, plane strain) lies between the "
+               f"problem (rigid-perfectly plastic soil, associated flow, {'plane strain' if unit == 'kN/m' else 'axial symmetry'}) lies between the "
                "bounds; the gap is its own error estimate.</p>")
     return "\n".join(out)
 
@@ -757,8 +767,8 @@ RESIDUALS = {
                           "velocity", ""),
     "incompressibility": ("Tresca flow rule: no change of volume at any triangle corner, relative to the largest "
                           "velocity", ""),
-    "flow_rule": ("Mohr-Coulomb flow rule at every triangle corner: the largest breach, strain rate times the "
-                  "triangle's size, the footing moving at 1", ""),
+    "flow_rule": ("flow rule where it is a cone (a strip's Mohr-Coulomb corners; every control point of a "
+                  "circle): the largest breach, strain rate times the triangle's size, the footing moving at 1", ""),
     "load_mismatch": ("load recomputed from the velocities (dissipation less the work of weight and surcharge) "
                       "against the solver's, relative", ""),
     "energy_balance": ("energy of the mechanism of the ground alone, relative to the terms it sums (negative: "

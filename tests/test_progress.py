@@ -98,6 +98,6 @@ def test_a_run_on_a_terminal_shows_what_runs_and_its_standard_output_stays_clean
     assert run.returncode == 0, screen.decode(errors="replace")
     text = screen.decode()
     assert "\rbearbound: solving the bounds on one fixed mesh each (0 s)" in text
-    assert "bearbound: bracket: lower " in text and "bearbound: factor of safety (" in text
+    assert "bearbound: bracket: lower " in text and "bearbound: factors of safety (extra solves" in text
     assert "[####################] 8/8" in text  # the pictures' bar, full
     assert "\r" not in out and "files written:" in out  # the summary on standard output is plain text

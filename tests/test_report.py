@@ -473,7 +473,7 @@ def test_certificates_read_as_words_with_their_limits(hostile_run):
     words = (f"{cert['equilibrium_kPa']:.3g} kPa, allowed {cert['tolerance_kPa']:.3g} kPa (1e-6 &times; the stress "
              f"scale, {cert['stress_scale_kPa']:.3g} kPa): passes")
     assert "equilibrium with self-weight in every triangle" in section and words in section
-    assert "Mohr-Coulomb flow rule at every triangle corner" in section
+    assert "flow rule where it is a cone" in section
     assert "what the solver's own stopping test allows" in section
     assert section.count(": passes") == len(cert["limits"]) + len(data["upper"]["certificate"]["limits"])
     for raw in ("equilibrium_kPa", "tolerance_kPa", "flow_rule", "load_mismatch", "{'"):
@@ -535,3 +535,22 @@ def test_terminal_shows_the_bracket_first_then_the_search_and_lists_every_file(h
     paths = [folder / line.strip() for line in listed]
     assert sorted(p.name for p in paths) == sorted(p.name for p in out.iterdir())  # every file, each once
     assert all(p.is_file() for p in paths) and paths[0].name == "report.html"
+
+
+def test_a_circular_footing_is_reported_in_kN_over_its_area(tmp_path):
+    from solver.report import Run, build_html
+
+    case = parse_case({"footing": {"width": 4.0, "shape": "circular"}, "layers": [
+        {"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}],
+        "analysis": {"elements": 300, "mesh": "fixed"}}, name="tank")
+    data = analyse(case).to_dict()
+    page = build_html(Run(out_dir=tmp_path, data=data, case=case), images={})
+    assert "Circular footing: collapse load bracketed" in page and "Strip footing" not in page
+    area = np.pi * 4.0 ** 2 / 4
+    for kind in ("lower", "upper"):
+        assert data[kind]["load_kN"] == pytest.approx(data[kind]["pressure_kPa"] * area)
+    box = page[page.index('<div class="result">'):page.index('<div class="caution">')]
+    bracket = page[page.index("<h2>The bracket</h2>"):page.index("<h2>Factor of safety</h2>")]
+    loads = f"{data['lower']['load_kN']:,.1f} to {data['upper']['load_kN']:,.1f} kN"
+    assert loads in box and loads in bracket and "kN/m" not in box
+    assert f"<td class='n'>{data['lower']['load_kN']:,.1f}</td>" in bracket and "<th>load (kN)</th>" in bracket
