@@ -114,10 +114,15 @@ def analyse(case: Case, *, bounds: str | None = None, elements: int | None = Non
     for bound, what in ((lower, "the lower bound's stress field is at yield"),
                         (upper, "the upper bound's mechanism moves")):
         if bound and bound.pressure_kPa is not None and bound.extra.get("field_at_edge"):
+            larger = bound.extra.get("larger_model_tried")
+            done = (f"it was solved on a larger one too ({larger['domain_width_m']:.3g} m wide, "
+                    f"{larger['domain_depth_m']:.3g} m deep), which gave {larger['pressure']}, no tighter on the same "
+                    "number of triangles, so this one is kept" if larger else
+                    f"it was not solved on a larger one ({_why_at_edge(case, bound)})")
             notes.append(f"{what} at the {' and '.join(bound.extra['field_at_edge'])} edge of its model "
                          f"({bound.extra['domain_width_m']:.3g} m wide, {bound.extra['domain_depth_m']:.3g} m "
-                         f"deep), and it was not solved on a larger one ({_why_at_edge(case, bound)}): it is still "
-                         "rigorous but may be " + ("low" if bound.kind == "lower" else "high"))
+                         f"deep), and {done}: it is still rigorous but may be "
+                         + ("low" if bound.kind == "lower" else "high"))
     used = [b.mesh.domain for b in (lower, upper) if b is not None and b.mesh is not None] or [domain]
     result = Result(title=case.title, case_name=case.name, case_sha256=case.source_sha256,
                     footing_width_m=case.footing.width, footing_shape=case.footing.shape,
@@ -240,6 +245,11 @@ def solve_fixed(case: Case, kinds: list[str], elements: int, backend: str, domai
             bound.extra["domain_growths"] = growths[kind]
             if is_better(bound, best.get(kind)):
                 best[kind] = bound
+            elif growths[kind]:  # the larger model's solve kept nothing: say so beside the one kept
+                best[kind].extra["larger_model_tried"] = {
+                    "domain_width_m": bound.extra.get("domain_width_m"),
+                    "domain_depth_m": bound.extra.get("domain_depth_m"),
+                    "pressure": "nothing certified" if bound.pressure_kPa is None else f"{bound.pressure_kPa:.2f} kPa"}
             grown = next_domain(case, bound)
             if grown is not None:
                 growths[kind] += 1

@@ -150,3 +150,33 @@ def test_extended_hint_covers_the_grown_domain():
                       order=1, elements=1200, domain=bigger, size_hint=extended)
     assert abs(mesh.n_elements / 1200 - 1) < 0.15
     assert np.isclose(mesh.points[:, 0].max(), bigger.x_max) and np.isclose(mesh.points[:, 1].min(), -bigger.depth)
+
+
+def test_a_larger_model_that_does_no_better_is_named_not_said_to_be_missing(monkeypatch):
+    # An upper bound at the model's right edge is solved again on a larger model, which gives a
+    # higher (looser) value on the same number of triangles: the first is kept, and the note
+    # must say the larger one was tried, never that there was no time for it.
+    import types
+
+    from solver.result import BoundResult
+
+    case = parse_case(crust_case())
+    values = iter([300.0, 310.0, 320.0, 330.0])  # every larger model a little looser
+
+    def fake_run_bounds(case, requests, backend, settings, parallel):
+        (kind, elements, _, domain), = requests
+        bound = BoundResult(kind=kind, pressure_kPa=next(values), load_kN_per_m=None, status="optimal",
+                            certificate={"passed": True}, elements=elements, variables=0, equalities=0, cones=0,
+                            iterations=1, timing=dict.fromkeys(("mesh_s", "assemble_s", "solve_s", "certify_s"), 0.0),
+                            method="", extra={"field_at_edge": ["right"], "domain_width_m": domain.x_max - domain.x_min,
+                                              "domain_depth_m": domain.depth})
+        bound.mesh = types.SimpleNamespace(domain=domain)  # what the growth reads of the mesh
+        return {kind: bound}, 0.0
+
+    monkeypatch.setattr(solver.analysis, "run_bounds", fake_run_bounds)
+    result = analyse(case, bounds="upper", adaptive=False)
+    assert result.upper.pressure_kPa == 300.0 and result.upper.extra["domain_growths"] == 0
+    tried = result.upper.extra["larger_model_tried"]
+    assert tried["pressure"] == "330.00 kPa" and tried["domain_width_m"] > result.upper.extra["domain_width_m"]
+    note = next(n for n in result.notes if "edge of its model" in n)
+    assert "it was solved on a larger one too" in note and "330.00 kPa" in note and "no time" not in note
