@@ -737,10 +737,17 @@ def _mark_slope(ax, profile: Profile, x_lo: float, x_hi: float, labels: bool) ->
                         rotation=-profile.slope_angle_deg, rotation_mode="anchor", zorder=8)
 
 
-def _draw_footing(ax, B: float, Df: float, stem: float) -> Patch:
+def footing_label(case, B: float) -> str:
+    """The footing's legend entry: a circle's B is its diameter, and its section is drawn
+    through the axis (x = 0), the same on both sides."""
+    if getattr(case.footing, "shape", "strip") == "circular":
+        return f"circular footing, diameter B = {B:g} m (section through its axis, x = 0)"
+    return f"footing, B = {B:g} m"
+
+
+def _draw_footing(ax, B: float, Df: float, stem: float) -> None:
     ax.add_patch(Rectangle((-B / 2, 0.0), B, Df + stem, facecolor=FOOTING_COLOUR, edgecolor="black",
                            linewidth=0.8, zorder=6))
-    return Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
 
 
 def _draw_load(ax, case: Case, y_head: float, length: float) -> None:
@@ -874,7 +881,7 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
         drawn_mesh = mesh_fields if show_mesh else None
         mesh_label = (f"mesh of the {kind} bound: {mesh_fields.n_elements} triangles"
                       + (" on the half x \u2265 0, mirrored" if half else "")) if drawn_mesh else "no mesh"
-        footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=f"footing, B = {B:g} m")
+        footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=footing_label(case, B))
         load = Line2D([], [], color="black", linewidth=1.8, marker=">", markersize=4, label=_load_label(case))
         handles = (_site_handles(case) if site else _ground_handles(case, profile)) + [footing, load]
         if drawn_mesh:

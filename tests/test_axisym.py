@@ -208,3 +208,14 @@ def test_circular_run_gives_loads_in_kN_and_the_hand_forms_beside_them(tmp_path)
     path = write_fields_vtu(bound_fields(result.lower), bound_fields(result.upper), tmp_path)
     hoop = meshio.read(path).point_data["lb_sigma_theta_kPa"]
     assert np.isfinite(hoop[:3 * result.lower.elements]).all() and np.isnan(hoop[3 * result.lower.elements:]).all()
+
+
+def test_pictures_name_a_circle_by_its_diameter():
+    from solver.pictures import footing_label
+
+    circle = parse_case({"footing": {"width": 12.0, "shape": "circular"},
+                         "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]})
+    strip = parse_case({"footing": {"width": 12.0},
+                        "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]})
+    assert "diameter B = 12 m" in footing_label(circle, 12.0) and "axis" in footing_label(circle, 12.0)
+    assert footing_label(strip, 12.0) == "footing, B = 12 m"
