@@ -1168,8 +1168,8 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
                     "(as if spread over a band that wide).")
     if extent is not None:
         mx_lo, mx_hi, md = extent
-        where = (f"out to r = {mx_hi:.2f} m from the axis ({mx_hi / B:.2f} B; {2 * mx_hi:.2f} m = {2 * mx_hi / B:.2f} B "
-                 "across the circle)" if circle else
+        where = (f"out to r = {mx_hi:.2f} m from the axis ({mx_hi / B:.2f} B; {2 * mx_hi:.2f} m = "
+                 f"{2 * mx_hi / B:.2f} B across the circle)" if circle else
                  f"{mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from {mx_lo:.2f} to {mx_hi:.2f} m)")
         caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.0%} of the footing "
                     f"(where the arrows are drawn), {where} and {md:.2f} m deep ({md / B:.2f} B).")

@@ -2,6 +2,7 @@
 literally, mirroring is right, files are PNG and SVG and the same on a rerun."""
 import doctest
 import itertools
+import re
 import xml.etree.ElementTree as ET
 
 import numpy as np
@@ -597,3 +598,20 @@ def test_strip_pictures_still_show_the_whole_width(layered_run):
             assert ax.get_xlabel().startswith("x from the footing centre"), name
             assert not axis_lines(ax) and not any("axis of symmetry" in t.get_text() for t in ax.texts), name
 
+
+def test_circle_report_and_export_say_what_the_pictures_show(circle_run, tmp_path):
+    import meshio
+
+    from solver.export import write_fields_vtu
+    from solver.report import Run, build_html
+
+    case, data, fields = circle_run
+    page = build_html(Run(out_dir=tmp_path, data=data, case=case, fields=fields),
+                      images={name: b"png" for name in ("model", "mechanism", "stress", "contact")})
+    captions = re.findall(r"<figcaption>(.*?)</figcaption>", page)
+    assert len(captions) == 4 and all("half section r \u2265 0" in c for c in captions)
+    reach = max(fields["upper"].points[np.hypot(*fields["upper"].arrays["velocity"].T) > 0.05, 0])
+    assert f"out to r = {reach:.2f}&#8201;m from the axis" in page and "x from -" not in page
+    # fields.vtu: the half section as solved, r >= 0, not mirrored
+    points = meshio.read(write_fields_vtu(fields["lower"], fields["upper"], tmp_path)).points
+    assert points[:, 0].min() == 0.0 and points[:, 0].max() == pytest.approx(data["domain"]["x_max_m"])
