@@ -13,6 +13,12 @@ on the lower-bound block, 1 on the upper-bound block and 2 on the jump lines
 others' points and cells.
 Stresses are written compression positive, as the trade reads them.
 
+A circular footing's fields are written as solved, on the half section r >= 0 through
+its axis and not mirrored: x is the radius r, y the height z, ``lb_sigma_x_kPa``,
+``lb_sigma_y_kPa``, ``lb_tau_xy_kPa`` are sigma_r, sigma_z, tau_rz, ``lb_sigma_1_kPa``
+and ``lb_sigma_3_kPa`` the principal stresses in the r-z plane, ``lb_sigma_theta_kPa``
+the hoop stress (NaN for a strip) and ``ub_velocity`` (u_r, u_z, 0).
+
 Every file is written to a temporary file in the same folder and renamed.
 """
 from __future__ import annotations

@@ -24,7 +24,10 @@ mechanism's frame) is drawn only below the ground surface; the air stays blank.
 The load is drawn along its line of action: inclined as given and through the
 base at its eccentricity.
 
-Symmetric cases are solved on the half domain x >= 0 and mirrored here. Colour
+Symmetric strip cases are solved on the half domain x >= 0 and mirrored here. A
+circular footing (axisymmetric) is drawn as it is solved: the half section r >= 0
+through its axis (x is the radius r), never mirrored, with the axis of symmetry
+drawn as a chain line at r = 0 and named in words, the footing from r = 0 to B/2. Colour
 maps run from light to dark so that the pictures print in grey; every series
 also differs in line style or marker. Text from the case file is drawn as
 plain text (never as mathematics markup). Figures are built without pyplot, so
@@ -112,30 +115,33 @@ class Profile:
 
     B: float  # m, footing width
     Df: float  # m, embedment
-    x_min: float  # m, the meshed box (a half domain's mirror image included)
+    x_min: float  # m, the meshed box (a strip's half domain's mirror image included; 0 on a circle's axis)
     x_max: float
     depth: float  # m below the base
     crest_x: float | None = None  # m, None: level ground
     toe_x: float | None = None
     slope_height: float = 0.0  # m
+    axis: bool = False  # a circle: x is the radius r and x_min = 0 its axis; nothing is drawn at r < 0
 
     @classmethod
     def of(cls, case: Case, domain: dict) -> Profile:
         """From the case and result.json's "domain" (older results without the box's ends
         or the slope keys are read as a level, centred box)."""
         half = bool(domain.get("half_domain_by_symmetry"))
+        axis = is_circle(case)
         if domain.get("x_max_m") is not None:
             x_max = float(domain["x_max_m"])
-            x_min = -x_max if half else float(domain["x_min_m"])
+            x_min = -x_max if half and not axis else float(domain["x_min_m"])
         else:
-            x_max = float(domain["width_m"]) if half else float(domain["width_m"]) / 2
-            x_min = -x_max
+            x_max = float(domain["width_m"]) if half or axis else float(domain["width_m"]) / 2
+            x_min = 0.0 if axis else -x_max
         crest, toe = domain.get("slope_crest_x_m"), domain.get("slope_toe_x_m")
         if crest is None or toe is None:
             crest = toe = None
         return cls(B=case.footing.width, Df=case.footing.embedment, x_min=x_min, x_max=x_max,
                    depth=float(domain["depth_m"]), crest_x=crest, toe_x=toe,
-                   slope_height=float(domain.get("slope_height_m") or 0.0) if crest is not None else 0.0)
+                   slope_height=float(domain.get("slope_height_m") or 0.0) if crest is not None else 0.0,
+                   axis=axis)
 
     @property
     def slope(self) -> bool:
@@ -193,19 +199,37 @@ class Profile:
 
     def ground_lines(self, x_lo: float, x_hi: float) -> list[np.ndarray]:
         """The ground surface left and right of the footing (m), as polylines: the top of the
-        soil above the base (y = Df) on level ground, the true profile beside a slope."""
+        soil above the base (y = Df) on level ground, the true profile beside a slope. A
+        circle's half section has the right one only (its left is the axis).
+
+        >>> len(Profile(B=2.0, Df=0.5, x_min=0.0, x_max=9.0, depth=5.0, axis=True).ground_lines(0.0, 9.0))
+        1
+        """
         half = self.B / 2
         left = np.array([[x_lo, self.Df], [-half, self.Df], [-half, 0.0]])
         right = self.surface_corners(half, max(x_hi, half))
         right[:, 1] += self.Df  # a slope comes with Df = 0 (the case file refuses both)
         right = np.vstack([[[half, 0.0]], right])
-        return [left, right]
+        return [right] if self.axis else [left, right]
 
     def clip_patch(self, ax, x_lo: float, x_hi: float, y_lo: float) -> Polygon:
-        """A patch (not drawn) of the soil, a little beyond the given box, to clip artists to."""
+        """A patch (not drawn) of the soil, a little beyond the given box (never across a
+        circle's axis), to clip artists to."""
         pad = 0.05 * (x_hi - x_lo)
-        return Polygon(self.soil_polygon(x_lo - pad, x_hi + pad, y_lo - pad), closed=True,
+        left = max(x_lo - pad, self.x_min) if self.axis else x_lo - pad
+        return Polygon(self.soil_polygon(left, x_hi + pad, y_lo - pad), closed=True,
                        transform=ax.transData)
+
+
+def is_circle(case: Case) -> bool:
+    """A circular footing, analysed and drawn in the half section r >= 0 through its axis."""
+    return getattr(case.footing, "shape", "strip") == "circular"
+
+
+def mirrored(case: Case, domain: dict) -> bool:
+    """Whether the pictures mirror the solved half domain: a symmetric strip's, never a circle's
+    (its half section r >= 0 is the whole of what is drawn)."""
+    return bool(domain.get("half_domain_by_symmetry")) and not is_circle(case)
 
 
 # -- geometry helpers ------------------------------------------------------------
@@ -673,7 +697,7 @@ def _draw_ground(ax, case: Case, profile: Profile, x_lo: float, x_hi: float, y_l
         _clip(band, soil)
     _draw_interfaces(ax, case, profile, x_lo, x_hi)
     if Df > 0:
-        for left, right in ((x_lo, -B / 2), (B / 2, x_hi)):
+        for left, right in ((x_lo, -B / 2), (B / 2, x_hi)) if not profile.axis else ((B / 2, x_hi),):
             ax.add_patch(Rectangle((left, 0.0), right - left, Df, facecolor="#ececec", hatch="---",
                                    edgecolor="#9a9a9a", linewidth=0.0, zorder=0))
     _draw_surface(ax, profile, x_lo, x_hi)
@@ -738,15 +762,17 @@ def _mark_slope(ax, profile: Profile, x_lo: float, x_hi: float, labels: bool) ->
 
 
 def footing_label(case, B: float) -> str:
-    """The footing's legend entry: a circle's B is its diameter, and its section is drawn
-    through the axis (x = 0), the same on both sides."""
-    if getattr(case.footing, "shape", "strip") == "circular":
-        return f"circular footing, diameter B = {B:g} m (section through its axis, x = 0)"
+    """The footing's legend entry: a circle's B is its diameter, and it is drawn in the half
+    section r >= 0, from its axis to its edge."""
+    if is_circle(case):
+        return f"circular footing, diameter B = {B:g} m: drawn from its axis, r = 0, to its edge, r = B/2 = {B / 2:g} m"
     return f"footing, B = {B:g} m"
 
 
-def _draw_footing(ax, B: float, Df: float, stem: float) -> None:
-    ax.add_patch(Rectangle((-B / 2, 0.0), B, Df + stem, facecolor=FOOTING_COLOUR, edgecolor="black",
+def _draw_footing(ax, B: float, Df: float, stem: float, axis: bool = False) -> None:
+    """The footing from -B/2 to B/2, or on a circle's half section (``axis``) from 0 to B/2."""
+    left = 0.0 if axis else -B / 2
+    ax.add_patch(Rectangle((left, 0.0), B / 2 - left, Df + stem, facecolor=FOOTING_COLOUR, edgecolor="black",
                            linewidth=0.8, zorder=6))
 
 
@@ -768,6 +794,8 @@ def _draw_load(ax, case: Case, y_head: float, length: float) -> None:
 
 def _load_label(case: Case) -> str:
     f = case.footing
+    if is_circle(case):  # central and vertical only (the case check)
+        return "load: vertical, along the axis of symmetry (the whole circle's load)"
     if f.load_inclination == 0 and f.eccentricity == 0:
         return "load: vertical, through the footing's centre"
     side = "+x" if f.load_inclination > 0 else "-x"
@@ -780,10 +808,60 @@ def _mesh_lines(ax, tri: Triangulation, linewidth: float):
     ax.triplot(tri, color="#202020", linewidth=linewidth, alpha=0.45, zorder=2, rasterized=True)
 
 
-def _axes_labels(ax):
-    ax.set_xlabel("x from the footing centre (m)")
-    ax.set_ylabel("y (m), 0 at the footing base")
+def _axes_labels(ax, axis: bool = False):
+    """Axis labels of a section; ``axis``: a circle's half section, whose x is the radius r."""
+    ax.set_xlabel("radius r from the axis of symmetry (m)" if axis else "x from the footing centre (m)")
+    ax.set_ylabel("z (m), 0 at the footing base" if axis else "y (m), 0 at the footing base")
     ax.set_aspect("equal")
+
+
+# A circle's axis of symmetry: a chain line (long dash, short dash), the drafting mark of a centre
+# line, in black; the water table's dash-dot is shorter and blue.
+AXIS_STYLE = (0, (10, 3, 2, 3))
+AXIS_TEXT = "axis of symmetry, r = 0"
+HALF_SECTION = "half section r \u2265 0 through the axis"  # what a circle's picture shows, in its title
+SECTION_LINE = "Half section r \u2265 0 through the circle's axis of symmetry (chain line, r = 0)"
+TITLE_LINE_IN = 0.17  # a second title line (a circle's SECTION_LINE)
+AXIS_GUTTER = 0.02  # of a view's width: blank room left of the axis, so that its line shows beside the frame
+CHART_GUTTER = 0.035  # B: the contact chart's room left of the axis, for the axis's name clear of the curves
+
+
+def view_left(profile: Profile, x_lo: float, x_hi: float) -> float:
+    """The left end (m) of a view from x_lo to x_hi: x_lo, or on a circle's half section a narrow
+    blank gutter left of the axis (x_lo = 0), nothing drawn in it.
+
+    >>> view_left(Profile(B=2.0, Df=0.0, x_min=0.0, x_max=10.0, depth=5.0, axis=True), 0.0, 10.0)
+    -0.2
+    """
+    return x_lo - AXIS_GUTTER * (x_hi - x_lo) if profile.axis else x_lo
+
+
+def _section_caption(circle: bool) -> str:
+    """A circle's caption begins by saying what is drawn: the half section r >= 0 and its axis."""
+    if not circle:
+        return ""
+    return ("Half section r \u2265 0 through the circular footing's axis of symmetry (the chain line at r = 0, "
+            "named along it); the field is the same in every such section. ")
+
+
+def _field_title(head: str, numbers: str, circle: bool) -> str:
+    """A field picture's title: what it shows and its numbers; a circle's has a second line
+    saying that it is the half section r >= 0 (room for it: :func:`_title_height`)."""
+    return f"{head} ({numbers})" + (f"\n{SECTION_LINE}" if circle else "")
+
+
+def _title_height(circle: bool) -> float:
+    """Inches of a picture's title row: one line, or two for a circle (:func:`_field_title`)."""
+    return TITLE_IN + (TITLE_LINE_IN if circle else 0.0)
+
+
+def _draw_axis(ax, y_lo: float, y_hi: float, side: str = "right") -> None:
+    """A circle's axis of symmetry, r = 0, from y_lo to y_hi, named along it from the bottom, on
+    its ``side`` ("left": in a gutter wide enough for the name)."""
+    ax.plot([0.0, 0.0], [y_lo, y_hi], color="black", linestyle=AXIS_STYLE, linewidth=1.1, zorder=8)
+    ax.annotate(AXIS_TEXT, (0.0, y_lo), xytext=(3 if side == "right" else -3, 4), textcoords="offset points",
+                rotation=90, ha="left" if side == "right" else "right", va="bottom", fontsize=7, zorder=8,
+                bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.85, "pad": 1.2})
 
 
 LEFT_IN, RIGHT_IN = 0.8, 0.2  # room for the y tick labels and label; a little on the right
@@ -827,11 +905,11 @@ def _plot_size(x_range: float, y_range: float) -> tuple[float, float]:
     return MAX_PLOT_HEIGHT_IN * x_range / y_range, MAX_PLOT_HEIGHT_IN
 
 
-def _field_layout(x_range: float, y_range: float, caption: str):
+def _field_layout(x_range: float, y_range: float, caption: str, circle: bool = False):
     """Figure, main axes and colour-bar axes of a field picture, with its caption."""
     lines = textwrap.wrap(caption, CAPTION_CHARS)
     width, height = _plot_size(x_range, y_range)
-    column = _Column([("title", TITLE_IN), ("main", height), ("xlabel", XLABEL_IN), ("bar", 0.14),
+    column = _Column([("title", _title_height(circle)), ("main", height), ("xlabel", XLABEL_IN), ("bar", 0.14),
                       ("barlabel", 0.5), ("caption", 0.14 * len(lines) + 0.08)])
     ax, cax = column.axes("main", width), column.axes("bar")
     column.text("caption", "\n".join(lines), fontsize=CAPTION_FONT)
@@ -870,7 +948,7 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
     False leaves the mesh's lines out (a drawn site still takes its outline from the mesh);
     ``title`` heads the picture, before the case's title."""
     B, Df = case.footing.width, case.footing.embedment
-    half = domain["half_domain_by_symmetry"]
+    half = mirrored(case, domain)
     profile = Profile.of(case, domain)
     mesh_fields = lower if lower is not None else upper
     site = _drawn_site(case, mesh_fields, half)
@@ -880,15 +958,20 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
         kind = "lower" if lower is not None else "upper"
         drawn_mesh = mesh_fields if show_mesh else None
         mesh_label = (f"mesh of the {kind} bound: {mesh_fields.n_elements} triangles"
-                      + (" on the half x \u2265 0, mirrored" if half else "")) if drawn_mesh else "no mesh"
+                      + (" on the half x \u2265 0, mirrored" if half else "")
+                      + (" on the half section r \u2265 0, as solved" if profile.axis else "")) if drawn_mesh \
+            else "no mesh"
         footing = Patch(facecolor=FOOTING_COLOUR, edgecolor="black", label=footing_label(case, B))
         load = Line2D([], [], color="black", linewidth=1.8, marker=">", markersize=4, label=_load_label(case))
         handles = (_site_handles(case) if site else _ground_handles(case, profile)) + [footing, load]
+        if profile.axis:
+            handles.append(Line2D([], [], color="black", linestyle=AXIS_STYLE, linewidth=1.1,
+                                  label=f"{AXIS_TEXT}: the circle is this half section r \u2265 0 turned about it"))
         if drawn_mesh:
             handles.append(Line2D([], [], color="#202020", linewidth=0.5, alpha=0.6, label=mesh_label))
-        whole = _plot_size(profile.x_max - profile.x_min, profile.depth + tops[0])
-        detail = _plot_size(x_hi - x_lo, vd + tops[1])
-        column = _Column([("title0", TITLE_IN), ("whole", whole[1]), ("xlabel0", XLABEL_IN),
+        whole = _plot_size(profile.x_max - view_left(profile, profile.x_min, profile.x_max), profile.depth + tops[0])
+        detail = _plot_size(x_hi - view_left(profile, x_lo, x_hi), vd + tops[1])
+        column = _Column([("title0", _title_height(profile.axis)), ("whole", whole[1]), ("xlabel0", XLABEL_IN),
                           ("title1", TITLE_IN), ("detail", detail[1]), ("xlabel1", XLABEL_IN),
                           ("legend", _legend_height([h.get_label() for h in handles]))])
         fig = column.fig
@@ -902,20 +985,23 @@ def model_figure(case: Case, domain: dict, lower: BoundFields | None, upper: Bou
             else:
                 _draw_ground(ax, case, profile, lo - pad, hi + pad, -down - pad,
                              marks_within=(lo, hi) if ax is axes[1] else None)
-            _draw_footing(ax, B, Df, stem=STEM * B)
+            _draw_footing(ax, B, Df, stem=STEM * B, axis=profile.axis)
             _mark_slope(ax, profile, lo, hi, labels=ax is axes[1])
             if drawn_mesh is not None:
                 _mesh_lines(ax, corner_triangulation(drawn_mesh, half), lw)
-            ax.set_xlim(lo, hi)
+            if profile.axis:
+                _draw_axis(ax, -down, top)
+            ax.set_xlim(view_left(profile, lo, hi), hi)
             ax.set_ylim(-down, top)
-            _axes_labels(ax)
+            _axes_labels(ax, profile.axis)
         ax0, ax1 = axes
         _draw_load(ax1, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
         ax0.add_patch(Rectangle((x_lo, -vd), x_hi - x_lo, vd + tops[1], fill=False, edgecolor="black",
                                 linestyle=":", linewidth=1.0, zorder=7))
-        ax0.set_title(textwrap.shorten(f"{title}: {plain(case.title)}", TITLE_CHARS, placeholder=" ..."),
+        ax0.set_title(textwrap.shorten(f"{title}: {plain(case.title)}", TITLE_CHARS, placeholder=" ...")
+                      + (f"\n{SECTION_LINE}" if profile.axis else ""), loc="left")
+        ax1.set_title("Detail near the footing (dotted frame above)" + (f"; {HALF_SECTION}" if profile.axis else ""),
                       loc="left")
-        ax1.set_title("Detail near the footing (dotted frame above)", loc="left")
         lax = column.axes("legend", PAGE_WIDTH_IN - 0.2, left_in=0.1)
         lax.axis("off")
         lax.legend(handles=handles, loc="upper left", ncols=1, frameon=False, handlelength=2.2,
@@ -1053,36 +1139,45 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
                      pressure_kPa: float | None, lower: BoundFields | None = None) -> Figure:
     """The upper bound's mechanism: shear strain rate shaded, layers named, velocity arrows, extent
     (all in the soil). The view frames the lower bound's plastic zone too (``lower``), as the
-    stress picture does, so that the two pictures match."""
+    stress picture does, so that the two pictures match. A circle's is drawn in its half section
+    r >= 0 (:data:`HALF_SECTION`)."""
     B, Df = case.footing.width, case.footing.embedment
-    half = domain["half_domain_by_symmetry"]
+    half = mirrored(case, domain)
     profile = Profile.of(case, domain)
+    circle = profile.axis
     extent = _extent(upper, half, mechanism)
+    if circle and extent is not None:
+        extent = (0.0, extent[1], extent[2])  # the moving soil reaches the axis (the footing moves there)
     x_lo, x_hi, vd = detail_view(profile, domain, view_extent(upper, lower, half, mechanism))
+    x_left = view_left(profile, x_lo, x_hi)
     site = _drawn_site(case, upper, half)
     top = _top(case, x_lo, x_hi, site)
-    caption = ("Shading: the shear strain rate (the largest engineering shear strain rate, |\u03b5\u0307\u2081 "
-               "\u2212 \u03b5\u0307\u2083|, per unit footing velocity; white: rigid, below 1/1000 of the peak). It "
+    caption = _section_caption(circle) + (
+               "Shading: the shear strain rate (the largest engineering shear strain rate, |\u03b5\u0307\u2081 "
+               "\u2212 \u03b5\u0307\u2083|, per unit footing velocity; white: rigid, below 1/1000 of the peak"
+               + ("; in the r-z plane: the hoop strain rate u_r/r is left out" if circle else "") + "). It "
                "shows the mechanism in every soil, a cohesionless one included, where the plastic dissipation "
                f"is zero. Arrows: soil velocity where the soil moves faster than {MOVING_SPEED:.0%} of the "
                "footing, each centred on its point and drawn only where it lies wholly in the soil, length in "
                "proportion to the speed (key: the footing's velocity along the load = 1). Thick arrow: the "
                "load along its line of action.")
-    caption += _motion_text(footing_motion(case, upper, half))
+    caption += _motion_text(footing_motion(case, upper, bool(domain["half_domain_by_symmetry"])))
     jump_ends, jump_size = velocity_jumps(upper)
     if len(jump_size):
         caption += (" Shaded lines: velocity jumps across triangle edges, the jump over the edge's length "
                     "(as if spread over a band that wide).")
     if extent is not None:
         mx_lo, mx_hi, md = extent
+        where = (f"out to r = {mx_hi:.2f} m from the axis ({mx_hi / B:.2f} B; {2 * mx_hi:.2f} m = "
+                 f"{2 * mx_hi / B:.2f} B across the circle)" if circle else
+                 f"{mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from {mx_lo:.2f} to {mx_hi:.2f} m)")
         caption += (f" Dashed frame (in the soil): the soil moving faster than {MOVING_SPEED:.0%} of the footing "
-                    f"(where the arrows are drawn), {mx_hi - mx_lo:.2f} m wide ({(mx_hi - mx_lo) / B:.2f} B, x from "
-                    f"{mx_lo:.2f} to {mx_hi:.2f} m) and {md:.2f} m deep ({md / B:.2f} B).")
+                    f"(where the arrows are drawn), {where} and {md:.2f} m deep ({md / B:.2f} B).")
     caption += " Dashed lines: layer interfaces; each layer is named in its band."
     if case.ground.water_table is not None:
-        caption += " Dash-dot line: the water table."
+        caption += " Short dash-dot line (blue): the water table." if circle else " Dash-dot line: the water table."
     with rc_context(STYLE):
-        fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
+        fig, ax, cax = _field_layout(x_hi - x_left, vd + top, caption, circle)
         soil = site.clip_patch(ax) if site else profile.clip_patch(ax, x_lo, x_hi, -vd)
         pts = mirror_points(upper.points, half)
         sub = mirror_triangles(split_quadratic(upper.triangles), len(upper.points), half, upper.points)
@@ -1106,40 +1201,47 @@ def mechanism_figure(case: Case, domain: dict, upper: BoundFields, mechanism: di
                          f"{key:g} \u00d7 the footing's velocity along the load", labelpos="E",
                          coordinates="axes",
                          fontproperties={"size": 7.5})
-        _draw_footing(ax, B, Df, stem=STEM * B)
+        _draw_footing(ax, B, Df, stem=STEM * B, axis=circle)
         _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
         if site is not None:
             _draw_site_lines(ax, site)
         else:
             _draw_surface(ax, profile, x_lo, x_hi)
         _mark_slope(ax, profile, x_lo, x_hi, labels=True)
+        if circle:
+            _draw_axis(ax, -vd, top)
         if extent is not None:
             frame = ax.add_patch(Rectangle((mx_lo, -md), mx_hi - mx_lo, md, fill=False, edgecolor="black",
                                            linestyle="--", linewidth=1.0, zorder=6))
             _clip(frame, soil)
             # dimensions along the left side and the bottom: both lie in the soil (the moving soil
             # touches the bottom edge and the footing's left edge is left of any crest); on a drawn
-            # site the left side starts at the soil's top there
+            # site the left side starts at the soil's top there. A circle's left side is its axis,
+            # drawn already: its depth goes on the right side.
+            dim_x = mx_hi if circle else mx_lo
             dim_top = site.top_at(mx_lo) if site is not None else 0.0
-            ax.annotate("", xy=(mx_lo, -md), xytext=(mx_lo, dim_top), zorder=7,
+            ax.annotate("", xy=(dim_x, -md), xytext=(dim_x, dim_top), zorder=7,
                         arrowprops={"arrowstyle": "<->", "color": "black", "linewidth": 0.8})
-            ax.text(mx_lo + 0.01 * (x_hi - x_lo), (dim_top - md) / 2, f"depth {md:.2f} m\n= {md / B:.2f} B", ha="left",
+            ax.text(dim_x + (-0.01 if circle else 0.01) * (x_hi - x_lo), (dim_top - md) / 2,
+                    f"depth {md:.2f} m\n= {md / B:.2f} B", ha="right" if circle else "left",
                     va="center", zorder=8, fontsize=7.5,
                     bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
             ax.annotate("", xy=(mx_lo, -md), xytext=(mx_hi, -md), zorder=7,
                         arrowprops={"arrowstyle": "<->", "color": "black", "linewidth": 0.8})
-            ax.text((mx_lo + mx_hi) / 2, -md - 0.01 * vd, f"width {mx_hi - mx_lo:.2f} m = {(mx_hi - mx_lo) / B:.2f} B",
+            ax.text((mx_lo + mx_hi) / 2, -md - 0.01 * vd,
+                    f"out to r = {mx_hi:.2f} m = {mx_hi / B:.2f} B" if circle else
+                    f"width {mx_hi - mx_lo:.2f} m = {(mx_hi - mx_lo) / B:.2f} B",
                     ha="center", va="top", zorder=8, fontsize=7.5,
                     bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.9, "pad": 1.5})
-        ax.set_xlim(x_lo, x_hi)
+        ax.set_xlim(x_left, x_hi)
         ax.set_ylim(-vd, top)
-        _axes_labels(ax)
+        _axes_labels(ax, circle)
         bound = f"upper bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "upper bound withheld"
-        ax.set_title(f"Upper bound: collapse mechanism ({bound}; {upper.n_elements} six-node triangles)",
-                     loc="left")
+        ax.set_title(_field_title("Upper bound: collapse mechanism", f"{bound}; {upper.n_elements} six-node triangles",
+                                  circle), loc="left")
         key_y = 0.9 if profile.slope or site else 0.05
-        clear = [((-0.75 * B - x_lo) / (x_hi - x_lo), (vd - 0.5 * B) / (vd + top),  # the soil under the footing
-                  (0.75 * B - x_lo) / (x_hi - x_lo), 1.0)]
+        clear = [((-0.75 * B - x_left) / (x_hi - x_left), (vd - 0.5 * B) / (vd + top),  # the soil under the footing
+                  (0.75 * B - x_left) / (x_hi - x_left), 1.0)]
         _name_layers(ax, case, profile, site, x_lo, x_hi, vd,
                      keep_clear=clear + ([(0.6, key_y - 0.05, 1.0, key_y + 0.05)] if arrows is not None else []))
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", extend="min")
@@ -1196,22 +1298,33 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
                   pressure_kPa: float | None, upper: BoundFields | None = None) -> Figure:
     """The lower bound's stress field: utilisation and principal directions in the plastic zone.
     The view frames its plastic zone and the mechanism's moving soil (``upper`` when given, else
-    ``mechanism``) together, as the mechanism picture does, so both pictures match."""
+    ``mechanism``) together, as the mechanism picture does, so both pictures match. A circle's
+    is drawn in its half section r >= 0 (:data:`HALF_SECTION`)."""
     B, Df = case.footing.width, case.footing.embedment
-    half = domain["half_domain_by_symmetry"]
+    half = mirrored(case, domain)
     profile = Profile.of(case, domain)
+    circle = profile.axis
     x_lo, x_hi, vd = detail_view(profile, domain, view_extent(upper, lower, half, mechanism))
+    x_left = view_left(profile, x_lo, x_hi)
     site = _drawn_site(case, upper if upper is not None else lower, half)
     top = _top(case, x_lo, x_hi, site)
-    caption = (f"Shading: yield utilisation, the stress deviator over its value on the yield surface at the same "
-               f"mean stress (1: on the yield surface). Crosses: principal stress directions (compression "
-               f"positive) where every node of a triangle is within {1 - PLASTIC_UTILISATION:.0%} of the yield "
+    if circle:  # the circle's utilisation takes the hoop stress in (solver.certify_axisym)
+        shading = ("yield utilisation, the largest principal stress difference (the hoop stress included) over "
+                   "its value on the yield surface at the same mean of those two stresses")
+        crosses = ("principal stress directions in the r-z plane (compression positive; the hoop stress, the "
+                   "third principal stress, acts normal to the section)")
+    else:
+        shading = "yield utilisation, the stress deviator over its value on the yield surface at the same mean stress"
+        crosses = "principal stress directions (compression positive)"
+    caption = _section_caption(circle) + (
+               f"Shading: {shading} (1: on the yield surface). Crosses: {crosses} "
+               f"where every node of a triangle is within {1 - PLASTIC_UTILISATION:.0%} of the yield "
                f"surface, one per grid cell. Thick arrow: the load along its line of action. "
                f"Dashed lines: layer interfaces.")
     if case.ground.water_table is not None:
-        caption += " Dash-dot line: the water table."
+        caption += " Short dash-dot line (blue): the water table." if circle else " Dash-dot line: the water table."
     with rc_context(STYLE):
-        fig, ax, cax = _field_layout(x_hi - x_lo, vd + top, caption)
+        fig, ax, cax = _field_layout(x_hi - x_left, vd + top, caption, circle)
         soil = site.clip_patch(ax) if site else profile.clip_patch(ax, x_lo, x_hi, -vd)
         tri = own_node_triangulation(lower, half)
         util = lower.arrays["utilisation"].reshape(-1)
@@ -1242,23 +1355,28 @@ def stress_figure(case: Case, domain: dict, lower: BoundFields, mechanism: dict 
                                 pivot="middle", headwidth=0, headlength=0, headaxislength=0, width=width,
                                 color="black", zorder=5)
             _clip(crosses, soil)  # a cross at the slope face is cut there, never drawn in the air
-        _draw_footing(ax, B, Df, stem=STEM * B)
+        _draw_footing(ax, B, Df, stem=STEM * B, axis=circle)
         _draw_load(ax, case, Df + STEM * B, _load_length(B, x_lo, x_hi))
         if site is not None:
             _draw_site_lines(ax, site)
         else:
             _draw_surface(ax, profile, x_lo, x_hi)
         _mark_slope(ax, profile, x_lo, x_hi, labels=True)
-        ax.set_xlim(x_lo, x_hi)
+        if circle:
+            _draw_axis(ax, -vd, top)
+        ax.set_xlim(x_left, x_hi)
         ax.set_ylim(-vd, top)
-        _axes_labels(ax)
+        _axes_labels(ax, circle)
         bound = f"lower bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "lower bound withheld"
-        ax.set_title(f"Lower bound: stress field ({bound}; {lower.n_elements} triangles)", loc="left")
+        ax.set_title(_field_title("Lower bound: stress field", f"{bound}; {lower.n_elements} triangles", circle),
+                     loc="left")
+        plane = " in the r-z plane" if circle else ""
         ax.legend(handles=[Line2D([], [], color="black", linewidth=2.0,
-                                  label="major principal stress \u03c3\u2081 (compression): direction"),
+                                  label=f"major principal stress \u03c3\u2081{plane} (compression): direction"),
                            Line2D([], [], color="black", linewidth=0.9,
-                                  label="minor principal stress \u03c3\u2083: direction")],
-                  loc="upper right" if profile.slope or site else "lower left", framealpha=0.95, fontsize=7.5)
+                                  label=f"minor principal stress \u03c3\u2083{plane}: direction")],
+                  loc="upper right" if profile.slope or site else "lower right" if circle else "lower left",
+                  framealpha=0.95, fontsize=7.5)
         bar = fig.colorbar(shade, cax=cax, orientation="horizontal", ticks=list(UTILISATION_LEVELS))
         bar.set_label("yield utilisation (1 = plastic)")
     return fig
@@ -1301,47 +1419,67 @@ def contact_stresses(lower: BoundFields, width_m: float, half: bool
 def contact_figure(case: Case, domain: dict, lower: BoundFields, pressure_kPa: float | None,
                    pore_pressure_kPa: float = 0.0) -> Figure:
     """The lower bound's normal and shear stresses along the footing base (:func:`contact_stresses`),
-    with their mean (the lower-bound pressure) and, when given, the design load's vertical pressure."""
+    with their mean (the lower-bound pressure) and, when given, the design load's vertical pressure.
+    A circle's are drawn along its radius, from the axis (r = 0) to the edge (r = B/2)."""
     B = case.footing.width
-    x, normal, shear = contact_stresses(lower, B, domain["half_domain_by_symmetry"])
-    caption = ("Along the footing base, from the lower bound's stress field: the normal stress (compression "
-               "positive) and the shear stress on the soil (positive toward +x). Both are linear along each "
-               "triangle's edge and may jump from one triangle to the next. They are one statically admissible "
-               "distribution that carries the lower-bound collapse load, not the contact pressure under working "
-               "loads; the mean of the normal stress over B is the lower-bound pressure. The contact carries no "
-               "tension.")
+    circle = is_circle(case)
+    x, normal, shear = contact_stresses(lower, B, mirrored(case, domain))
+    if circle:
+        caption = _section_caption(True) + (
+            "Along the footing base, from the axis (r = 0) to the edge (r = B/2), from the lower bound's stress "
+            "field: the normal stress (compression positive) and the shear stress on the soil (positive outward, "
+            "toward +r). Both are drawn as straight lines between each triangle's corner values (the field's "
+            "r \u03c3 is quadratic along an edge) and may jump from one triangle to the next. They are one "
+            "statically admissible distribution that carries the lower-bound collapse load, not the contact "
+            "pressure under working loads; their mean over the base's area, which weights each radius r by its "
+            "circumference 2\u03c0r (the edge counts more than the centre), is the lower-bound pressure. The "
+            "contact carries no tension.")
+    else:
+        caption = ("Along the footing base, from the lower bound's stress field: the normal stress (compression "
+                   "positive) and the shear stress on the soil (positive toward +x). Both are linear along each "
+                   "triangle's edge and may jump from one triangle to the next. They are one statically admissible "
+                   "distribution that carries the lower-bound collapse load, not the contact pressure under working "
+                   "loads; the mean of the normal stress over B is the lower-bound pressure. The contact carries no "
+                   "tension.")
     if pore_pressure_kPa > 0:
         caption += f" Stresses are effective: the total normal stress adds the pore pressure {pore_pressure_kPa:.1f} kPa."
     lines = textwrap.wrap(caption, CAPTION_CHARS)
     with rc_context(STYLE):
-        column = _Column([("title", TITLE_IN), ("main", 2.6), ("xlabel", XLABEL_IN),
+        column = _Column([("title", _title_height(circle)), ("main", 2.6), ("xlabel", XLABEL_IN),
                           ("caption", 0.14 * len(lines) + 0.08)])
         ax = column.axes("main")
         column.text("caption", "\n".join(lines), fontsize=CAPTION_FONT)
         ax.axhline(0.0, color="#9a9a9a", linewidth=0.6, zorder=1)
-        for edge in (-B / 2, B / 2):
+        for edge in (B / 2,) if circle else (-B / 2, B / 2):
             ax.axvline(edge, color="#4d4d4d", linewidth=0.8, linestyle=":", zorder=1)
         ax.plot(x.ravel(), normal.ravel(), color="black", linewidth=1.6, zorder=4,
                 label="normal stress (compression positive)")
         ax.plot(x.ravel(), shear.ravel(), color="black", linewidth=1.1, linestyle="--", zorder=4,
-                label="shear stress on the soil (positive toward +x)")
+                label="shear stress on the soil (positive " + ("outward, toward +r)" if circle else "toward +x)"))
         if pressure_kPa is not None:
+            mean = "mean over the area" if circle else "mean normal stress"
             ax.axhline(pressure_kPa, color="black", linewidth=0.9, linestyle=":", zorder=3,
-                       label=f"mean normal stress = lower-bound pressure {pressure_kPa:.1f} kPa")
+                       label=f"{mean} = lower-bound pressure {pressure_kPa:.1f} kPa")
         design = case.footing.design_load
         if design is not None:
             vertical = design * math.cos(math.radians(case.footing.load_inclination)) / B
             ax.axhline(vertical, color="#4d4d4d", linewidth=0.9, linestyle="-.", zorder=3,
                        label=f"design load, vertical component / B = {vertical:.1f} kPa")
-        ax.set_xlim(-0.55 * B, 0.55 * B)
+        ax.set_xlim(-CHART_GUTTER * B if circle else -0.55 * B, 0.55 * B)
         top = max(float(np.nanmax(np.abs(np.concatenate([normal.ravel(), shear.ravel(), [1.0]])))), pressure_kPa or 0.0)
-        ax.set_ylim(min(0.0, float(np.nanmin(shear)) if shear.size else 0.0) - 0.05 * top, 1.45 * top)
-        ax.set_xlabel("x from the footing centre (m); dotted verticals: the footing's edges")
+        y_lo = min(0.0, float(np.nanmin(shear)) if shear.size else 0.0) - 0.05 * top
+        ax.set_ylim(y_lo, 1.45 * top)
+        if circle:
+            _draw_axis(ax, y_lo, 1.45 * top, side="left")  # in the gutter, clear of the curves
+            ax.set_xlabel("radius r from the axis of symmetry (m); dotted vertical: the footing's edge, r = B/2")
+        else:
+            ax.set_xlabel("x from the footing centre (m); dotted verticals: the footing's edges")
         ax.set_ylabel("stress on the base (kPa)")
         ax.legend(loc="upper center", ncols=2, fontsize=7, framealpha=0.95)
         ax.grid(True, color="#e0e0e0", linewidth=0.5)
         bound = f"lower bound {pressure_kPa:.1f} kPa" if pressure_kPa is not None else "lower bound withheld"
-        ax.set_title(f"Lower bound: stresses under the footing ({bound}; B = {B:g} m)", loc="left")
+        size = f"diameter B = {B:g} m" if circle else f"B = {B:g} m"
+        ax.set_title(_field_title("Lower bound: stresses under the footing", f"{bound}; {size}", circle), loc="left")
     return column.fig
 
 

@@ -638,6 +638,18 @@ FIGURE_CAPTIONS = {
     "contact": ("Lower bound: the normal and shear stresses along the footing base, from its stress field (one "
                 "admissible distribution at collapse, not the working contact pressure)."),
 }
+# a circular footing's pictures show the half section r >= 0 through its axis (solver.pictures)
+CIRCLE_FIGURE_CAPTIONS = {
+    "mechanism": ("Upper bound: the collapse mechanism in the half section r \u2265 0 through the circle's axis of "
+                  "symmetry (shear strain rate in the r-z plane, velocities, extent out to a radius)."),
+    "stress": ("Lower bound: the stress field in the half section r \u2265 0 through the circle's axis of symmetry "
+               "(yield utilisation with the hoop stress, principal stress directions in the r-z plane in the "
+               "plastic zone)."),
+    "contact": ("Lower bound: the normal and shear stresses along the footing base in the half section "
+                "r \u2265 0, from the axis (r = 0) to the edge (r = B/2), from its stress field (one admissible "
+                "distribution at collapse, not the working contact pressure; its mean over the circle's area is "
+                "the lower-bound pressure)."),
+}
 
 
 def model_caption(case: Case, mesh: str | None) -> str:
@@ -666,13 +678,17 @@ def model_caption(case: Case, mesh: str | None) -> str:
     parts.append("the footing with its " + (" and ".join(load) + " " if load else "") + "load")
     if mesh is not None:
         parts.append(f"the mesh of the {mesh} bound")
+    if f.shape == "circular":
+        return ("The model, in the half section r \u2265 0 through the circular footing's axis of symmetry (drawn "
+                "at r = 0): " + ", ".join(parts[:-1]) + ", and " + parts[-1] + ".")
     return "The model: " + ", ".join(parts[:-1]) + ", and " + parts[-1] + "."
 
 
 def _pictures(run: Run, images: dict[str, bytes]) -> str:
     if not images:
         return ""
-    captions = {**FIGURE_CAPTIONS, "model": model_caption(
+    figures = CIRCLE_FIGURE_CAPTIONS if run.case.footing.shape == "circular" else FIGURE_CAPTIONS
+    captions = {**figures, "model": model_caption(
         run.case, next((k for k in ("lower", "upper") if k in run.fields), None))}
     out = ['<h2>Pictures</h2>']
     for name in ("model", "mechanism", "stress", "contact"):
@@ -692,7 +708,8 @@ def _inputs(case: Case, d: dict) -> str:
     out = ['<h2>Inputs (restated from the case file)</h2>']
     side = "toward the slope (+x)" if g.slope_angle > 0 else "toward +x"
     out.append(_kv("Footing", [
-        ("width B", num(f.width, 3, "m")), ("base", esc(f.base)), ("embedment Df", num(f.embedment, 3, "m")),
+        ("diameter B" if f.shape == "circular" else "width B", num(f.width, 3, "m")), ("base", esc(f.base)),
+        ("embedment Df", num(f.embedment, 3, "m")),
         ("load inclination", num(f.load_inclination, 1, "degrees from vertical") + f", positive {esc(side)}"),
         ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
                                                                                "positive toward +x"),
@@ -872,12 +889,20 @@ def _statistics(d: dict, run: Run) -> str:
            num(timing.get("solve_wall_s"), 2, "s")),
           ("half domain by symmetry", "yes" if dom.get("half_domain_by_symmetry") else "no"),
           ("meshed width", num(dom.get("width_m"), 2, "m")), ("meshed depth", num(dom.get("depth_m"), 2, "m"))]
+    circle = run.case.footing.shape == "circular"
+    if circle:  # solved and drawn in the half section r >= 0: its width is a radius
+        kv[3:5] = [("meshed section", "the half section r &ge; 0 through the axis of symmetry (axisymmetric)"),
+                   ("meshed radius (from the axis)", num(dom.get("width_m"), 2, "m"))]
     if extra:
         B = d.get("footing_width_m") or 1.0
         from .pictures import MOVING_SPEED, moving_extent
 
         extent = moving_extent(run.fields.get("upper"), bool(dom.get("half_domain_by_symmetry")))
-        if extent is not None:  # measured on the velocity field: right for an asymmetric mechanism too
+        if extent is not None and circle:  # the picture frames it from the axis out to a radius
+            reach = extent[1]
+            width = (f"out to r = {num(reach, 2, 'm')} from the axis ({num(reach / B, 2)} B); "
+                     f"{num(2 * reach, 2, 'm')} ({num(2 * reach / B, 2)} B) across the circle")
+        elif extent is not None:  # measured on the velocity field: right for an asymmetric mechanism too
             x_lo, x_hi, _ = extent
             width = (f"{num(x_hi - x_lo, 2, 'm')} ({num((x_hi - x_lo) / B, 2)} B), x from {num(x_lo, 2, 'm')} "
                      f"to {num(x_hi, 2, 'm')}")

@@ -2,6 +2,7 @@
 literally, mirroring is right, files are PNG and SVG and the same on a rerun."""
 import doctest
 import itertools
+import re
 import xml.etree.ElementTree as ET
 
 import numpy as np
@@ -75,8 +76,9 @@ def test_doctests():
     assert doctest.testmod(solver.pictures).failed == 0
 
 
-def test_every_picture_draws_with_no_text_overlapping_or_off_the_page(layered_run):
-    case, data, fields = layered_run
+@pytest.mark.parametrize("run", ["layered_run", "circle_run"])
+def test_every_picture_draws_with_no_text_overlapping_or_off_the_page(run, request):
+    case, data, fields = request.getfixturevalue(run)
     figures = draw_all(case, data, fields)
     assert set(figures) == {"model", "mechanism", "stress", "contact"}
     for name, fig in figures.items():
@@ -482,3 +484,134 @@ def test_the_contact_stresses_carry_the_lower_bound_load(run, request):
     fig = draw_all(case, data, fields)["contact"]
     texts = " ".join(t.get_text() for t, _ in drawn_texts(fig))
     assert "normal stress" in texts and "shear stress" in texts and "(kPa)" in texts
+
+
+# -- a circular footing: the half section r >= 0 with its axis, never mirrored --------------
+
+# An invented tank on a crust over soft clay with a water table: every kind of line the
+# pictures draw beside the axis (interfaces, water, soil above the base).
+CIRCLE = {
+    "title": "Test: tank on a crust over soft clay",
+    "footing": {"width": 4.0, "shape": "circular", "embedment": 0.3},
+    "ground": {"water_table": 1.0},
+    "layers": [
+        {"name": "crust", "thickness": 1.5, "model": "tresca", "undrained_strength": 45.0, "unit_weight": 18.5},
+        {"name": "soft clay", "model": "tresca", "undrained_strength": 18.0, "strength_gradient": 2.0,
+         "unit_weight": 16.5},
+    ],
+    "analysis": {"elements": 400, "mesh": "fixed"},
+}
+
+
+@pytest.fixture(scope="module")
+def circle_run():
+    return solved(CIRCLE, "circle")
+
+
+def section_axes(fig):
+    """The axes of a picture along the section (the model's two views, a field's main view, the
+    contact chart): those whose x label measures from the centre or the axis (not a colour bar)."""
+    return [ax for ax in fig.axes if " from the " in ax.get_xlabel()]
+
+
+def axis_lines(ax):
+    """Lines drawn along x = 0 from the bottom of the view to its top (a circle's axis)."""
+    low, high = ax.get_ylim()
+    found = []
+    for line in ax.get_lines():
+        x, y = (np.asarray(v, dtype=float) for v in line.get_data())
+        if len(x) and np.all(x == 0.0) and y.min() <= low + 1e-9 and y.max() >= high - 1e-9:
+            found.append(line)
+    return found
+
+
+def test_circle_pictures_draw_the_half_section_from_the_axis(circle_run):
+    from matplotlib.patches import Rectangle
+
+    from solver.pictures import FOOTING_COLOUR
+    from solver.preview import preview_figure
+
+    case, data, fields = circle_run
+    B = case.footing.width
+    figures = draw_all(case, data, fields)
+    figures["preview"] = preview_figure(case)
+    for name, fig in figures.items():
+        axes = section_axes(fig)
+        assert axes, name
+        for ax in axes:
+            lo, hi = ax.get_xlim()
+            # the view starts at the axis: at most a narrow blank gutter left of r = 0 (before,
+            # the section was mirrored and the view ran from -hi to hi)
+            assert -0.07 * (hi - lo) <= lo <= 0.0, (name, lo, hi)
+            assert "radius r" in ax.get_xlabel(), name
+            lines = axis_lines(ax)
+            assert len(lines) == 1 and lines[0].get_linestyle() != "-", name  # one chain line, not solid
+            assert any("axis of symmetry" in t.get_text() for t in ax.texts), name  # named in words beside it
+            # nothing but the axis and the gutter lies left of r = 0
+            for line in ax.get_lines():
+                x = np.asarray(line.get_xdata(), dtype=float)
+                assert not len(x) or np.nanmin(x) >= -1e-9, name
+            for patch in ax.patches:
+                if isinstance(patch, Rectangle) and patch.get_facecolor()[:3] == \
+                        tuple(int(FOOTING_COLOUR[i:i + 2], 16) / 255 for i in (1, 3, 5)):
+                    assert patch.get_x() == 0.0 and patch.get_width() == pytest.approx(B / 2), name
+        titles = " ".join(ax.get_title(loc="left") for ax in fig.axes)
+        assert "half section r \u2265 0" in titles.lower(), name
+    # the fields themselves (shading, arrows, crosses) are drawn on r >= 0 only, up to the axis
+    from matplotlib.quiver import Quiver
+
+    for name in ("mechanism", "stress"):
+        ax = section_axes(figures[name])[0]
+        shading = [c for c in ax.collections if not isinstance(c, Quiver)]
+        arrows = [c for c in ax.collections if isinstance(c, Quiver)]
+        assert shading and arrows, name
+        left = min(float(np.nanmin(path.vertices[:, 0])) for c in shading for path in c.get_paths())
+        assert left == pytest.approx(0.0, abs=1e-9), name
+        assert min(float(c.get_offsets()[:, 0].min()) for c in arrows) > 0.0, name
+
+
+def test_circle_contact_stresses_carry_the_load_over_the_area(circle_run):
+    # along a radius from the axis to the edge; the normal stress times 2 pi r integrates to the
+    # lower bound's load (kN). Drawn straight between corner values while r sigma is quadratic
+    # along an edge, so the integral agrees closely, not exactly.
+    from solver.pictures import contact_stresses
+
+    case, data, fields = circle_run
+    B = case.footing.width
+    x, normal, _ = contact_stresses(fields["lower"], B, half=False)
+    assert x.min() == pytest.approx(0.0, abs=1e-12) and x.max() == pytest.approx(B / 2)
+    r0, r1 = x[:, 0], x[:, 1]
+    force = 2 * np.pi * ((r1 - r0) * (normal[:, 0] * (2 * r0 + r1) + normal[:, 1] * (r0 + 2 * r1)) / 6).sum()
+    assert force == pytest.approx(data["lower"]["load_kN"], rel=1e-2)
+    texts = " ".join(t.get_text() for t, _ in drawn_texts(draw_all(case, data, fields)["contact"]))
+    assert "toward +r" in texts and "over the area" in texts and "2\u03c0r" in texts
+
+
+def test_strip_pictures_still_show_the_whole_width(layered_run):
+    # a symmetric strip is solved on x >= 0 and mirrored: its views stay centred, with no axis
+    case, data, fields = layered_run
+    assert data["domain"]["half_domain_by_symmetry"]
+    for name, fig in draw_all(case, data, fields).items():
+        for ax in section_axes(fig):
+            lo, hi = ax.get_xlim()
+            assert lo == pytest.approx(-hi), name
+            assert ax.get_xlabel().startswith("x from the footing centre"), name
+            assert not axis_lines(ax) and not any("axis of symmetry" in t.get_text() for t in ax.texts), name
+
+
+def test_circle_report_and_export_say_what_the_pictures_show(circle_run, tmp_path):
+    import meshio
+
+    from solver.export import write_fields_vtu
+    from solver.report import Run, build_html
+
+    case, data, fields = circle_run
+    page = build_html(Run(out_dir=tmp_path, data=data, case=case, fields=fields),
+                      images={name: b"png" for name in ("model", "mechanism", "stress", "contact")})
+    captions = re.findall(r"<figcaption>(.*?)</figcaption>", page)
+    assert len(captions) == 4 and all("half section r \u2265 0" in c for c in captions)
+    reach = max(fields["upper"].points[np.hypot(*fields["upper"].arrays["velocity"].T) > 0.05, 0])
+    assert f"out to r = {reach:.2f}&#8201;m from the axis" in page and "x from -" not in page
+    # fields.vtu: the half section as solved, r >= 0, not mirrored
+    points = meshio.read(write_fields_vtu(fields["lower"], fields["upper"], tmp_path)).points
+    assert points[:, 0].min() == 0.0 and points[:, 0].max() == pytest.approx(data["domain"]["x_max_m"])
