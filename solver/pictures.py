@@ -1303,13 +1303,16 @@ def contact_figure(case: Case, domain: dict, lower: BoundFields, pressure_kPa: f
     """The lower bound's normal and shear stresses along the footing base (:func:`contact_stresses`),
     with their mean (the lower-bound pressure) and, when given, the design load's vertical pressure."""
     B = case.footing.width
+    strip = case.footing.shape == "strip"
     x, normal, shear = contact_stresses(lower, B, domain["half_domain_by_symmetry"])
+    # a circle's pressure is the mean over its area (weighted by the radius), not along a diameter
+    mean = "the mean of the normal stress over B" if strip else \
+        "drawn along a diameter, the normal stress's mean over the area pi B^2/4 (weighted by the radius)"
     caption = ("Along the footing base, from the lower bound's stress field: the normal stress (compression "
                "positive) and the shear stress on the soil (positive toward +x). Both are linear along each "
                "triangle's edge and may jump from one triangle to the next. They are one statically admissible "
                "distribution that carries the lower-bound collapse load, not the contact pressure under working "
-               "loads; the mean of the normal stress over B is the lower-bound pressure. The contact carries no "
-               "tension.")
+               f"loads; {mean} is the lower-bound pressure. The contact carries no tension.")
     if pore_pressure_kPa > 0:
         caption += f" Stresses are effective: the total normal stress adds the pore pressure {pore_pressure_kPa:.1f} kPa."
     lines = textwrap.wrap(caption, CAPTION_CHARS)
@@ -1327,12 +1330,15 @@ def contact_figure(case: Case, domain: dict, lower: BoundFields, pressure_kPa: f
                 label="shear stress on the soil (positive toward +x)")
         if pressure_kPa is not None:
             ax.axhline(pressure_kPa, color="black", linewidth=0.9, linestyle=":", zorder=3,
-                       label=f"mean normal stress = lower-bound pressure {pressure_kPa:.1f} kPa")
+                       label=f"{'mean normal stress' if strip else 'mean over the area'} = lower-bound pressure "
+                             f"{pressure_kPa:.1f} kPa")
         design = case.footing.design_load
         if design is not None:
-            vertical = design * math.cos(math.radians(case.footing.load_inclination)) / B
+            # a strip's line load over B; a circle's whole load (kN) over pi B^2/4
+            vertical = design * math.cos(math.radians(case.footing.load_inclination)) / case.footing.bearing_area
+            over = "vertical component / B" if strip else "over pi B^2/4"
             ax.axhline(vertical, color="#4d4d4d", linewidth=0.9, linestyle="-.", zorder=3,
-                       label=f"design load, vertical component / B = {vertical:.1f} kPa")
+                       label=f"design load {over} = {vertical:.1f} kPa")
         ax.set_xlim(-0.55 * B, 0.55 * B)
         top = max(float(np.nanmax(np.abs(np.concatenate([normal.ravel(), shear.ravel(), [1.0]])))), pressure_kPa or 0.0)
         ax.set_ylim(min(0.0, float(np.nanmin(shear)) if shear.size else 0.0) - 0.05 * top, 1.45 * top)
