@@ -259,6 +259,14 @@ def test_a_circles_design_load_is_its_whole_load_in_kN_a_strips_a_line_load_in_k
     assert with_factors.factors.undrained_strength == 1.4
 
 
+def test_the_silo_example_states_its_design_load_as_the_whole_load_in_kN():
+    silo = load_case(pathlib.Path(__file__).parent.parent / "examples" / "grain-silo.toml")
+    assert silo.footing.shape == "circular" and silo.footing.design_load == 9000.0
+    # its comment: 9,000 kN is 179 kPa over pi B^2/4 = 50.3 m^2
+    assert silo.footing.bearing_area == pytest.approx(50.27, abs=0.01)
+    assert silo.footing.design_load / silo.footing.bearing_area == pytest.approx(179.0, abs=0.05)
+
+
 def test_typo_message_suggests_the_key():
     with pytest.raises(CaseError) as info:
         load_case(BAD_CASES / "friction_angle_typo.toml")
