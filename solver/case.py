@@ -167,11 +167,19 @@ FOOTING_KEYS = {
                            "surcharge it, which this version does not model"),
     "load_inclination": Key(float, "degrees from vertical", gt=-90, lt=90, default=0.0),
     "eccentricity": Key(float, "m", default=0.0),
-    "design_load": Key(float, "kN/m", gt=0, le=1e6, default=None, above="; no strip footing carries that" + _UNITS),
+    # a strip's line load per m run; a circle's whole load is CIRCLE_FOOTING_KEYS' (kN)
+    "design_load": Key(float, "kN/m, the line load per m run of the strip", gt=0, le=1e6, default=None,
+                       above="; no strip footing carries that" + _UNITS),
     "shape": Key(str, choices=("strip", "circular"), default="strip"),  # circular: width = diameter
     # the factors of safety the design must reach (optional; checked against design_load)
     "required_factor_of_safety_on_load": Key(float, "collapse load / design load", ge=1, le=10, default=None),
     "required_factor_of_safety_on_strength": Key(float, "strength-reduction factor", ge=1, le=10, default=None),
+}
+# A circular footing's keys where they differ from a strip's: its design load is the whole
+# vertical load on the footing, in kN (10 MPa over the widest circle, 100 m, is 7.9e7 kN).
+CIRCLE_FOOTING_KEYS = {
+    "design_load": Key(float, "kN, the whole vertical load on the circular footing", gt=0, le=1e8, default=None,
+                       above="; no circular footing carries that" + _UNITS),
 }
 GROUND_KEYS = {
     "surcharge": Key(float, "kPa", ge=0, le=1e4, default=0.0, above="; that is the weight of 500 m of soil" + _UNITS),
@@ -282,12 +290,6 @@ NOT_WITH_CIRCLE = (
                                   "footing under a central vertical load only"),
     ("ground.slope_angle", 0.0, "0 (degrees) with shape = 'circular': a slope beside a circle is not "
                                 "axisymmetric"),
-    ("footing.design_load", None, "left out with shape = 'circular': this version gives factors of "
-                                  "safety for strip footings only"),
-    ("footing.required_factor_of_safety_on_load", None, "left out with shape = 'circular': this version "
-                                                         "gives factors of safety for strip footings only"),
-    ("footing.required_factor_of_safety_on_strength", None, "left out with shape = 'circular': this version "
-                                                             "gives factors of safety for strip footings only"),
     ("analysis.velocity_jumps", "none", "'none' with shape = 'circular': velocity jumps are built for "
                                         "strip footings only"),
 )
@@ -357,6 +359,18 @@ def _read_table(table: dict, schema: dict[str, Key], path: str,
             hint = spec.why_outside(table[key], width) or hint
             raise _not_allowed(where, table[key], spec.allowed_for(width), hint) from None
     return values
+
+
+def footing_schema(raw: dict) -> dict[str, Key]:
+    """The schema of a [footing] table by its ``shape`` (read and checked first): a circle's
+    design load is the whole load in kN (CIRCLE_FOOTING_KEYS), a strip's a line load in kN/m.
+
+    >>> footing_schema({"shape": "circular"})["design_load"].unit
+    'kN, the whole vertical load on the circular footing'
+    """
+    shape = _read_table({"shape": raw["shape"]} if "shape" in raw else {},
+                        {"shape": FOOTING_KEYS["shape"]}, "footing")["shape"]
+    return FOOTING_KEYS | CIRCLE_FOOTING_KEYS if shape == "circular" else FOOTING_KEYS
 
 
 def _read_layer(raw: Any, path: str, is_last: bool, width: float) -> Layer:
@@ -467,6 +481,8 @@ def parse_case(data: dict, *, name: str = "case", source_sha256: str = "",
         if raw is None and table in OPTIONAL_TABLES:
             parts[table] = None
             continue
+        if table == "footing":
+            schema = footing_schema(raw)
         # [footing] is read first; its own limits in widths once its width is known
         width = parts["footing"].width if "footing" in parts else _read_table(raw, schema, table)["width"]
         parts[table] = cls(**_read_table(raw or {}, schema, table, width=width))
@@ -555,9 +571,6 @@ def _check_circle(parts: dict) -> None:
         value = getattr(parts[table], field_name)
         if value != unset:
             raise _not_allowed(key, value, why)
-    if parts["factors"] is not None:
-        raise CaseError("factors: not allowed with shape = 'circular'; leave [factors] out: this "
-                        "version gives factors of safety for strip footings only")
 
 
 CIRCLE_DEEPEST_INTERFACE = 50  # footing widths below the base: deepest interface a circle's model holds
@@ -739,7 +752,7 @@ def case_to_dict(case: Case) -> dict:
         return {key: getattr(obj, key) for key in schema if getattr(obj, key) is not None}
 
     out: dict[str, Any] = {"title": case.title}
-    for table, (_, schema) in TABLES.items():
+    for table, (_, schema) in TABLES.items():  # the footing's keys are the same for both shapes
         if getattr(case, table) is not None:
             out[table] = keys_of(getattr(case, table), schema)
     if case.ground.slope_angle == 0:

@@ -313,18 +313,20 @@ def read_fields_vtu(path: Path) -> dict[str, BoundFields]:
 # -- summary.csv ------------------------------------------------------------------
 
 SUMMARY_COLUMNS = (
-    "case", "title", "footing_width_m",
+    "case", "title", "footing_shape", "footing_width_m",
     "lower_pressure_kPa", "upper_pressure_kPa", "gap_percent",
     "lower_vertical_load_kN_per_m", "upper_vertical_load_kN_per_m",
     "lower_resultant_load_kN_per_m", "upper_resultant_load_kN_per_m",
+    "lower_load_kN", "upper_load_kN",
     "lower_status", "upper_status",
-    "design_load_kN_per_m", "design_load_carried",
+    "design_load_kN_per_m", "design_load_kN", "design_pressure_kPa", "design_load_carried",
     "factor_of_safety_on_load_lower", "factor_of_safety_on_load_upper",
     "factor_of_safety_on_strength_lower", "factor_of_safety_on_strength_upper",
     "factor_of_safety_on_strength_solves", "factor_of_safety_on_strength_note",
     "required_factor_of_safety_on_load", "required_factor_of_safety_on_load_met",
     "required_factor_of_safety_on_strength", "required_factor_of_safety_on_strength_met",
     "design_action_kN_per_m", "design_resistance_lower_kN_per_m", "design_resistance_upper_kN_per_m",
+    "design_action_kN", "design_resistance_lower_kN", "design_resistance_upper_kN",
     "design_resistance_covers_action", "caveats", "input_warnings",
     "lower_elements", "upper_elements", "wall_time_s", "bounds_wall_time_s", "run_date", "software_version",
     "case_sha256",
@@ -335,31 +337,41 @@ def summary_row(data: dict) -> dict:
     """The one row of summary.csv from the result.json dict.
 
     Each column holds what its name says: ``*_pressure_kPa`` the vertical component of
-    the collapse load over B, ``*_vertical_load_kN_per_m`` that component,
-    ``*_resultant_load_kN_per_m`` the collapse load along the load's line of action (what
-    the design load is compared with); ``*_met`` columns hold met / not met / undecided.
+    the collapse load over B (a circle: over pi B^2/4), ``*_vertical_load_kN_per_m`` that
+    component, ``*_resultant_load_kN_per_m`` the collapse load along the load's line of
+    action (what the design load is compared with); ``*_met`` columns hold met / not met /
+    undecided. A column's unit is in its name and it never holds the other shape's: a
+    strip fills the ``*_kN_per_m`` columns (per m run), a circle the ``*_kN`` ones (the
+    whole footing); the others stay empty.
     """
     lower, upper = data.get("lower") or {}, data.get("upper") or {}
     fos = data.get("factor_of_safety") or {}
     load, strength = fos.get("on_load") or {}, fos.get("on_strength") or {}
     partial = fos.get("partial_factors") or {}
+    B, shape = data["footing_width_m"], data.get("footing_shape", "strip")
+    # result.json's load keys name their unit (a circle's end in _kN), so each lands in its own columns
     resistance = partial.get("design_resistance_kN_per_m") or {}
-    B = data["footing_width_m"]
+    resistance_kN = partial.get("design_resistance_kN") or {}
+
+    def vertical_per_m(bound: dict) -> float | None:  # a strip's only: B times a circle's pressure is no load
+        return None if bound.get("pressure_kPa") is None or shape != "strip" else bound["pressure_kPa"] * B
+
     checks = {check["check"]: check for check in fos.get("checks") or []}
     required = {kind: checks.get(f"required factor of safety on {kind}") or {} for kind in ("load", "strength")}
     reasons = strength.get("reason") or {}
     note = "; ".join(f"{kind}: {(strength.get('search') or {}).get(kind)}, {reasons[kind]}"
                      for kind in ("lower", "upper") if reasons.get(kind))
     return {
-        "case": data["case"]["name"], "title": data["title"], "footing_width_m": B,
+        "case": data["case"]["name"], "title": data["title"], "footing_shape": shape, "footing_width_m": B,
         "lower_pressure_kPa": lower.get("pressure_kPa"), "upper_pressure_kPa": upper.get("pressure_kPa"),
         "gap_percent": data.get("gap_percent"),
-        "lower_vertical_load_kN_per_m": None if lower.get("pressure_kPa") is None else lower["pressure_kPa"] * B,
-        "upper_vertical_load_kN_per_m": None if upper.get("pressure_kPa") is None else upper["pressure_kPa"] * B,
+        "lower_vertical_load_kN_per_m": vertical_per_m(lower), "upper_vertical_load_kN_per_m": vertical_per_m(upper),
         "lower_resultant_load_kN_per_m": lower.get("load_kN_per_m"),
         "upper_resultant_load_kN_per_m": upper.get("load_kN_per_m"),
+        "lower_load_kN": lower.get("load_kN"), "upper_load_kN": upper.get("load_kN"),
         "lower_status": lower.get("status", "not asked for"), "upper_status": upper.get("status", "not asked for"),
-        "design_load_kN_per_m": fos.get("design_load_kN_per_m"),
+        "design_load_kN_per_m": fos.get("design_load_kN_per_m"), "design_load_kN": fos.get("design_load_kN"),
+        "design_pressure_kPa": fos.get("design_pressure_kPa"),
         "design_load_carried": (checks.get("design load carried") or {}).get("outcome"),
         "factor_of_safety_on_load_lower": load.get("lower"), "factor_of_safety_on_load_upper": load.get("upper"),
         "factor_of_safety_on_strength_lower": strength.get("lower"),
@@ -370,9 +382,10 @@ def summary_row(data: dict) -> dict:
         "required_factor_of_safety_on_load_met": required["load"].get("outcome"),
         "required_factor_of_safety_on_strength": required["strength"].get("required"),
         "required_factor_of_safety_on_strength_met": required["strength"].get("outcome"),
-        "design_action_kN_per_m": partial.get("action_kN_per_m"),
+        "design_action_kN_per_m": partial.get("action_kN_per_m"), "design_action_kN": partial.get("action_kN"),
         "design_resistance_lower_kN_per_m": resistance.get("lower"),
         "design_resistance_upper_kN_per_m": resistance.get("upper"),
+        "design_resistance_lower_kN": resistance_kN.get("lower"), "design_resistance_upper_kN": resistance_kN.get("upper"),
         "design_resistance_covers_action": {True: "yes", False: "no"}.get(partial.get("covered"),
                                                                            "" if not partial else "undecided"),
         "caveats": "; ".join(data.get("caveats") or []) or None,

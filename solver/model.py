@@ -91,7 +91,9 @@ class Footing:
     embedment: float = 0.0  # m, Df
     load_inclination: float = 0.0  # degrees from vertical, toward +x
     eccentricity: float = 0.0  # m from the footing centre, toward +x
-    design_load: float | None = None  # kN/m, the line load to check (optional)
+    # the load to check (optional): a strip's line load in kN/m (per m run), along the load's line
+    # of action; a circle's whole vertical load in kN (result.load_unit)
+    design_load: float | None = None
     required_factor_of_safety_on_load: float | None = None  # collapse load / design load the design needs
     required_factor_of_safety_on_strength: float | None = None  # strength-reduction factor the design needs
     shape: str = "strip"  # "strip" (plane strain) | "circular" (axisymmetric, width = diameter)

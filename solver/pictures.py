@@ -1462,9 +1462,11 @@ def contact_figure(case: Case, domain: dict, lower: BoundFields, pressure_kPa: f
                        label=f"{mean} = lower-bound pressure {pressure_kPa:.1f} kPa")
         design = case.footing.design_load
         if design is not None:
-            vertical = design * math.cos(math.radians(case.footing.load_inclination)) / B
+            # a strip's line load over B; a circle's whole load (kN) over pi B^2/4
+            vertical = design * math.cos(math.radians(case.footing.load_inclination)) / case.footing.bearing_area
+            over = "over pi B^2/4" if circle else "vertical component / B"
             ax.axhline(vertical, color="#4d4d4d", linewidth=0.9, linestyle="-.", zorder=3,
-                       label=f"design load, vertical component / B = {vertical:.1f} kPa")
+                       label=f"design load {over} = {vertical:.1f} kPa")
         ax.set_xlim(-CHART_GUTTER * B if circle else -0.55 * B, 0.55 * B)
         top = max(float(np.nanmax(np.abs(np.concatenate([normal.ravel(), shear.ravel(), [1.0]])))), pressure_kPa or 0.0)
         y_lo = min(0.0, float(np.nanmin(shear)) if shear.size else 0.0) - 0.05 * top

@@ -26,6 +26,9 @@ UNIT_WEIGHT_RANGE = (10.0, 24.0)  # kN/m^3: peat at the low end, dense gravel at
 WIDTH_RANGE_M = (0.2, 30.0)  # strip footings: narrower or wider is unusual (a width in mm?)
 EMBEDMENT_WIDTHS = 2.0  # Df/B above this: the soil above the base is still counted only as a surcharge
 INCLINATION_HIGH_DEG = 45.0  # a load more than this from vertical is mostly horizontal
+# a footing's design load is tens to hundreds of kPa over its area (common practice); a circle's
+# design_load under this over pi B^2/4 was probably typed as a pressure, not as the whole load in kN
+CIRCLE_DESIGN_PRESSURE_LOW_KPA = 10.0
 
 
 def input_warnings(case: Case) -> list[str]:
@@ -97,4 +100,10 @@ def input_warnings(case: Case) -> list[str]:
         out.append(f"footing.load_inclination = {f.load_inclination:g} degrees from vertical is a mostly "
                    f"horizontal load; if it was measured from the horizontal, the value from vertical is "
                    f"{90 - abs(f.load_inclination):g}")
+    if f.shape == "circular" and f.design_load is not None \
+            and f.design_load / f.bearing_area < CIRCLE_DESIGN_PRESSURE_LOW_KPA:
+        out.append(f"footing.design_load = {f.design_load:g} kN is only {f.design_load / f.bearing_area:.3g} kPa "
+                   f"over the circle's area pi B^2/4 = {f.bearing_area:.4g} m^2: a circle's design load is the whole "
+                   f"vertical load in kN, not a pressure; if {f.design_load:g} kPa was meant, the load is "
+                   f"{f.design_load * f.bearing_area:.5g} kN")
     return out

@@ -22,7 +22,8 @@ from .case import CaseError, shown
 from .export import (CASE_COPY, FIELDS_FILE, BoundFields, bound_fields, read_fields_vtu, read_regular_bytes,
                      save_case_copy, save_site_copy, write_bytes_atomic, write_fields_vtu, write_summary_csv)
 from .model import Case
-from .result import CAUTION, WallClock, caveats, figure, refinement_line, wall_time_line, write_result
+from .result import (CAUTION, WallClock, caveats, design_load_of, figure, refinement_line, wall_time_line,
+                     write_result)
 
 REPORT_FILE = "report.html"
 
@@ -361,8 +362,11 @@ def _result_box(d: dict, case: Case, limits: list[str]) -> str:
         sides = [f"{kind} bound {num(b.get('pressure_kPa'))} kPa" for kind, b in (("lower", lower), ("upper", upper))
                  if b.get("pressure_kPa") is not None]
         head = "<strong>No complete bracket.</strong> " + (esc("; ".join(sides)) if sides else "No bound certified.")
-    checks = ((d.get("factor_of_safety") or {}).get("checks") or [])
-    verdicts = "".join(f'<p class="verdict">{esc(c.get("verdict"))}</p>' for c in checks)
+    fos = d.get("factor_of_safety") or {}
+    checks = fos.get("checks") or []
+    design = _design_load_text(d, case)
+    verdicts = (f"<br>Design load {design}" if design else "") + \
+        "".join(f'<p class="verdict">{esc(c.get("verdict"))}</p>' for c in checks)
     if limits:
         right = (f"<strong>Read before using these numbers ({len(limits)}):</strong><ul>"
                  + "".join(f"<li>{esc(c)}</li>" for c in limits) + "</ul>")
@@ -424,6 +428,27 @@ def _footing_measure(d: dict) -> tuple[float, str, str]:
     if d.get("footing_shape", "strip") == "strip":
         return B, "kN/m", f"B = {num(B, 2)} m"
     return math.pi * B ** 2 / 4, "kN", f"diameter {num(B, 2)} m"
+
+
+def _design_load_text(d: dict, case: Case) -> str:
+    """The design load as the report states it (HTML), '' when none: a strip's in kN/m, a
+    circle's as the whole load in kN and as the pressure over pi B^2/4, so that neither is
+    read in the other's unit."""
+    fos = d.get("factor_of_safety") or {}
+    design, unit, _ = design_load_of(fos)
+    if design is None:
+        return ""
+    pressure = fos.get("design_pressure_kPa")
+    if pressure is None:  # result.json of an earlier version: a strip's, vertical component / B
+        pressure = design * math.cos(math.radians(case.footing.load_inclination)) / d["footing_width_m"]
+    if unit == "kN/m":
+        slant = (f", along the load's line of action ({num(case.footing.load_inclination, 1, 'degrees')} from "
+                 "vertical)" if case.footing.load_inclination else "")
+        return (f"<strong>{num(design)} kN/m</strong> per m run of the strip{slant}: "
+                f"{num(pressure)} kPa vertical pressure over B = {num(d['footing_width_m'], 2, 'm')}")
+    area, _, size = _footing_measure(d)
+    return (f"<strong>{num(design)} kN</strong>, the whole vertical load on the circular footing ({size}): "
+            f"<strong>{num(pressure)} kPa</strong> over its area &pi; B&sup2;/4 = {num(area, 2, 'm²')}")
 
 
 def _bracket(d: dict, case: Case) -> str:
@@ -497,17 +522,13 @@ def _safety(d: dict, case: Case) -> str:
     if not fos:
         return "<h2>Factor of safety</h2><p>result.json holds no factor of safety for this run.</p>"
     out = ["<h2>Factor of safety</h2>"]
-    design = fos.get("design_load_kN_per_m")
+    design, unit, suffix = design_load_of(fos)
     if design is not None:
         # result.json of an earlier version named them "load" and "strength"
         load = fos.get("on_load", fos.get("load")) or {}
         strength = fos.get("on_strength", fos.get("strength")) or {}
-        vertical = design * math.cos(math.radians(case.footing.load_inclination))
-        slant = (f", along the load's line of action ({num(case.footing.load_inclination, 1, 'degrees')} from "
-                 f"vertical); its vertical component is {num(vertical)} kN/m"
-                 if case.footing.load_inclination else "")
-        out.append(f"<p>Design load: <strong>{num(design)} kN/m</strong>{slant} "
-                   f"({num(vertical / d['footing_width_m'])} kPa vertical pressure under the footing).</p>")
+        out.append(f"<p>Design load: {_design_load_text(d, case)}. Every load on this page is in "
+                   f"{esc(unit)}{' (per m run)' if unit == 'kN/m' else ' (the whole footing)'}.</p>")
         search = strength.get("search") or {}
 
         def value(kind: str) -> str:
@@ -543,14 +564,15 @@ def _safety(d: dict, case: Case) -> str:
         evaluations = strength.get("evaluations") or {}
         if evaluations:
             rows = "".join(f"<tr><td>{esc(kind)}</td><td class='n'>{num(e.get('F'), 4)}</td>"
-                           f"<td class='n'>{num(e.get('load_kN_per_m'))}</td><td>{esc(e.get('status'))}</td></tr>"
+                           f"<td class='n'>{num(e.get(f'load_{suffix}'))}</td><td>{esc(e.get('status'))}</td></tr>"
                            for kind, items in evaluations.items() for e in items)
             out.append("<h3>Strength-reduction solves</h3><table><thead><tr><th>bound</th><th>F</th>"
-                       "<th>collapse load (kN/m)</th><th>status</th></tr></thead>" + rows + "</table>")
+                       f"<th>collapse load ({esc(unit)})</th><th>status</th></tr></thead>" + rows + "</table>")
     partial = fos.get("partial_factors")
     if partial:
         f = partial["factors"]
-        res, col = partial.get("design_resistance_kN_per_m", {}), partial.get("design_strength_collapse_kN_per_m", {})
+        res = partial.get(f"design_resistance_{suffix}", {})
+        col = partial.get(f"design_strength_collapse_{suffix}", {})
         out.append("<h3>Partial factors (the user's design approach)</h3>")
         out.append(_kv(None, [
             ("on tan &phi;&prime; (friction)", num(f.get("friction"), 2)),
@@ -558,10 +580,11 @@ def _safety(d: dict, case: Case) -> str:
             ("on su (undrained_strength)", num(f.get("undrained_strength"), 2)),
             ("partial factor on the action (load)", num(f.get("load"), 2)),
             ("on the resistance (resistance)", num(f.get("resistance"), 2)),
-            ("design action E<sub>d</sub> = partial factor on the action &times; design load", num(partial.get("action_kN_per_m"), 1, "kN/m")),
-            ("collapse load with design strengths", f"{num(col.get('lower'))} to {num(col.get('upper'))} kN/m"),
+            ("design action E<sub>d</sub> = partial factor on the action &times; design load",
+             num(partial.get(f"action_{suffix}"), 1, unit)),
+            ("collapse load with design strengths", f"{num(col.get('lower'))} to {num(col.get('upper'))} {esc(unit)}"),
             ("design resistance R<sub>d</sub> = that / resistance factor",
-             f"{num(res.get('lower'))} to {num(res.get('upper'))} kN/m"),
+             f"{num(res.get('lower'))} to {num(res.get('upper'))} {esc(unit)}"),
         ]))
         out.append(f'<p class="verdict">{esc(partial.get("verdict"))}</p>')
         out.append('<p class="small">Factor names as in EN 1997-1; the values are the user\'s and no design '
@@ -707,14 +730,18 @@ def _inputs(case: Case, d: dict) -> str:
     dom = d.get("domain") or {}
     out = ['<h2>Inputs (restated from the case file)</h2>']
     side = "toward the slope (+x)" if g.slope_angle > 0 else "toward +x"
-    out.append(_kv("Footing", [
+    shape = [] if f.shape == "strip" else [("shape", "circular (axisymmetric): B is its diameter, its loads "
+                                                     "are the whole footing's, in kN")]
+    out.append(_kv("Footing", shape + [
         ("diameter B" if f.shape == "circular" else "width B", num(f.width, 3, "m")), ("base", esc(f.base)),
         ("embedment Df", num(f.embedment, 3, "m")),
         ("load inclination", num(f.load_inclination, 1, "degrees from vertical") + f", positive {esc(side)}"),
         ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
                                                                                "positive toward +x"),
-        ("design load (along the load's line of action)",
-         num(f.design_load, 1, "kN/m") if f.design_load is not None else "not given"),
+        ("design load (along the load's line of action)" if f.shape == "strip" else
+         "design load (the whole vertical load on the circular footing)",
+         "not given" if f.design_load is None else num(f.design_load, 1, "kN/m") if f.shape == "strip" else
+         num(f.design_load, 1, "kN") + f" ({num(f.design_load / f.bearing_area, 1, 'kPa')} over &pi; B&sup2;/4)"),
         ("required factor of safety on load", num(f.required_factor_of_safety_on_load, 2)
          if f.required_factor_of_safety_on_load is not None else "not given"),
         ("required factor of safety on strength", num(f.required_factor_of_safety_on_strength, 2)

@@ -29,6 +29,35 @@ def figure(value: float, decimals: int = 1, thousands: bool = False) -> str:
     return f"{value:.3e}" if math.isfinite(value) else str(value)
 
 
+# A footing's loads: a strip's per m run (kN/m, keys ending in _kN_per_m), a circle's the whole
+# footing's (kN, keys ending in _kN). The same key never holds the other unit.
+LOAD_UNITS = {"strip": ("kN/m", "kN_per_m"), "circular": ("kN", "kN")}
+
+
+def load_unit(shape: str) -> tuple[str, str]:
+    """The unit of a footing's loads and the suffix of the keys holding them.
+
+    >>> load_unit("strip"), load_unit("circular")
+    (('kN/m', 'kN_per_m'), ('kN', 'kN'))
+    """
+    return LOAD_UNITS[shape]
+
+
+def design_load_of(fos: dict) -> tuple[float | None, str, str]:
+    """The design load in result.json's ``factor_of_safety``, its unit and its keys' suffix
+    (``design_load_kN_per_m`` for a strip, ``design_load_kN`` for a circle).
+
+    >>> design_load_of({"design_load_kN": 2000.0})
+    (2000.0, 'kN', 'kN')
+    >>> design_load_of({"design_load_kN_per_m": None})
+    (None, 'kN/m', 'kN_per_m')
+    """
+    for unit, suffix in LOAD_UNITS.values():
+        if f"design_load_{suffix}" in fos:
+            return fos[f"design_load_{suffix}"], unit, suffix
+    return None, *LOAD_UNITS["strip"]
+
+
 # The soil counts as moving faster than this fraction of the footing's velocity along the load: the
 # mechanism's stated extent (result.json) and its frame and arrows in the pictures use the same value.
 MOVING_SPEED_FRACTION = 0.05
@@ -99,7 +128,7 @@ class Result:
 
     @property
     def load_unit(self) -> str:
-        return "kN/m" if self.footing_shape == "strip" else "kN"
+        return load_unit(self.footing_shape)[0]
 
     @property
     def gap_percent(self) -> float | None:

@@ -5,8 +5,13 @@ and the README (the partial factor on the action is never called a "load
 factor", so that the two are never confused):
 
 * **Factor of safety on load** (``on_load``): collapse load over design load.
-  The bracket of the collapse load divided by ``[footing] design_load`` (kN/m,
-  along the load's line of action, as the bounds' ``load_kN_per_m``) brackets it.
+  The bracket of the collapse load divided by ``[footing] design_load`` brackets
+  it. Units (``result.load_unit``): a strip's design load is a line load in kN/m
+  (per m run, along the load's line of action, as the bounds' ``load_kN_per_m``);
+  a circle's is the whole vertical load on the footing in kN (as the bounds'
+  ``load_kN``). Every key holding a load says its unit (``design_load_kN_per_m``
+  or ``design_load_kN``, and so on), and ``design_pressure_kPa`` gives the
+  design load's vertical component over the footing's area (B, or pi B^2/4).
 * **Factor of safety on strength** (``on_strength``, the strength-reduction
   factor F): the factor by which the strength of every layer must be divided
   (c' and tan(phi') for Mohr-Coulomb, su and its gradient for Tresca) for the
@@ -40,7 +45,7 @@ from dataclasses import replace
 from typing import Any, Callable
 
 from .model import Case, Factors, Layer
-from .result import figure
+from .result import design_load_of, figure, load_unit
 
 STRENGTH_TOLERANCE = 0.01  # stop when the bracket of the root has hi/lo <= 1 + this (relative width)
 F_RANGE = (0.05, 20.0)  # strength-reduction factors searched; outside it the factor is reported as beyond
@@ -80,16 +85,15 @@ def design_strength_case(case: Case, factors: Factors) -> Case:
     return replace(case, layers=layers)
 
 
-def factor_on_load(lower_kN_per_m: float | None, upper_kN_per_m: float | None,
-                design_load_kN_per_m: float) -> dict:
+def factor_on_load(lower: float | None, upper: float | None, design_load: float) -> dict:
     """The factor of safety on load: the bracket of collapse load / design load (None where a
-    bound is not certified).
+    bound is not certified); all three loads in one unit (kN/m for a strip, kN for a circle).
 
     >>> factor_on_load(300.0, 330.0, 150.0)
     {'lower': 2.0, 'upper': 2.2}
     """
-    return {"lower": None if lower_kN_per_m is None else lower_kN_per_m / design_load_kN_per_m,
-            "upper": None if upper_kN_per_m is None else upper_kN_per_m / design_load_kN_per_m}
+    return {"lower": None if lower is None else lower / design_load,
+            "upper": None if upper is None else upper / design_load}
 
 
 Solver = Callable[[Case, str], Any]  # (case, "lower" | "upper") -> BoundResult
@@ -98,7 +102,7 @@ Solver = Callable[[Case, str], Any]  # (case, "lower" | "upper") -> BoundResult
 def search_strength(kind: str, case: Case, design_load: float, load_at_1: float | None,
                     solve: Solver, tolerance: float = STRENGTH_TOLERANCE,
                     progress: Callable[[str], None] | None = None,
-                    starting: Callable[[str, str], None] | None = None) -> dict:
+                    starting: Callable[[str, str], None] | None = None, shape: str = "strip") -> dict:
     """Bracket the factor of safety on strength F with one bound: secant estimates, then bisection.
 
     Parameters
@@ -107,12 +111,13 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
     case : Case
         The case at F = 1.
     design_load : float
-        kN/m.
+        kN/m for a strip, kN for a circle (``shape``).
     load_at_1 : float or None
-        The certified collapse load of this bound at F = 1 (kN/m), from the main run;
+        The certified collapse load of this bound at F = 1 (same unit), from the main run;
         None when it was withheld (then nothing is proven and nothing is solved).
     solve : callable
-        ``solve(case_F, kind)`` returns a BoundResult (``load_kN_per_m`` None when withheld).
+        ``solve(case_F, kind)`` returns a BoundResult (``load_kN_per_m``, a circle's
+        ``load_kN``, None when withheld).
     progress, starting : callable, optional
         ``progress(line)`` after each solve, with its outcome; ``starting(kind, "F = ...")``
         before it (a terminal shows what runs meanwhile).
@@ -126,7 +131,8 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         says why); ``search``: "found" (the bracket of the root closed to the tolerance, or
         the root lies beyond F_RANGE), "incomplete" (a value, but a withheld solve kept the
         bracket open: ``reason``) or "not found"; ``beyond``: ">=" or "<=" when the root
-        lies outside F_RANGE; ``solves``; ``evaluations``: every F tried; ``notes``.
+        lies outside F_RANGE; ``solves``; ``evaluations``: every F tried, its load under
+        ``load_kN_per_m`` (a circle's ``load_kN``); ``notes``.
 
     A withheld solve at some F proves nothing at that F, so it is never used; the search
     goes on between the nearest proven F and the withheld one (a wall it does not try
@@ -134,11 +140,12 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
     """
     evaluations: list[dict] = []
     notes: list[str] = []
+    unit, suffix = load_unit(shape)
     if load_at_1 is None:
         reason = f"the {kind} bound at F = 1 was withheld, so no factor of safety on strength is taken from it"
         return {"value": None, "search": "not found", "reason": reason, "solves": 0,
                 "evaluations": evaluations, "notes": [reason]}
-    evaluations.append({"F": 1.0, "load_kN_per_m": load_at_1, "status": "from the main run"})
+    evaluations.append({"F": 1.0, f"load_{suffix}": load_at_1, "status": "from the main run"})
 
     def proves(load: float) -> bool:  # does this certified load prove something about F_true at its F?
         return load >= design_load if kind == "lower" else load <= design_load
@@ -155,10 +162,10 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
         if starting:
             starting(kind, f"F = {F:.4f}")
         bound = solve(reduce_strength(case, F), kind)
-        load = bound.load_kN_per_m
-        evaluations.append({"F": F, "load_kN_per_m": load, "status": bound.status})
+        load = getattr(bound, f"load_{suffix}")
+        evaluations.append({"F": F, f"load_{suffix}": load, "status": bound.status})
         if progress:
-            text = "withheld" if load is None else f"{figure(load)} kN/m"
+            text = "withheld" if load is None else f"{figure(load)} {unit}"
             progress(f"strength reduction, {kind} bound at F = {F:.4f}: {text}")
         if load is None:
             failed.append(F)
@@ -237,7 +244,7 @@ def search_strength(kind: str, case: Case, design_load: float, load_at_1: float 
             new_width = math.log(hi / lo)
             slow = slow + 1 if width is not None and new_width > 0.5 * width else 0
             width = new_width
-    proven = [e["F"] for e in evaluations if e["load_kN_per_m"] is not None and proves(e["load_kN_per_m"])]
+    proven = [e["F"] for e in evaluations if e[f"load_{suffix}"] is not None and proves(e[f"load_{suffix}"])]
     value = (max(proven) if kind == "lower" else min(proven)) if proven else None
     beyond, reason = None, None
     if not failed and kind == "lower" and hi is None:
@@ -315,10 +322,11 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     -------
     dict or None
         None when the case gives neither ``design_load`` nor ``[factors]``; else
-        ``{"design_load_kN_per_m", "on_load", "on_strength", "checks", "partial_factors"}``
-        (those that apply).
+        ``{"design_load_kN_per_m" (a circle: "design_load_kN"), "load_unit", "design_pressure_kPa",
+        "on_load", "on_strength", "checks", "partial_factors"}`` (those that apply).
     """
     design_load = case.footing.design_load
+    unit, suffix = load_unit(case.footing.shape)
     if design_load is None and case.factors is None:
         return None
     if solve is None:
@@ -331,10 +339,11 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
             return getattr(analyse(case_F, bounds=kind, elements=size, backend=backend, adaptive=False), kind)
 
     start = time.perf_counter()
-    lo1 = result.lower.load_kN_per_m if result.lower else None
-    up1 = result.upper.load_kN_per_m if result.upper else None
-    out: dict = {"design_load_kN_per_m": design_load}
+    lo1 = getattr(result.lower, f"load_{suffix}") if result.lower else None
+    up1 = getattr(result.upper, f"load_{suffix}") if result.upper else None
+    out: dict = {f"design_load_{suffix}": design_load, "load_unit": unit}
     if design_load is not None:
+        out["design_pressure_kPa"] = design_pressure(case)
         out["on_load"] = factor_on_load(lo1, up1, design_load)
         strength = {"lower": None, "upper": None, "solves": 0, "tolerance": tolerance,
                     "method": "each bound separately: estimates aimed at the root (the factor of safety on "
@@ -347,7 +356,7 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
             from .analysis import two_cores_free
             parallel = two_cores_free()
         found_by_kind = _run_each(lambda k, load: search_strength(k, case, design_load, load, solve, tolerance,
-                                                                  progress, starting),
+                                                                  progress, starting, case.footing.shape),
                                   asked, parallel and len(asked) > 1)
         for kind in ("lower", "upper"):
             if kind not in found_by_kind:
@@ -377,16 +386,48 @@ def factor_of_safety(case: Case, result, *, elements: int | None = None, backend
     return out
 
 
+def design_pressure(case: Case) -> float:
+    """The design load's vertical component over the footing's area (kPa): over B for a
+    strip (kN/m over m), over pi B^2/4 for a circle (kN over m^2).
+
+    >>> from types import SimpleNamespace as NS
+    >>> round(design_pressure(NS(footing=NS(design_load=1000.0, load_inclination=0.0, bearing_area=12.5))), 3)
+    80.0
+    """
+    f = case.footing
+    return f.design_load * math.cos(math.radians(f.load_inclination)) / f.bearing_area
+
+
+def design_load_words(case: Case) -> str:
+    """The design load with its unit, as the verdicts say it: a circle's with its pressure
+    over the footing's area, so that kN is never read as kN/m or kPa.
+
+    >>> from types import SimpleNamespace as NS
+    >>> design_load_words(NS(footing=NS(design_load=150.0)))
+    '150.0 kN/m'
+    >>> circle = NS(design_load=2000.0, shape="circular", width=5.0, load_inclination=0.0, bearing_area=19.635)
+    >>> design_load_words(NS(footing=circle))
+    '2000.0 kN (the whole vertical load: 101.9 kPa over the area pi B^2/4 = 19.64 m^2)'
+    """
+    f = case.footing
+    if getattr(f, "shape", "strip") == "strip":
+        return f"{figure(f.design_load)} kN/m"
+    return (f"{figure(f.design_load)} kN (the whole vertical load: {figure(design_pressure(case))} kPa over the "
+            f"area pi B^2/4 = {figure(f.bearing_area, 2)} m^2)")
+
+
 def _verdict(check: str, outcome: str, text: str, **more) -> dict:
     return {"check": check, **more, "outcome": outcome, "verdict": text}
 
 
-def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: float | None,
+def safety_checks(case: Case, lower: float | None, upper: float | None,
                   on_load: dict, on_strength: dict) -> list[dict]:
     """Verdict lines: is the design load carried, and are the required factors of safety met?
 
-    Each is ``{"check", "outcome", "verdict"}`` with outcome "met", "not met" or "undecided"
-    (the bracket cannot tell); "met" is proven by a lower bound, "not met" by an upper bound.
+    ``lower``, ``upper``: the certified collapse loads, in the design load's unit (kN/m for a
+    strip, kN for a circle). Each verdict is ``{"check", "outcome", "verdict"}`` with outcome
+    "met", "not met" or "undecided" (the bracket cannot tell); "met" is proven by a lower
+    bound, "not met" by an upper bound.
 
     >>> from types import SimpleNamespace as NS
     >>> case = NS(footing=NS(design_load=120.0, required_factor_of_safety_on_load=None,
@@ -395,21 +436,22 @@ def safety_checks(case: Case, lower_kN_per_m: float | None, upper_kN_per_m: floa
     'not met'
     """
     P = case.footing.design_load
+    unit = load_unit(getattr(case.footing, "shape", "strip"))[0]
     along = " (along the load's line of action)" if getattr(case.footing, "load_inclination", 0.0) else ""
     checks = []
-    if lower_kN_per_m is not None and lower_kN_per_m >= P:
+    if lower is not None and lower >= P:
         checks.append(_verdict("design load carried", "met",
-                               f"the design load {figure(P)} kN/m is carried: the lower bound of the collapse "
-                               f"load{along}, {figure(lower_kN_per_m)} kN/m, is above it"))
-    elif upper_kN_per_m is not None and upper_kN_per_m < P:
+                               f"the design load {design_load_words(case)} is carried: the lower bound of the "
+                               f"collapse load{along}, {figure(lower)} {unit}, is above it"))
+    elif upper is not None and upper < P:
         checks.append(_verdict("design load carried", "not met",
-                               f"the design load {figure(P)} kN/m is ABOVE the collapse load: the upper bound{along}, "
-                               f"{figure(upper_kN_per_m)} kN/m, is below it, so the footing collapses under "
-                               f"the design load (factor of safety on load at most {figure(upper_kN_per_m / P, 3)})"))
-    elif lower_kN_per_m is not None and upper_kN_per_m is not None:
+                               f"the design load {design_load_words(case)} is ABOVE the collapse load: the upper "
+                               f"bound{along}, {figure(upper)} {unit}, is below it, so the footing collapses under "
+                               f"the design load (factor of safety on load at most {figure(upper / P, 3)})"))
+    elif lower is not None and upper is not None:
         checks.append(_verdict("design load carried", "undecided",
-                               f"the design load {figure(P)} kN/m lies inside the collapse bracket{along} "
-                               f"[{figure(lower_kN_per_m)}, {figure(upper_kN_per_m)}] kN/m: the footing is at "
+                               f"the design load {design_load_words(case)} lies inside the collapse bracket{along} "
+                               f"[{figure(lower)}, {figure(upper)}] {unit}: the footing is at "
                                "collapse under it, and the bracket cannot tell whether it is carried"))
     else:
         checks.append(_verdict("design load carried", "undecided",
@@ -456,6 +498,7 @@ def partial_factor_check(case: Case, result, design_load: float | None, solve: S
     E_d = partial factor on the action * design_load. Proven covered when the lower bound of R_d >= E_d,
     proven not covered when the upper bound of R_d < E_d; otherwise undecided."""
     factors = case.factors
+    unit, suffix = load_unit(case.footing.shape)
     unfactored = all(getattr(factors, k) == 1.0 for k in ("friction", "cohesion", "undrained_strength"))
     design_case = design_strength_case(case, factors)
     loads, statuses, solves = {}, {}, 0
@@ -465,11 +508,11 @@ def partial_factor_check(case: Case, result, design_load: float | None, solve: S
             loads[kind], statuses[kind] = None, "not asked for"
             continue
         if unfactored:  # design strengths equal the characteristic ones: reuse the main run
-            loads[kind], statuses[kind] = bound.load_kN_per_m, bound.status
+            loads[kind], statuses[kind] = getattr(bound, f"load_{suffix}"), bound.status
         else:
             solves += 1
             design = solve(design_case, kind)
-            loads[kind], statuses[kind] = design.load_kN_per_m, design.status
+            loads[kind], statuses[kind] = getattr(design, f"load_{suffix}"), design.status
     resistance = {k: None if v is None else v / factors.resistance for k, v in loads.items()}
     action = None if design_load is None else design_load * factors.load
     if action is None:
@@ -487,9 +530,9 @@ def partial_factor_check(case: Case, result, design_load: float | None, solve: S
                                   "a finer mesh narrows the bracket")
     return {"factors": {k: getattr(factors, k) for k in ("friction", "cohesion", "undrained_strength",
                                                           "load", "resistance")},
-            "action_kN_per_m": action,
-            "design_strength_collapse_kN_per_m": loads, "status": statuses,
-            "design_resistance_kN_per_m": resistance, "covered": covered, "verdict": verdict,
+            f"action_{suffix}": action,
+            f"design_strength_collapse_{suffix}": loads, "status": statuses,
+            f"design_resistance_{suffix}": resistance, "covered": covered, "verdict": verdict,
             "solves": solves}
 
 
@@ -499,14 +542,19 @@ def format_safety(fos: dict) -> list[str]:
     >>> format_safety({"design_load_kN_per_m": 150.0, "on_load": {"lower": 2.0, "upper": 2.1},
     ...                "on_strength": {"lower": 1.5, "upper": 1.6, "solves": 6, "tolerance": 0.01}})[1]
     '    on load      [2.000, 2.100]  (collapse load / design load)'
+    >>> format_safety({"design_load_kN": 2000.0, "design_pressure_kPa": 101.86, "on_load": {}})[0]
+    '  factor of safety against the design load 2000.0 kN (the whole vertical load on the circular footing: 101.9 kPa over its area pi B^2/4)'
     """
     def show(value, prefix=""):
         return "none" if value is None else f"{prefix}{figure(value, 3)}"
 
     lines = []
-    if fos.get("design_load_kN_per_m") is not None:
-        lines.append(f"  factor of safety against the design load {figure(fos['design_load_kN_per_m'])} kN/m "
-                     "(along the load's line of action)")
+    design, unit, suffix = design_load_of(fos)
+    if design is not None:
+        what = ("(along the load's line of action)" if unit == "kN/m" else
+                f"(the whole vertical load on the circular footing: {figure(fos['design_pressure_kPa'])} kPa "
+                "over its area pi B^2/4)")
+        lines.append(f"  factor of safety against the design load {figure(design)} {unit} {what}")
         load = fos.get("on_load", {})
         lines.append(f"    on load      [{show(load.get('lower'))}, {show(load.get('upper'))}]  "
                      "(collapse load / design load)")
@@ -526,10 +574,10 @@ def format_safety(fos: dict) -> list[str]:
     lines += [f"  VERDICT: {check['verdict']}" for check in fos.get("checks", [])]
     partial = fos.get("partial_factors")
     if partial:
-        res = partial["design_resistance_kN_per_m"]
-        action = partial["action_kN_per_m"]
-        lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] kN/m"
-                     + (f", design action {figure(action)} kN/m (partial factor on the action "
+        res = partial[f"design_resistance_{suffix}"]
+        action = partial[f"action_{suffix}"]
+        lines.append(f"  partial factors: design resistance [{show(res['lower'])}, {show(res['upper'])}] {unit}"
+                     + (f", design action {figure(action)} {unit} (partial factor on the action "
                         f"{partial['factors']['load']:g} x design load)" if action is not None else ""))
         lines.append(f"    {partial['verdict']}")
     return lines

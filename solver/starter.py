@@ -10,15 +10,16 @@ from __future__ import annotations
 
 import textwrap
 
-from .case import (ANALYSIS_KEYS, FACTORS_KEYS, FOOTING_KEYS, GEOMETRY_KEYS, GROUND_KEYS, LAYER_KEYS, MODEL_KEYS,
-                   REPORT_KEYS, REQUIRED, TOP_KEYS, Key)
+from .case import (ANALYSIS_KEYS, CIRCLE_FOOTING_KEYS, FACTORS_KEYS, FOOTING_KEYS, GEOMETRY_KEYS, GROUND_KEYS,
+                   LAYER_KEYS, MODEL_KEYS, REPORT_KEYS, REQUIRED, TOP_KEYS, Key)
 
 HEADER = """\
 # bearbound case file: a starter, written by `bearbound init`.
 # The scenario is invented, for a first run only: a strip footing under a boundary wall,
 # on silty sand over firm clay, the water table in the clay. Replace every value with your own.
-# Units are SI: m, kPa, kN/m^3, kN/m, degrees. A line starting with # is a comment; remove
-# the # before an optional key to use it. Check a case without solving with
+# Units are SI: m, kPa, kN/m^3, degrees; loads in kN/m (per m run) for a strip, in kN (the
+# whole footing) for a circle. A line starting with # is a comment; remove the # before an
+# optional key to use it. Check a case without solving with
 # `bearbound preview FILE` (a picture of the model) and `bearbound hand FILE`.
 # Results are for checking by a qualified geotechnical engineer; local codes and licensed
 # practice govern.
@@ -33,17 +34,20 @@ SECTIONS: list[tuple[str, bool, list[Entry]]] = [
     ]),
     ("[footing]", False, [
         ("width", "1.2", False, "the footing width B (a circle's diameter)"),
-        ("shape", '"strip"', False, "strip (plane strain, loads per m run) | circular (axisymmetric: a "
-                                    "vertical central load, no slope, design load or partial factors in this "
-                                    "version)"),
+        ("shape", '"strip"', False, "strip (plane strain, loads per m run, kN/m) | circular (axisymmetric: "
+                                    "a vertical central load, no slope in this version; loads are the whole "
+                                    "footing's, kN)"),
         ("base", '"rough"', False, "the contact under the footing: rough (no slip) or smooth (no shear)"),
         ("embedment", "0.5", False, "depth Df of the footing base below the ground; the soil above the base "
                                     "acts as a surcharge beside the footing"),
         ("load_inclination", "0.0", False, "the load's angle from vertical, positive toward +x (rough base only)"),
         ("eccentricity", "0.0", False, "where the load meets the base, from the footing's centre, positive "
                                        "toward +x; inside the footing"),
-        ("design_load", "120.0", False, "the line load to check, along the load's line of action; optional: "
-                                        "without it no factor of safety is worked out"),
+        ("design_load", "120.0", False, "the load to check, optional (without it no factor of safety is worked "
+                                        "out): a strip's line load per m run, along the load's line of action; "
+                                        "with shape = \"circular\" the whole vertical load on the footing, not "
+                                        "a pressure, allowed: "
+                                        f"{CIRCLE_FOOTING_KEYS['design_load'].allowed}; for a strip"),
         ("required_factor_of_safety_on_load", "3.0", True, "optional: the collapse load / design load the "
                                                            "design must reach (needs design_load)"),
         ("required_factor_of_safety_on_strength", "1.5", True, "optional: the strength-reduction factor the "

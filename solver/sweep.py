@@ -42,10 +42,10 @@ from typing import Any
 import numpy as np
 
 from . import __version__
-from .case import (LAYER_KEYS, MODEL_KEYS, TABLES, CaseError, Key, _did_you_mean,
+from .case import (LAYER_KEYS, MODEL_KEYS, TABLES, CaseError, Key, _did_you_mean, footing_schema,
                    _not_allowed, _show, case_to_dict, load_case, parse_case, read_toml_file, shown)
 from .model import Case
-from .result import CAUTION, json_safe, write_atomic
+from .result import CAUTION, json_safe, load_unit, write_atomic
 
 MAX_POINTS = 10_000  # a design chart is tens to hundreds of points; more is a typo in a range
 MAX_CHARTS = 50  # one chart per combination of the keys beyond x and lines
@@ -104,6 +104,7 @@ class ChartSpec:
     lines: str | None  # key of the parameter with one band per value, or None
     formats: tuple[str, ...]
     title: str
+    load_unit: str = "kN/m"  # output "load": a strip's per m run (kN/m), a circle's whole load (kN)
 
 
 @dataclass(frozen=True)
@@ -313,6 +314,8 @@ def _resolve_key(key: str, base: dict, varied: set[str], where: str) -> tuple[Ke
     if len(parts) != 2:
         raise CaseError(f"{where}: not a case key; must be <table>.<key>, e.g. footing.width")
     schema = VARY_TABLES[parts[0]]
+    if parts[0] == "footing" and "footing.shape" not in varied:  # a circle's design load is in kN
+        schema = footing_schema(base.get("footing") or {})
     if parts[1] not in schema:
         raise CaseError(f"{where}: unknown key of [{parts[0]}]; {_did_you_mean(parts[1], list(schema))}")
     spec = schema[parts[1]]
@@ -421,6 +424,9 @@ def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base:
     output = raw.get("output", "pressure")
     if output not in OUTPUTS:
         raise _not_allowed("chart.output", output, "one of " + ", ".join(repr(o) for o in OUTPUTS))
+    if output == "load" and "footing.shape" in varied:
+        raise _not_allowed("chart.output", output, "'pressure' when footing.shape is varied: a strip's load is per "
+                           "m run (kN/m), a circle's the whole footing's (kN), and one axis cannot hold both")
     keys = [p.key for p in parameters]
     x = raw.get("x", keys[0])
     if x not in keys:
@@ -455,7 +461,8 @@ def _read_chart(raw: Any, parameters: tuple[Parameter, ...], combine: str, base:
     if not isinstance(chart_title, str) or not chart_title.strip() or not chart_title.isprintable():
         raise _not_allowed("chart.title", chart_title, "a non-empty one-line string")
     return ChartSpec(output=output, divide_by=divide_by, x=x, lines=lines,
-                     formats=tuple(dict.fromkeys(formats)), title=chart_title)
+                     formats=tuple(dict.fromkeys(formats)), title=chart_title,
+                     load_unit=load_unit(base["footing"].get("shape", "strip"))[0])
 
 
 # -- solving: one point on a worker --------------------------------------------
@@ -845,6 +852,7 @@ def _axis_label(label: str, unit: str) -> str:
 
 def _output_label(chart: ChartSpec) -> str:
     words, unit = OUTPUTS[chart.output]
+    unit = chart.load_unit if chart.output == "load" else unit
     if chart.divide_by is None:
         return _axis_label(words, unit)
     other = chart.divide_by.unit
@@ -972,8 +980,10 @@ def _chart_value(record: dict, side: str, chart: ChartSpec) -> float:
     if pressure is None:
         return math.nan
     value = pressure
-    if chart.output == "load":
-        value = pressure * record["case"]["footing"]["width"]
+    if chart.output == "load":  # over B (kN/m), or a circle's area pi B^2/4 (kN)
+        footing = record["case"]["footing"]
+        width = footing["width"]
+        value = pressure * (width if footing.get("shape", "strip") == "strip" else math.pi * width ** 2 / 4)
     if chart.divide_by is not None:
         value /= _get_key(record["case"], chart.divide_by.key)
     return value

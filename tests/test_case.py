@@ -157,8 +157,7 @@ EXPECTED_KEY = {
     "circle_load_inclination.toml": "footing.load_inclination",
     "circle_eccentricity.toml": "footing.eccentricity",
     "circle_slope.toml": "ground.slope_angle",
-    "circle_design_load.toml": "footing.design_load",
-    "circle_factors.toml": "factors",
+    "circle_design_load_in_newtons.toml": "footing.design_load",
     "circle_velocity_jumps.toml": "analysis.velocity_jumps",
     "not_toml.toml": None,
     "unclosed_table.toml": None,
@@ -230,6 +229,42 @@ def test_defaults_are_filled_and_title_defaults_to_name():
     assert case.layers[0].cohesion == 0.0 and case.layers[0].thickness is None
     assert case.is_weightless  # unit_weight = 0 is allowed
     assert parse_case(case_to_dict(case), name="demo") == case
+
+
+def test_a_circles_design_load_is_its_whole_load_in_kN_a_strips_a_line_load_in_kN_per_m():
+    def case(shape: str, design_load: float, **footing):
+        return parse_case({"footing": {"width": 60.0, "shape": shape, "design_load": design_load, **footing},
+                           "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 40.0,
+                                       "unit_weight": 18.0}]})
+
+    # a 60 m tank at 400 kPa: 1.13e6 kN on the whole footing, more than any strip's kN/m
+    whole = 400.0 * math.pi * 60.0 ** 2 / 4
+    tank = case("circular", whole, required_factor_of_safety_on_load=2.5,
+                required_factor_of_safety_on_strength=1.4)
+    assert tank.footing.design_load == whole and tank.footing.bearing_area == pytest.approx(math.pi * 900.0)
+    assert parse_case(case_to_dict(tank)) == tank
+    with pytest.raises(CaseError) as info:
+        case("strip", whole)
+    assert str(info.value).startswith("footing.design_load: ") and "(kN/m, the line load per m run of the strip)" \
+        in str(info.value) and "no strip footing carries that" in str(info.value)
+    with pytest.raises(CaseError) as info:
+        load_case(BAD_CASES / "circle_design_load_in_newtons.toml")
+    assert "(kN, the whole vertical load on the circular footing)" in str(info.value)
+    assert "no circular footing carries that; is that in the right units?" in str(info.value)
+    # partial factors are taken for a circle too
+    with_factors = parse_case({"footing": {"width": 3.0, "shape": "circular", "design_load": 900.0},
+                               "factors": {"undrained_strength": 1.4, "load": 1.35},
+                               "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 40.0,
+                                           "unit_weight": 18.0}]})
+    assert with_factors.factors.undrained_strength == 1.4
+
+
+def test_the_silo_example_states_its_design_load_as_the_whole_load_in_kN():
+    silo = load_case(pathlib.Path(__file__).parent.parent / "examples" / "grain-silo.toml")
+    assert silo.footing.shape == "circular" and silo.footing.design_load == 9000.0
+    # its comment: 9,000 kN is 179 kPa over pi B^2/4 = 50.3 m^2
+    assert silo.footing.bearing_area == pytest.approx(50.27, abs=0.01)
+    assert silo.footing.design_load / silo.footing.bearing_area == pytest.approx(179.0, abs=0.05)
 
 
 def test_typo_message_suggests_the_key():

@@ -47,6 +47,8 @@ def test_a_usual_case_gives_no_warning():
     (None, {"width": 45.0}, "footing.width", "raft"),
     (None, {"embedment": 4.0}, "footing.embedment", "surcharge"),
     (None, {"load_inclination": 75.0}, "footing.load_inclination", "15"),
+    # a tank's 179 kPa typed as its design load: the whole load over pi 8^2/4 is 9,000 kN
+    (None, {"width": 8.0, "shape": "circular", "design_load": 179.0}, "footing.design_load", "the load is 8997.5 kN"),
 ])
 def test_each_unusual_value_is_named_with_its_key_and_a_reason(layer, footing, key, words):
     warnings = input_warnings(case_with(layer, footing))

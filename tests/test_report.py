@@ -554,3 +554,43 @@ def test_a_circular_footing_is_reported_in_kN_over_its_area(tmp_path):
     loads = f"{data['lower']['load_kN']:,.1f} to {data['upper']['load_kN']:,.1f} kN"
     assert loads in box and loads in bracket and "kN/m" not in box
     assert f"<td class='n'>{data['lower']['load_kN']:,.1f}</td>" in bracket and "<th>load (kN)</th>" in bracket
+
+
+def test_a_circles_design_load_is_stated_in_kN_and_as_kPa_over_its_area_everywhere(tmp_path):
+    """A tank's design load is its whole load in kN: the report, the terminal and summary.csv give
+    it with that unit and with its pressure over pi B^2/4, and never put a kN figure under kN/m."""
+    from solver.cli import format_summary
+    from solver.export import summary_row
+    from solver.report import Run, build_html
+    from solver.safety import factor_of_safety
+
+    case = parse_case({"footing": {"width": 4.0, "shape": "circular", "design_load": 1500.0,
+                                   "required_factor_of_safety_on_load": 2.0},
+                       "factors": {"undrained_strength": 1.4, "load": 1.35},
+                       "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 30.0,
+                                   "unit_weight": 18.0}],
+                       "analysis": {"elements": 300, "mesh": "fixed"}}, name="tank")
+    result = analyse(case)
+    result.factor_of_safety = factor_of_safety(case, result)
+    data = result.to_dict()
+    pressure = 1500.0 / (np.pi * 4.0 ** 2 / 4)
+    page = build_html(Run(out_dir=tmp_path, data=data, case=case), images={})
+    box = page[page.index('<div class="result">'):page.index('<div class="caution">')]
+    safety = page[page.index("<h2>Factor of safety</h2>"):page.index("<h2>", page.index("<h2>Factor of safety</h2>") + 5)]
+    for part in (box, safety):
+        assert "<strong>1,500.0 kN</strong>, the whole vertical load on the circular footing" in part
+        assert f"<strong>{pressure:,.1f} kPa</strong> over its area &pi; B&sup2;/4 = 12.57" in part
+        assert "kN/m" not in part
+    assert "<th>collapse load (kN)</th>" in safety and "2,025.0&#8201;kN" in safety  # the action, 1.35 x 1500 kN
+    assert "design load (the whole vertical load on the circular footing)" in page
+    summary = format_summary(result)
+    assert f"design load 1500.0 kN (the whole vertical load on the circular footing: {pressure:.1f} kPa" in summary
+    assert "VERDICT: the design load 1500.0 kN (the whole vertical load" in summary
+    row = summary_row(data)
+    assert row["footing_shape"] == "circular" and row["design_load_kN"] == 1500.0
+    assert row["design_pressure_kPa"] == pytest.approx(pressure)
+    assert row["lower_load_kN"] == data["lower"]["load_kN"] and row["design_action_kN"] == pytest.approx(2025.0)
+    assert row["design_resistance_lower_kN"] is not None
+    for column in ("design_load_kN_per_m", "lower_vertical_load_kN_per_m", "lower_resultant_load_kN_per_m",
+                   "design_action_kN_per_m", "design_resistance_lower_kN_per_m"):
+        assert row[column] is None, column  # a kN/m column never holds a circle's kN

@@ -3,6 +3,7 @@ LocalCluster of 2 worker processes checked against the same cases solved one by 
 import csv
 import doctest
 import json
+import math
 import subprocess
 import sys
 import urllib.error
@@ -87,6 +88,20 @@ def test_hash_follows_the_whole_case():
 ])
 def test_bad_sweep_is_one_line_naming_the_key(vary, extra, words):
     one_line_error(lambda: sweep_of(vary, **extra), *words)
+
+
+def test_a_circles_load_chart_is_its_whole_load_in_kN_and_a_design_load_is_checked_in_kN():
+    circle = {**BASE, "footing": {"width": 2.0, "shape": "circular"}}
+    sweep = parse_sweep({"base": circle, "vary": {"footing.design_load": [2.0e6, 3.0e6]},  # 2e6 kN: a strip refuses it
+                         "chart": {"output": "load"}}, name="t")
+    assert sweep.chart.load_unit == "kN" and solver.sweep._output_label(sweep.chart) == "collapse load Q (kN)"
+    record = {"case": sweep.points[0].case_dict, "lower_kPa": 100.0}  # invented: checks the arithmetic only
+    assert solver.sweep._chart_value(record, "lower", sweep.chart) == pytest.approx(100.0 * math.pi)  # pi 2^2 / 4
+    one_line_error(lambda: sweep_of({"footing.design_load": [2.0e6]}), "vary.footing.design_load", "kN/m")
+    one_line_error(lambda: parse_sweep({"base": BASE, "vary": {"footing.shape": ["strip", "circular"],
+                                                               "footing.width": [1.0, 2.0]},
+                                        "chart": {"output": "load", "x": "footing.width"}}, name="t"),
+                   "chart.output", "'pressure' when footing.shape is varied")
 
 
 def test_bad_base_and_misplaced_files(tmp_path):
