@@ -355,7 +355,11 @@ def test_sigterm_while_a_library_call_holds_the_main_thread_ends_the_run(tmp_pat
     out, err = run.communicate(timeout=50)  # the call holds the main thread for 60 s
     assert run.returncode == 130, err
     assert time.perf_counter() - sent < 30
-    assert err == "bearbound: interrupted inside a library call; no output was left half-written\n"
+    # Either the watch's line (the main thread never came back) or, when a loaded machine let the
+    # interpreter run its handler first, the handler's: both end the run with nothing half-written
+    # (the latter seen once under load 5; the outcome, not the race, is what a user meets).
+    assert err in ("bearbound: interrupted inside a library call; no output was left half-written\n",
+                   "bearbound: interrupted; no output was left half-written\n"), err
     assert list(tmp_path.iterdir()) == []  # staging folder, lock and the out/ made for it: all gone
 
 
