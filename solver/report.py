@@ -454,6 +454,7 @@ def _design_load_text(d: dict, case: Case) -> str:
 def _bracket(d: dict, case: Case) -> str:
     lower, upper = d.get("lower") or {}, d.get("upper") or {}
     area, unit, size = _footing_measure(d)
+    strip = unit == "kN/m"
     lo, up = lower.get("pressure_kPa"), upper.get("pressure_kPa")
     out = ["<h2>The bracket</h2>"]
     f = case.footing
@@ -484,20 +485,26 @@ def _bracket(d: dict, case: Case) -> str:
                     else f'<span class="fail">withheld</span>: '
                          f'{esc(str(b.get("status")).removeprefix("withheld: "))}')
         extra = b.get("extra") or {}
+        # a strip's load has components per m run; a circle's is one central vertical force (kN)
+        parts = (f"<td class='n'>{num(extra.get('vertical_kN_per_m'))}</td>"
+                 f"<td class='n'>{num(extra.get('horizontal_kN_per_m'))}</td>"
+                 f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td>") if strip else ""
         rows.append(f"<tr><td>{kind} bound</td><td class='n'>{num(b.get('pressure_kPa'))}</td>"
-                    f"<td class='n'>{num(b.get('load_kN_per_m') if unit == 'kN/m' else b.get('load_kN'))}</td>"
-                    f"<td class='n'>{num(extra.get('vertical_kN_per_m'))}</td>"
-                    f"<td class='n'>{num(extra.get('horizontal_kN_per_m'))}</td>"
-                    f"<td class='n'>{num(extra.get('moment_kNm_per_m'))}</td><td>{standing}</td></tr>")
+                    f"<td class='n'>{num(b.get('load_kN_per_m') if strip else b.get('load_kN'))}</td>"
+                    f"{parts}<td>{standing}</td></tr>")
+    parts = "<th>V (kN/m)</th><th>H (kN/m)</th><th>M (kNm/m)</th>" if strip else ""
     out.append(f'<table class="keep"><thead><tr><th>bound</th><th>pressure (kPa)</th><th>load ({unit})</th>'
-               "<th>V (kN/m)</th><th>H (kN/m)</th><th>M (kNm/m)</th><th>standing</th></tr></thead>"
-               + "".join(rows) + "</table>")
+               f"{parts}<th>standing</th></tr></thead>" + "".join(rows) + "</table>")
     methods = "; ".join(f"{kind} bound: {esc(b.get('method'))}" for kind, b in (("lower", lower), ("upper", upper))
                         if b.get("method"))
-    over = "B" if unit == "kN/m" else "the footing's area, &pi; D&sup2;/4"
-    out.append(f'<p class="small">Pressure: the vertical component of the collapse load over {over}. Load: the '
-               "collapse load along its line of action; V and H its vertical and horizontal components, M its "
-               f"moment about the footing's centre (V times the eccentricity), all at collapse. Methods: {methods}.</p>")
+    if strip:
+        meaning = ("Pressure: the vertical component of the collapse load over B. Load: the collapse load along "
+                   "its line of action; V and H its vertical and horizontal components, M its moment about the "
+                   "footing's centre (V times the eccentricity), all at collapse.")
+    else:
+        meaning = ("Pressure: the collapse load over the footing's area, &pi; B&sup2;/4 (B the diameter). Load: "
+                   "the whole vertical collapse load on the circular footing, central.")
+    out.append(f'<p class="small">{meaning} Methods: {methods}.</p>')
     if case.ground.water_table is not None:
         u = d.get("pore_pressure_at_base_kPa")
         text = f"Pore pressure at the footing base: <strong>{num(u, 1, 'kPa')}</strong>"
@@ -628,9 +635,11 @@ def _hand(d: dict) -> str:
 
     head = "<thead><tr><th>method</th><th>pressure (kPa)</th><th>where it falls</th><th>factors</th></tr></thead>"
     body, not_applicable = table(rows, compared=True)
+    over = "B" if d.get("footing_shape", "strip") == "strip" else "the area &pi; B&sup2;/4"
     out = ["<h2>Hand methods beside the bracket</h2>",
            "<p>Classical closed-form estimates of the same quantity as the bracket (the vertical component of "
-           "the collapse load over B), under the case's load and ground, each where its method applies. A row "
+           f"the collapse load over {over}), under "
+           "the case's load and ground, each where its method applies. A row "
            "marked &#9650; lies above the upper bound: that method is <strong>unconservative</strong> for this "
            "case.</p>"]
     if d.get("hand_methods_as_given"):
@@ -735,9 +744,10 @@ def _inputs(case: Case, d: dict) -> str:
     out.append(_kv("Footing", shape + [
         ("diameter B" if f.shape == "circular" else "width B", num(f.width, 3, "m")), ("base", esc(f.base)),
         ("embedment Df", num(f.embedment, 3, "m")),
-        ("load inclination", num(f.load_inclination, 1, "degrees from vertical") + f", positive {esc(side)}"),
-        ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
-                                                                               "positive toward +x"),
+        *([("load inclination", num(f.load_inclination, 1, "degrees from vertical") + f", positive {esc(side)}"),
+           ("eccentricity e of the load at the base", num(f.eccentricity, 3, "m") + ", from the footing's centre, "
+                                                                                  "positive toward +x")]
+          if f.shape == "strip" else [("load", "central and vertical (the only load a circle takes here)")]),
         ("design load (along the load's line of action)" if f.shape == "strip" else
          "design load (the whole vertical load on the circular footing)",
          "not given" if f.design_load is None else num(f.design_load, 1, "kN/m") if f.shape == "strip" else

@@ -554,6 +554,12 @@ def test_a_circular_footing_is_reported_in_kN_over_its_area(tmp_path):
     loads = f"{data['lower']['load_kN']:,.1f} to {data['upper']['load_kN']:,.1f} kN"
     assert loads in box and loads in bracket and "kN/m" not in box
     assert f"<td class='n'>{data['lower']['load_kN']:,.1f}</td>" in bracket and "<th>load (kN)</th>" in bracket
+    # no per-metre columns, no x-direction wording and no "over B" for a circle
+    assert "kN/m" not in bracket and "V and H" not in bracket and "&pi; B&sup2;/4 (B the diameter)" in bracket
+    hand = page[page.index("<h2>Hand methods beside the bracket</h2>"):]
+    assert "collapse load over the area &pi; B&sup2;/4)" in hand[:600]
+    inputs = page[page.index("<h2>Inputs"):]
+    assert "toward +x" not in inputs[:inputs.index("</table>")] and "central and vertical" in inputs
 
 
 def test_a_circles_design_load_is_stated_in_kN_and_as_kPa_over_its_area_everywhere(tmp_path):
