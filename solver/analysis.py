@@ -14,7 +14,7 @@ import numpy as np
 
 from .certify import certify_lower, certify_upper, lower_stress_field, restore_velocities, upper_velocity_field
 from .certify_axisym import (certify_lower_axisym, certify_upper_axisym, lower_stress_field_axisym,
-                             upper_velocity_field_axisym)
+                             restore_velocities_axisym, upper_velocity_field_axisym)
 from .conic import solve, stronger_settings
 from .ground import material_arrays, node_cohesion
 from .hand import hand_methods, information_only, where_it_falls
@@ -337,14 +337,12 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
 
 
 def _certify(case: Case, kind: str, mesh: Mesh, program, solution):
-    """The solution (a strip's upper-bound velocities restored: certify.restore_velocities)
-    and its certificate."""
-    if case.footing.shape != "strip":
-        return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
-    if kind == "lower":
-        return solution, certify_lower(case, mesh, program, solution)
-    solution = restore_velocities(case, mesh, program, solution)
-    return solution, certify_upper(case, mesh, program, solution)
+    """The solution (an upper bound's velocities restored: certify.restore_velocities, for a
+    circle certify_axisym.restore_velocities_axisym) and its certificate."""
+    if kind == "upper":
+        restore = restore_velocities if case.footing.shape == "strip" else restore_velocities_axisym
+        solution = restore(case, mesh, program, solution)
+    return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
 
 
 def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict,

@@ -219,3 +219,80 @@ def test_pictures_name_a_circle_by_its_diameter():
                         "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]})
     assert "diameter B = 12 m" in footing_label(circle, 12.0) and "axis" in footing_label(circle, 12.0)
     assert footing_label(strip, 12.0) == "footing, B = 12 m"
+
+
+# -- the upper bound's velocities restored before the certificate (as the strip's) ----------
+
+@pytest.fixture(scope="module")
+def tresca_upper():
+    """A rough Tresca circle under its own weight and a surcharge: one solved upper bound."""
+    data = circle(unit_weight=17.0)
+    data["ground"] = {"surcharge": 10.0}
+    data["footing"]["base"] = "rough"
+    case = parse_case(data)
+    mesh = build_mesh(case, order=2, elements=400)
+    program = upper_bound_program_axisym(case, mesh)
+    return case, mesh, program, solve(program)
+
+
+def corner_divergence(mesh, program, x) -> float:
+    """The largest |div(W, U)| L at a triangle corner (Tresca incompressibility), computed
+    here from the velocities, relative to the largest free velocity."""
+    from solver.upper import corner_shape_gradients
+    w = velocities(program, x)
+    grad = corner_shape_gradients(mesh) * np.sqrt(2.0 * mesh.areas())[:, None, None, None]
+    div = np.einsum("emi,ei->em", grad[..., 0], w[mesh.triangles, 0]) \
+        + np.einsum("emi,ei->em", grad[..., 1], w[mesh.triangles, 1])
+    return float(np.abs(div).max() / max(1.0, np.abs(x[:program.layout["T"].shape[1]]).max()))
+
+
+def test_tresca_circle_velocities_are_projected_onto_exact_incompressibility(tresca_upper):
+    # The solver meets the incompressibility rows only to its tolerance; the certificate must
+    # judge the field it reports, restored to round-off, and recompute the load from it.
+    from solver.certify_axisym import restore_velocities_axisym
+    case, mesh, program, solution = tresca_upper
+    assert corner_divergence(mesh, program, solution.x) > 1e-12  # as solved: not exact
+    certificate = certify_upper_axisym(case, mesh, program, solution)
+    assert certificate["passed"], certificate
+    assert certificate["restored"]["incompressibility_after"] < 1e-12
+    assert certificate["limits"]["incompressibility"] == 1e-10
+    assert certificate["incompressibility"] <= 1e-10
+    restored = restore_velocities_axisym(case, mesh, program, solution)
+    assert corner_divergence(mesh, program, restored.x) < 1e-12
+    assert restored.x[program.layout["motion"]["v"]] == pytest.approx(-1.0, abs=1e-14)
+    # the bound reported is at least the load recomputed from the restored, admissible field
+    again = certify_upper_axisym(case, mesh, program, restored)
+    assert "restored" not in again or again["restored"] == certificate["restored"]
+    assert certificate["recomputed_kN"] == pytest.approx(again["recomputed_kN"], rel=1e-12)
+    assert certificate["load_kN"] >= again["recomputed_kN"]
+
+
+def test_circle_velocities_far_from_incompressible_are_not_restored(tresca_upper):
+    case, mesh, program, solution = tresca_upper
+    x = solution.x.copy()
+    inside = np.setdiff1d(mesh.triangles[:, :3], mesh.boundary_edges)  # corners off every boundary
+    node = inside[len(inside) // 2]
+    columns = program.layout["T"].tocsr()[2 * node: 2 * node + 2].nonzero()[1]
+    assert len(columns) == 2
+    x[columns] += 0.01  # far beyond the solver's slack
+    certificate = certify_upper_axisym(case, mesh, program, replace(solution, x=x))
+    assert not certificate["passed"]
+    assert "restored" not in certificate
+    assert certificate["incompressibility"] > 1e-4
+
+
+def test_restoring_a_circle_in_sand_over_clay_keeps_the_sands_flow_rule():
+    # Tresca clay is projected while the sand's control points are held (their cones are
+    # not equalities; the projection must not spend the solver's slack on them).
+    data = {"footing": {"width": 2.0, "shape": "circular", "base": "rough"},
+            "layers": [{"name": "sand", "model": "mohr-coulomb", "thickness": 0.5, "unit_weight": 18.0,
+                        "cohesion": 0.0, "friction_angle": 32.0},
+                       {"name": "clay", "model": "tresca", "unit_weight": 17.0, "undrained_strength": 30.0}]}
+    case = parse_case(data)
+    mesh = build_mesh(case, order=2, elements=400)
+    program = upper_bound_program_axisym(case, mesh)
+    solution = solve(program)
+    certificate = certify_upper_axisym(case, mesh, program, solution)
+    assert certificate["passed"], certificate
+    assert certificate["incompressibility"] <= 1e-10 and "restored" in certificate
+    assert certificate["flow_rule"] <= certificate["limits"]["flow_rule"]
