@@ -296,3 +296,53 @@ def test_restoring_a_circle_in_sand_over_clay_keeps_the_sands_flow_rule():
     assert certificate["passed"], certificate
     assert certificate["incompressibility"] <= 1e-10 and "restored" in certificate
     assert certificate["flow_rule"] <= certificate["limits"]["flow_rule"]
+
+
+# -- nearly criss-cross nodes in the upper bound's mesh ---------------------------------
+
+def star(offset: tuple[float, float], centre_y: float = 0.5):
+    """Four triangles round one node near the crossing (0.5, centre_y) of a quadrilateral's
+    diagonals: corners (0, 0), (1, 0), (1, 1), (0, 1) moved so the crossing is at centre_y."""
+    top = 2 * centre_y
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, top], [0.0, top],
+                       [0.5 + offset[0], centre_y + offset[1]]])
+    triangles = np.array([[0, 1, 4], [1, 2, 4], [2, 3, 4], [3, 0, 4]])
+    return points, triangles
+
+
+def test_a_nearly_criss_cross_node_is_moved_onto_its_crossing():
+    from solver.mesh import CROSSING_SNAP, snap_crossings
+    points, triangles = star((1e-3, -2e-3))
+    moved = snap_crossings(points, triangles)
+    assert moved[4] == pytest.approx([0.5, 0.5], abs=1e-15)
+    assert np.array_equal(moved[:4], points[:4])  # the boundary stays
+    far = star((1.5 * CROSSING_SNAP, 0.0))[0]  # h about sqrt(0.5): an offset over CROSSING_SNAP h stays
+    assert np.array_equal(snap_crossings(far, triangles), far)
+    # on an interface (y = 0.5, through corners 4, 5 below): only along it, when one line lies on it
+    points = np.array([[0.5, 0.0], [1.0, 0.5], [0.5, 1.0], [0.0, 0.5], [0.5 + 1e-3, 0.5]])
+    moved = snap_crossings(points, triangles, levels=(0.5,))
+    assert moved[4, 1] == 0.5 and moved[4, 0] == pytest.approx(0.5, abs=1e-15)
+    points[4, 1] = 0.5 + 1e-3  # off the interface level: left alone there
+    assert np.array_equal(snap_crossings(points, triangles, levels=(0.5 + 1e-3,)), points)
+
+
+WATER_TANK = {"footing": {"width": 12.0, "shape": "circular", "base": "rough", "embedment": 0.5},
+              "ground": {"water_table": 1.5},
+              "layers": [{"name": "crust", "model": "tresca", "thickness": 2.5, "unit_weight": 18.5,
+                          "saturated_unit_weight": 19.0, "undrained_strength": 45.0},
+                         {"name": "soft clay", "model": "tresca", "unit_weight": 16.5, "undrained_strength": 18.0,
+                          "strength_gradient": 1.8}],
+              "analysis": {"mesh": "fixed", "elements": 1000}}
+
+
+def test_a_thin_band_of_criss_cross_stars_does_not_stall_the_circles_upper_bound():
+    # examples/water-tank.toml: the 1 m band above the water table is meshed in stars of four
+    # triangles whose nodes sit 1e-4 to 1e-3 h off their crossings; their incompressibility
+    # rows were nearly dependent and the solve crept (70 iterations here, 200 and "almost
+    # solved" at 2k triangles, against 22-24 with the nodes on their crossings).
+    case = parse_case(WATER_TANK)
+    mesh = build_mesh(case, order=2, elements=1000)
+    program = upper_bound_program_axisym(case, mesh)
+    solution = solve(program)
+    assert solution.status == "optimal" and solution.iterations < 45, (solution.status, solution.iterations)
+    assert certify_upper_axisym(case, mesh, program, solution)["passed"]
