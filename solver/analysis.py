@@ -339,10 +339,14 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
 def _certify(case: Case, kind: str, mesh: Mesh, program, solution):
     """The solution (an upper bound's velocities restored: certify.restore_velocities, for a
     circle certify_axisym.restore_velocities_axisym) and its certificate."""
-    if kind == "upper":
-        restore = restore_velocities if case.footing.shape == "strip" else restore_velocities_axisym
-        solution = restore(case, mesh, program, solution)
-    return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
+    if case.footing.shape != "strip":
+        if kind == "upper":
+            solution = restore_velocities_axisym(case, mesh, program, solution)
+        return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
+    if kind == "lower":
+        return solution, certify_lower(case, mesh, program, solution)
+    solution = restore_velocities(case, mesh, program, solution)
+    return solution, certify_upper(case, mesh, program, solution)
 
 
 def _certified_bound(case: Case, kind: str, mesh: Mesh, program, solution, timing: dict,
