@@ -14,7 +14,7 @@ import numpy as np
 
 from .certify import certify_lower, certify_upper, lower_stress_field, restore_velocities, upper_velocity_field
 from .certify_axisym import (certify_lower_axisym, certify_upper_axisym, lower_stress_field_axisym,
-                             upper_velocity_field_axisym)
+                             restore_velocities_axisym, upper_velocity_field_axisym)
 from .conic import solve, stronger_settings
 from .ground import material_arrays, node_cohesion
 from .hand import hand_methods, information_only, where_it_falls
@@ -337,9 +337,11 @@ def run_bounds(case: Case, requests: list, backend: str, settings, parallel: boo
 
 
 def _certify(case: Case, kind: str, mesh: Mesh, program, solution):
-    """The solution (a strip's upper-bound velocities restored: certify.restore_velocities)
-    and its certificate."""
+    """The solution (an upper bound's velocities restored: certify.restore_velocities, for a
+    circle certify_axisym.restore_velocities_axisym) and its certificate."""
     if case.footing.shape != "strip":
+        if kind == "upper":
+            solution = restore_velocities_axisym(case, mesh, program, solution)
         return solution, STAGES[case.footing.shape, kind][1](case, mesh, program, solution)
     if kind == "lower":
         return solution, certify_lower(case, mesh, program, solution)

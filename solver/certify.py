@@ -36,12 +36,13 @@ with stronger regularisation (solver.analysis).
 from __future__ import annotations
 
 import dataclasses
+from typing import Callable
 
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from .conic import FEASIBILITY, ConicProgram, Solution
+from .conic import FEASIBILITY, ConicProgram, Solution, default_settings
 from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .lower import SX, SY, TXY, traction_coefficients
 from .mesh import FAR_BASE, FAR_SIDE, FIXED, FOOTING, GROUND, SYMMETRY, Mesh
@@ -87,12 +88,14 @@ def stress_scale(case: Case, pressure_kPa: float, field_kPa: float = 0.0) -> flo
 
 
 def solver_slack(program: ConicProgram, x: np.ndarray, homogeneous: bool = False,
-                 feasibility: float = FEASIBILITY) -> float:
+                 feasibility: float | None = None) -> float:
     """The largest residual of one row of the program that the solver's own stopping test
     lets through at ``x`` (times FLOW_FACTOR, for the flow rule's breach): its feasibility
     tolerance relative to max(1, ||b|| + ||x|| + ||s||), 2-norms (solver.conic.FEASIBILITY).
     ``homogeneous``: x is a ray, judged against b = 0; ``feasibility``: the tolerance the
-    program was solved to, when not the default."""
+    program was solved to, by default the one conic.default_settings gives it."""
+    if feasibility is None:
+        feasibility = default_settings(program)["tol_feas"]
     b = 0.0 * program.b if homogeneous else program.b
     s = b - program.A @ x
     return float(FLOW_FACTOR * feasibility * max(1.0, np.linalg.norm(b) + np.linalg.norm(x) + np.linalg.norm(s)))
@@ -237,8 +240,26 @@ def certify_upper(case: Case, mesh: Mesh, program: ConicProgram, solution: Solut
     return out
 
 
-def velocity_rows(case: Case, mesh: Mesh, program: ConicProgram) -> tuple:
-    """Rows over the upper bound's free velocities z: (exact, held, work, phi).
+@dataclasses.dataclass(frozen=True)
+class VelocityRows:
+    """Rows over an upper bound's free velocities z, for :func:`restore_velocities`.
+
+    ``exact``: what the velocities must meet exactly (Tresca incompressibility). ``held``:
+    the quantities in the flow rule's cones, which a restoration may hold: ``components``
+    rows for each of ``points`` frictional points (component-major), then rows always held
+    (the strip's frictional velocity jumps). ``work``: the load's work rate, a row vector.
+    ``breach``: the flow rule's breach at each frictional point from z (velocity units)."""
+
+    exact: sp.csr_matrix
+    held: sp.csr_matrix
+    work: np.ndarray
+    points: int
+    components: int
+    breach: Callable[[np.ndarray], np.ndarray]
+
+
+def velocity_rows(case: Case, mesh: Mesh, program: ConicProgram) -> VelocityRows:
+    """Rows over the strip's upper-bound free velocities z (:class:`VelocityRows`).
 
     ``exact``: what Tresca soil must meet exactly, incompressibility L (ex + ey) = 0 at each
     corner of each triangle (L = sqrt(2 area)) and n.b_i = 0 for each Bernstein coefficient
@@ -246,7 +267,8 @@ def velocity_rows(case: Case, mesh: Mesh, program: ConicProgram) -> tuple:
     ex - ey, gxy), and the Bernstein coefficients (n.b_i, t.b_i) of every other jump: the
     quantities in the flow rule's cones, which a restoration may hold: first the three
     components for every frictional corner (component-major), then the jumps. ``work``:
-    the load's work rate, a row vector. ``phi``: the friction angle of each frictional corner."""
+    the load's work rate, a row vector. ``breach``: sin(phi) ||(ex - ey, gxy)|| - (ex + ey)
+    at each frictional corner, times L."""
     T = program.layout["T"]
     n_w = 2 * len(mesh.points)
     phi = material_arrays(case)["phi"]
@@ -295,12 +317,19 @@ def velocity_rows(case: Case, mesh: Mesh, program: ConicProgram) -> tuple:
     for key, value in (("u", np.sin(delta)), ("v", -np.cos(delta))):
         if motion[key] >= 0:
             work_row[motion[key]] = value
-    frictional = np.repeat(phi[mesh.layer][~tresca], 3)  # each held corner's phi, in the held rows' order
-    return assemble_rows(blocks[True]), assemble_rows(blocks[False]), work_row, frictional
+    sin_phi = np.sin(np.repeat(phi[mesh.layer][~tresca], 3))  # each held corner's, in the held rows' order
+    held = assemble_rows(blocks[False])
+    corners = held[:3 * len(sin_phi)]
+
+    def breach(z: np.ndarray) -> np.ndarray:
+        volumetric, difference, shear = (corners @ z).reshape(3, -1)
+        return sin_phi * np.hypot(difference, shear) - volumetric
+
+    return VelocityRows(assemble_rows(blocks[True]), held, work_row, len(sin_phi), 3, breach)
 
 
 def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution,
-                       work: float = 1.0) -> Solution:
+                       work: float = 1.0, rows: VelocityRows | None = None) -> Solution:
     """The solution with its velocities restored, when what they miss is solver slack (at
     most :func:`solver_slack`); else unchanged (the certificate then fails on it).
 
@@ -314,10 +343,12 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
     holding them all): the frictional cones stay as the solver left them. Each projection solves
     (A A^T + delta I) y = r by sparse LU, z += A^T y, refined iteratively (delta,
     relative 1e-12, keeps dependent rows from making it singular). What was done is kept
-    in ``solution.notes``."""
+    in ``solution.notes``. ``rows``: the program's own (default: the strip's,
+    :func:`velocity_rows`; the circle's: certify_axisym.velocity_rows_axisym)."""
     if solution.x is None:
         return solution
-    exact, held, work_row, phi_held = velocity_rows(case, mesh, program)
+    rows = rows or velocity_rows(case, mesh, program)
+    exact, held, work_row = rows.exact, rows.held, rows.work
     n_z = len(work_row)
     x = solution.x
     rate = float(work_row @ x[:n_z])
@@ -334,19 +365,16 @@ def restore_velocities(case: Case, mesh: Mesh, program: ConicProgram, solution: 
         return solution  # more than slack: left for the certificate to judge
     notes = {**solution.notes, "work_rate_before": rate}
     if before > 0.1 * RESTORED_TOLERANCE * max(1.0, float(np.max(np.abs(z)))):
-        n_c = len(phi_held)  # frictional corners: held rows are their L (ex + ey), L (ex - ey), L gxy
-        corner_rows = held[:3 * n_c]
-        breach = lambda v: np.sin(phi_held) * np.hypot(*(corner_rows @ v).reshape(3, n_c)[1:]) \
-            - (corner_rows @ v)[:n_c]
-        start = np.maximum(breach(z), 0.0)
+        n_c, k = rows.points, rows.components  # frictional points: k held rows each
+        start = np.maximum(rows.breach(z), 0.0)
         hold = np.zeros(n_c, dtype=bool)
         for attempt in range(RESTORE_ROUNDS + 1):
             if attempt == RESTORE_ROUNDS:
-                hold[:] = True  # the last try holds every frictional corner
-            rows = np.concatenate([np.flatnonzero(np.tile(hold, 3)), np.arange(3 * n_c, held.shape[0])])
-            change = _least_change(sp.vstack([exact, held[rows], sp.csr_matrix(work_row)]).tocsr(),
-                                   np.concatenate([-residual, np.zeros(len(rows)), [-work_miss]]))
-            worse = breach(z + change) > start + 0.1 * slack
+                hold[:] = True  # the last try holds every frictional point
+            kept = np.concatenate([np.flatnonzero(np.tile(hold, k)), np.arange(k * n_c, held.shape[0])])
+            change = _least_change(sp.vstack([exact, held[kept], sp.csr_matrix(work_row)]).tocsr(),
+                                   np.concatenate([-residual, np.zeros(len(kept)), [-work_miss]]))
+            worse = rows.breach(z + change) > start + 0.1 * slack
             if not np.any(worse & ~hold):
                 break
             hold |= worse

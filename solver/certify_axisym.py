@@ -12,17 +12,25 @@ interior points, at every control point and at every point of the far field; the
 every equality and cone row of the program. The load is integrated again from
 sigma_z on the footing.
 
-Upper bound: the velocities are rebuilt, their prescribed values checked, the
-flow rule checked at every Bernstein coefficient of r^2 times the strain rate
-(where it holds everywhere), and the load recomputed from the velocities alone.
+Upper bound: the velocities are first restored as the strip's are
+(:func:`solver.certify.restore_velocities` with :func:`velocity_rows_axisym`): the
+point divided by its load's work rate, then the free velocities projected onto the
+Tresca incompressibility rows, div(W, U) = 0 at every corner of every Tresca triangle
+(linear: r tr(e) = div(W, U), so tr(e) = 0 at every point), holding every frictional
+control point's cone quantities. Then they are rebuilt, their prescribed values and
+Tresca incompressibility checked to round-off, the frictional flow rule checked at
+every Bernstein coefficient of r^2 times the strain rate (where it holds everywhere)
+within the solver's tolerance, and the load recomputed from the restored velocities
+alone: the bound is that of an exactly admissible field (or above it).
 """
 from __future__ import annotations
 
 import numpy as np
 
-from .certify import LOAD_TOLERANCE, STRESS_TOLERANCE, USABLE, _reason, program_residuals, solver_slack, \
-    stress_scale
-from .conic import AXISYM_UPPER_FEASIBILITY
+import scipy.sparse as sp
+
+from .certify import (LOAD_TOLERANCE, RESTORED_TOLERANCE, STRESS_TOLERANCE, USABLE, VelocityRows, _reason,
+                      program_residuals, restore_velocities, solver_slack, stress_scale)
 from .conic import ConicProgram, Solution
 from .ground import material_arrays, node_cohesion, surcharge_on_edges
 from .lower import traction_coefficients
@@ -258,10 +266,55 @@ def _absolute_sum(rates: np.ndarray) -> np.ndarray:
             + np.abs(rates[..., ET]))
 
 
+def velocity_rows_axisym(case: Case, mesh: Mesh, program: ConicProgram) -> VelocityRows:
+    """Rows over the circle's upper-bound free velocities z (solver.certify.VelocityRows):
+    ``exact``, L div(W, U) at the three corners of every Tresca triangle (the program's own
+    rows); ``held``, the scaled E_r + E_z, E_r - E_z, E_g, E_theta (component-major) at every
+    frictional control point off the axis; ``work``, the load's work rate -v_f; ``breach``,
+    sin(phi) (max(|E_r + E_z|, ||(E_r - E_z, E_g)||) + |E_theta|) - tr E at those points,
+    scaled as in the program (L / r_c^2: velocity units)."""
+    T = program.layout["T"]
+    n_w = 2 * len(mesh.points)
+    dof = np.concatenate([2 * mesh.triangles, 2 * mesh.triangles + 1], axis=1)  # (n_el, 12)
+    phi = material_arrays(case)["phi"][mesh.layer]
+    L = np.sqrt(2.0 * mesh.areas())
+    grad = corner_shape_gradients(mesh) * L[:, None, None, None]  # (n_el, 3, 6, 2)
+    tresca = np.flatnonzero(phi == 0.0)
+    divergence = np.concatenate([grad[tresca, ..., 0], grad[tresca, ..., 1]], axis=2).reshape(-1, 12)
+    el, pt = np.nonzero(~axis_points(mesh) & (phi > 0.0)[:, None])
+    E = rate_coefficients(mesh)[el, pt] * (L / mesh.corner_coordinates()[..., 0].mean(axis=1) ** 2)[el, None, None]
+    cone = [E[:, ER] + E[:, EZ], E[:, ER] - E[:, EZ], E[:, EG], E[:, ET]]  # each (n_points, 12)
+
+    def assemble_rows(element: np.ndarray, coefficients: np.ndarray) -> sp.csr_matrix:
+        rows = np.repeat(np.arange(len(coefficients)), 12)
+        w = sp.coo_matrix((coefficients.ravel(), (rows, dof[element].ravel())), shape=(len(coefficients), n_w))
+        return (w.tocsr() @ T).tocsr()
+
+    held = assemble_rows(np.tile(el, 4), np.concatenate(cone))
+    sin_phi = np.sin(phi[el])
+
+    def breach(z: np.ndarray) -> np.ndarray:
+        volumetric, difference, shear, hoop = (held @ z).reshape(4, -1)
+        return sin_phi * (np.maximum(np.abs(volumetric), np.hypot(difference, shear)) + np.abs(hoop)) \
+            - (volumetric + hoop)
+
+    work_row = np.zeros(T.shape[1])
+    work_row[program.layout["motion"]["v"]] = -1.0
+    return VelocityRows(assemble_rows(np.repeat(tresca, 3), divergence), held, work_row, len(el), 4, breach)
+
+
+def restore_velocities_axisym(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution) -> Solution:
+    """The solution with its velocities restored as the strip's (solver.certify.restore_velocities)."""
+    return restore_velocities(case, mesh, program, solution, rows=velocity_rows_axisym(case, mesh, program))
+
+
 def certify_upper_axisym(case: Case, mesh: Mesh, program: ConicProgram, solution: Solution) -> dict:
-    """Residuals of the axisymmetric upper-bound velocity field and the load recomputed from it."""
+    """Residuals of the axisymmetric upper-bound velocity field and the load recomputed from it,
+    after the velocities are restored (:func:`restore_velocities_axisym`; pass a restored
+    solution to have the fields of exactly the field certified)."""
     if solution.x is None:
         return {"passed": False, "reason": f"no solution ({solution.status})"}
+    solution = restore_velocities_axisym(case, mesh, program, solution)
     x = solution.x
     field = upper_velocity_field_axisym(case, mesh, program, x)
     w = velocities(program, x)
@@ -273,7 +326,8 @@ def certify_upper_axisym(case: Case, mesh: Mesh, program: ConicProgram, solution
              [abs(motion["v"] + 1.0)]]
     if case.footing.base == "rough":
         parts.append(np.abs(w[foot, 0]))
-    kinematic = float(max(np.max(p, initial=0.0) for p in parts))
+    largest = max(1.0, float(np.max(np.abs(x[:program.layout["T"].shape[1]]))))  # the largest velocity
+    kinematic = float(max(np.max(p, initial=0.0) for p in parts)) / largest
 
     mat = material_arrays(case)
     phi = mat["phi"][mesh.layer]
@@ -282,10 +336,12 @@ def certify_upper_axisym(case: Case, mesh: Mesh, program: ConicProgram, solution
     scale = (L / r.mean(axis=1) ** 2)[:, None]  # r^2 rates -> velocity units, as in the program
     rates = field["rates"]
     trace = (rates[..., ER] + rates[..., EZ] + rates[..., ET]) * scale
+    live = ~axis_points(mesh)
+    frictional = (phi > 0.0)[:, None] & live
+    # Tresca: tr E = r div(W, U) = 0 (restored to round-off); phi > 0: the cone, within solver slack
+    incompressible = float(np.max(np.abs(trace)[(phi == 0.0)[:, None] & live], initial=0.0))
     breach = np.sin(phi)[:, None] * _absolute_sum(rates) * scale - trace
-    breach = np.where((phi > 0.0)[:, None], breach, np.abs(trace))
-    breach[axis_points(mesh)] = 0.0
-    flow = float(max(np.max(breach), 0.0))
+    flow = float(max(np.max(breach[frictional], initial=0.0), 0.0))
 
     tri = mesh.triangles
     gamma = mat["gamma"][mesh.layer]
@@ -299,18 +355,19 @@ def certify_upper_axisym(case: Case, mesh: Mesh, program: ConicProgram, solution
     objective = solution.objective
     load = max(recomputed, objective)
     mismatch = abs(recomputed - objective) / max(abs(objective), 1e-12)
-    residuals = {"velocity_boundary": kinematic, "flow_rule": flow, "load_mismatch": mismatch}
-    # Breaches within what the solver's own stopping test lets through (its feasibility
-    # tolerance on this program, relative to the size of the point), as for the strip's
-    # frictional cones (certify.solver_slack). Unlike the strip's, a Tresca circle's
-    # velocities are not projected onto exact incompressibility: its residual is judged so too.
-    slack = solver_slack(program, x, feasibility=AXISYM_UPPER_FEASIBILITY)
-    limits = {"velocity_boundary": slack, "flow_rule": slack, "load_mismatch": LOAD_TOLERANCE}
+    residuals = {"velocity_boundary": kinematic, "incompressibility": incompressible / largest,
+                 "flow_rule": flow, "load_mismatch": mismatch}
+    # As for the strip: the prescribed velocities and Tresca incompressibility to round-off
+    # (restored), the frictional cones within what the solver's own stopping test lets
+    # through (its feasibility tolerance on this program, certify.solver_slack).
+    slack = solver_slack(program, x)
+    limits = {"velocity_boundary": RESTORED_TOLERANCE, "incompressibility": RESTORED_TOLERANCE,
+              "flow_rule": slack, "load_mismatch": LOAD_TOLERANCE}
     passed = solution.status in USABLE and all(residuals[k] <= limits[k] for k in residuals)
-    out = {"passed": bool(passed), "flow_tolerance": slack, "load_tolerance": LOAD_TOLERANCE,
-           "load_kN": load, "objective_kN": objective, "recomputed_kN": recomputed,
+    out = {"passed": bool(passed), "restored_tolerance": RESTORED_TOLERANCE, "flow_tolerance": slack,
+           "load_tolerance": LOAD_TOLERANCE, "load_kN": load, "objective_kN": objective, "recomputed_kN": recomputed,
            "dissipation_kN": 2 * np.pi * dissipation, "gravity_work_kN": 2 * np.pi * gravity,
-           "surcharge_work_kN": 2 * np.pi * surcharge, **residuals, "limits": limits}
+           "surcharge_work_kN": 2 * np.pi * surcharge, **residuals, "limits": limits, **solution.notes}
     if not passed:
         out["reason"] = _reason(solution.status, residuals, limits)
     return out

@@ -150,7 +150,7 @@ _CLARABEL_STATUS = {
 # ||A x + s - b||_2 <= FEASIBILITY * max(1, ||b||_2 + ||x||_2 + ||s||_2) (its termination test,
 # src/solver/implementations/default/info.rs); the certificates judge residuals by it.
 FEASIBILITY = 1e-8
-AXISYM_UPPER_FEASIBILITY = 1e-7  # the circle's upper bound (default_settings says why)
+AXISYM_UPPER_FEASIBILITY = 1e-7  # the circle's upper bound (default_settings and DEVELOPERS.md say why)
 # Static regularisation measured to turn the troubled solves into solved ones (below).
 STRONG_REGULARISATION = 1e-7
 
@@ -190,7 +190,10 @@ def default_settings(program: ConicProgram) -> dict:
         # residual sometimes could not pass (200 iterations "almost solved" on a tank case with a
         # water table, 26 with 1e-7; 21-51 iterations on five other cases at 1.5k triangles; 1e-7
         # regularisation took up to 200, 1e-9 ended in numerical trouble on Mohr-Coulomb soil).
-        # The certificate judges its flow rule against this tolerance (certify_axisym).
+        # That stall was nearly criss-cross stars (mesh.snap_crossings); with them snapped 1e-8
+        # converges but took more iterations on every case tried (DEVELOPERS.md). Tresca
+        # incompressibility is restored to round-off; the certificate judges the frictional
+        # cones against this tolerance (certify_axisym).
         settings["tol_feas"] = AXISYM_UPPER_FEASIBILITY
         return settings
     if program.kind == "lower" or program.n_nonneg:

@@ -639,6 +639,7 @@ def build_mesh(case: Case, order: int, elements: int | None = None,
     if layout:
         points, triangles = _add_fans(points, triangles, layout, rim_nodes)
     if order == 2:
+        points = snap_crossings(points, triangles, levels=(0.0, *(-d for d in unit.interfaces)))
         # midside nodes computed here rather than by gmsh's setOrder, which on a long, thin
         # domain failed to place them and then crashed the process in gmsh.finalize
         points, triangles = _second_order(points, triangles)
@@ -911,6 +912,89 @@ def _add_fans(points: np.ndarray, triangles: np.ndarray, layout: FanLayout,
         # one diagonal direction throughout (alternating ones measured no better)
         new_triangles += [first, np.stack([a, c, d], -1).reshape(-1, 3), np.stack([a, d, b], -1).reshape(-1, 3)]
     return np.concatenate(new_points), np.concatenate(new_triangles)
+
+
+# An interior node with exactly four triangles whose edges lie nearly on two straight lines
+# (a criss-cross star) makes the upper bound's four incompressibility rows at that node nearly
+# dependent: exactly on the crossing they are dependent (the corner divergence of each of the
+# four triangles is set by the derivatives along the four half-lines alone, as for linear
+# triangles), a little off it their smallest singular value is about the offset over the
+# element size. Measured: the water-tank example at 2k triangles had six such stars in a
+# 1 m band, offsets 2.5e-4 to 1.1e-3 of h; at 1.1e-3 (singular values 128 : 0.125) Clarabel's
+# primal residual stalled at 2.6e-7 on those four rows and the upper bound ended "almost
+# solved" at its 200-iteration limit (11.4 s); with the node moved onto the crossing, 24
+# iterations, 1.6 s, and a bound 2e-6 lower (the dependent row frees the patch); moved 0.1 h
+# away from it, 31 iterations and a bound 1e-5 higher. So such a node is moved onto the
+# crossing, which any admissible mesh allows: the bound stays that of the mesh solved.
+CROSSING_SNAP = 0.05  # offset / h below which a criss-cross node is moved onto its crossing
+
+
+def snap_crossings(points: np.ndarray, triangles: np.ndarray, levels: tuple[float, ...] = (),
+                   rounds: int = 3) -> np.ndarray:
+    """Points (first-order mesh) with every nearly criss-cross interior node moved onto the
+    crossing of its star's two lines (see CROSSING_SNAP). A node on the domain's boundary is
+    never moved; a node at one of ``levels`` (y of the ground and the layer interfaces) only
+    along that level, when one of its star's lines lies on it. Two such nodes joined by an
+    edge are moved in turns (``rounds``), the lower-numbered first."""
+    points = points.copy()
+    tri = triangles[:, :3]
+    edges = np.sort(tri[:, [[0, 1], [1, 2], [2, 0]]].reshape(-1, 2), axis=1)
+    unique, counts = np.unique(edges, axis=0, return_counts=True)
+    on_boundary = np.zeros(len(points), dtype=bool)
+    on_boundary[unique[counts == 1].ravel()] = True
+    star = np.bincount(tri.ravel(), minlength=len(points))
+    node = np.flatnonzero((star == 4) & ~on_boundary)
+    if not len(node):
+        return points
+    # each candidate's four triangles, then its four neighbours in angular order
+    slot = np.argsort(tri.ravel(), kind="stable")
+    first = np.searchsorted(tri.ravel()[slot], node)
+    element = slot[first[:, None] + np.arange(4)] // 3  # (n, 4)
+    others = tri[element].reshape(len(node), 12)
+    others = others[others != node[:, None]].reshape(len(node), 8)
+    size = max(float(np.ptp(points[:, 0])), float(np.ptp(points[:, 1])), 1.0)
+    for _ in range(rounds):
+        d = points[others] - points[node][:, None, :]
+        order = np.argsort(np.arctan2(d[..., 1], d[..., 0]), axis=1)
+        paired = np.take_along_axis(others, order, axis=1)
+        ring = paired[:, ::2]  # each neighbour appears twice: a closed star of four triangles
+        closed = np.all(paired[:, 1::2] == ring, axis=1)
+        v = points[ring]  # (n, 4, 2)
+        d1, d2 = v[:, 2] - v[:, 0], v[:, 3] - v[:, 1]
+        cross = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
+        w = v[:, 1] - v[:, 0]
+        t = (w[:, 0] * d2[:, 1] - w[:, 1] * d2[:, 0]) / np.where(cross != 0.0, cross, 1.0)
+        crossing = v[:, 0] + t[:, None] * d1
+        h = np.sqrt(np.mean(np.sum((v - points[node][:, None, :]) ** 2, axis=2), axis=1))
+        offset = np.linalg.norm(crossing - points[node], axis=1)
+        move = closed & (cross != 0.0) & (offset > 0.0) & (offset < CROSSING_SNAP * h)
+        tol = 1e-9 * size
+        for level in levels:  # a node at an interface moves only along it
+            at = np.abs(points[node, 1] - level) < tol
+            along = np.any([(np.abs(v[:, a, 1] - level) < tol) & (np.abs(v[:, a + 2, 1] - level) < tol)
+                            for a in (0, 1)], axis=0)
+            move &= ~at | along
+            crossing[at & along, 1] = level
+        if not np.any(move):
+            break
+        # two such nodes joined by an edge (each moves the other's crossing): the lower-numbered
+        # one moves this round
+        nearest = np.full(len(points), len(points))
+        np.minimum.at(nearest, ring[move].ravel(), node[move].repeat(4))
+        move &= nearest[node] > node
+        before = _signed_areas(points, tri[element[move]])
+        trial = points.copy()
+        trial[node[move]] = crossing[move]
+        kept = np.all(np.sign(_signed_areas(trial, tri[element[move]])) == np.sign(before), axis=1)
+        points[node[move][kept]] = crossing[move][kept]
+    return points
+
+
+def _signed_areas(points: np.ndarray, triangles: np.ndarray) -> np.ndarray:
+    """Twice the signed area of each triangle of any shape (..., 3) of corner rows."""
+    p = points[triangles]
+    return ((p[..., 1, 0] - p[..., 0, 0]) * (p[..., 2, 1] - p[..., 0, 1])
+            - (p[..., 2, 0] - p[..., 0, 0]) * (p[..., 1, 1] - p[..., 0, 1]))
 
 
 def _second_order(points: np.ndarray, triangles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

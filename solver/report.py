@@ -819,8 +819,8 @@ RESIDUALS = {
     "load_mismatch_kPa": ("load recomputed from the stresses against the solver's", "kPa"),
     "velocity_boundary": ("velocities on the fixed boundary and under the rigid footing, relative to the largest "
                           "velocity", ""),
-    "incompressibility": ("Tresca flow rule: no change of volume at any triangle corner, relative to the largest "
-                          "velocity", ""),
+    "incompressibility": ("Tresca flow rule: no change of volume (a strip's triangle corners; every control point "
+                          "of a circle), relative to the largest velocity", ""),
     "flow_rule": ("flow rule where it is a cone (a strip's Mohr-Coulomb corners; every control point of a "
                   "circle): the largest breach, strain rate times the triangle's size, the footing moving at 1", ""),
     "load_mismatch": ("load recomputed from the velocities (dissipation less the work of weight and surcharge) "
@@ -884,7 +884,7 @@ def certificate_rows(cert: dict) -> list[tuple[str, str]]:
         rows.append(("velocities restored before certifying (Tresca incompressibility projected to round-off)",
                      f"breach {sci(restored.get('incompressibility_before'))} before, "
                      f"{sci(restored.get('incompressibility_after'))} after; largest velocity change "
-                     f"{sci(restored.get('largest_velocity_change'))}; frictional corners held "
+                     f"{sci(restored.get('largest_velocity_change'))}; frictional points held "
                      f"{num(restored.get('frictional_corners_held'))}"))
     done = set(RESIDUALS) | set(CERTIFICATE_FIGURES) | set(TOLERANCE_KEYS) | {"restored", "reason"}
     for key, value in cert.items():

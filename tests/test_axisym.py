@@ -219,3 +219,130 @@ def test_pictures_name_a_circle_by_its_diameter():
                         "layers": [{"name": "clay", "model": "tresca", "undrained_strength": 30.0, "unit_weight": 18.0}]})
     assert "diameter B = 12 m" in footing_label(circle, 12.0) and "axis" in footing_label(circle, 12.0)
     assert footing_label(strip, 12.0) == "footing, B = 12 m"
+
+
+# -- the upper bound's velocities restored before the certificate (as the strip's) ----------
+
+@pytest.fixture(scope="module")
+def tresca_upper():
+    """A rough Tresca circle under its own weight and a surcharge: one solved upper bound."""
+    data = circle(unit_weight=17.0)
+    data["ground"] = {"surcharge": 10.0}
+    data["footing"]["base"] = "rough"
+    case = parse_case(data)
+    mesh = build_mesh(case, order=2, elements=400)
+    program = upper_bound_program_axisym(case, mesh)
+    return case, mesh, program, solve(program)
+
+
+def corner_divergence(mesh, program, x) -> float:
+    """The largest |div(W, U)| L at a triangle corner (Tresca incompressibility), computed
+    here from the velocities, relative to the largest free velocity."""
+    from solver.upper import corner_shape_gradients
+    w = velocities(program, x)
+    grad = corner_shape_gradients(mesh) * np.sqrt(2.0 * mesh.areas())[:, None, None, None]
+    div = np.einsum("emi,ei->em", grad[..., 0], w[mesh.triangles, 0]) \
+        + np.einsum("emi,ei->em", grad[..., 1], w[mesh.triangles, 1])
+    return float(np.abs(div).max() / max(1.0, np.abs(x[:program.layout["T"].shape[1]]).max()))
+
+
+def test_tresca_circle_velocities_are_projected_onto_exact_incompressibility(tresca_upper):
+    # The solver meets the incompressibility rows only to its tolerance; the certificate must
+    # judge the field it reports, restored to round-off, and recompute the load from it.
+    from solver.certify_axisym import restore_velocities_axisym
+    case, mesh, program, solution = tresca_upper
+    assert corner_divergence(mesh, program, solution.x) > 1e-12  # as solved: not exact
+    certificate = certify_upper_axisym(case, mesh, program, solution)
+    assert certificate["passed"], certificate
+    assert certificate["restored"]["incompressibility_after"] < 1e-12
+    assert certificate["limits"]["incompressibility"] == 1e-10
+    assert certificate["incompressibility"] <= 1e-10
+    restored = restore_velocities_axisym(case, mesh, program, solution)
+    assert corner_divergence(mesh, program, restored.x) < 1e-12
+    assert restored.x[program.layout["motion"]["v"]] == pytest.approx(-1.0, abs=1e-14)
+    # the bound reported is at least the load recomputed from the restored, admissible field
+    again = certify_upper_axisym(case, mesh, program, restored)
+    assert "restored" not in again or again["restored"] == certificate["restored"]
+    assert certificate["recomputed_kN"] == pytest.approx(again["recomputed_kN"], rel=1e-12)
+    assert certificate["load_kN"] >= again["recomputed_kN"]
+
+
+def test_circle_velocities_far_from_incompressible_are_not_restored(tresca_upper):
+    case, mesh, program, solution = tresca_upper
+    x = solution.x.copy()
+    inside = np.setdiff1d(mesh.triangles[:, :3], mesh.boundary_edges)  # corners off every boundary
+    node = inside[len(inside) // 2]
+    columns = program.layout["T"].tocsr()[2 * node: 2 * node + 2].nonzero()[1]
+    assert len(columns) == 2
+    x[columns] += 0.01  # far beyond the solver's slack
+    certificate = certify_upper_axisym(case, mesh, program, replace(solution, x=x))
+    assert not certificate["passed"]
+    assert "restored" not in certificate
+    assert certificate["incompressibility"] > 1e-4
+
+
+def test_restoring_a_circle_in_sand_over_clay_keeps_the_sands_flow_rule():
+    # Tresca clay is projected while the sand's control points are held (their cones are
+    # not equalities; the projection must not spend the solver's slack on them).
+    data = {"footing": {"width": 2.0, "shape": "circular", "base": "rough"},
+            "layers": [{"name": "sand", "model": "mohr-coulomb", "thickness": 0.5, "unit_weight": 18.0,
+                        "cohesion": 0.0, "friction_angle": 32.0},
+                       {"name": "clay", "model": "tresca", "unit_weight": 17.0, "undrained_strength": 30.0}]}
+    case = parse_case(data)
+    mesh = build_mesh(case, order=2, elements=400)
+    program = upper_bound_program_axisym(case, mesh)
+    solution = solve(program)
+    certificate = certify_upper_axisym(case, mesh, program, solution)
+    assert certificate["passed"], certificate
+    assert certificate["incompressibility"] <= 1e-10 and "restored" in certificate
+    assert certificate["flow_rule"] <= certificate["limits"]["flow_rule"]
+
+
+# -- nearly criss-cross nodes in the upper bound's mesh ---------------------------------
+
+def star(offset: tuple[float, float], centre_y: float = 0.5):
+    """Four triangles round one node near the crossing (0.5, centre_y) of a quadrilateral's
+    diagonals: corners (0, 0), (1, 0), (1, 1), (0, 1) moved so the crossing is at centre_y."""
+    top = 2 * centre_y
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, top], [0.0, top],
+                       [0.5 + offset[0], centre_y + offset[1]]])
+    triangles = np.array([[0, 1, 4], [1, 2, 4], [2, 3, 4], [3, 0, 4]])
+    return points, triangles
+
+
+def test_a_nearly_criss_cross_node_is_moved_onto_its_crossing():
+    from solver.mesh import CROSSING_SNAP, snap_crossings
+    points, triangles = star((1e-3, -2e-3))
+    moved = snap_crossings(points, triangles)
+    assert moved[4] == pytest.approx([0.5, 0.5], abs=1e-15)
+    assert np.array_equal(moved[:4], points[:4])  # the boundary stays
+    far = star((1.5 * CROSSING_SNAP, 0.0))[0]  # h about sqrt(0.5): an offset over CROSSING_SNAP h stays
+    assert np.array_equal(snap_crossings(far, triangles), far)
+    # on an interface (y = 0.5, through corners 4, 5 below): only along it, when one line lies on it
+    points = np.array([[0.5, 0.0], [1.0, 0.5], [0.5, 1.0], [0.0, 0.5], [0.5 + 1e-3, 0.5]])
+    moved = snap_crossings(points, triangles, levels=(0.5,))
+    assert moved[4, 1] == 0.5 and moved[4, 0] == pytest.approx(0.5, abs=1e-15)
+    points[4, 1] = 0.5 + 1e-3  # off the interface level: left alone there
+    assert np.array_equal(snap_crossings(points, triangles, levels=(0.5 + 1e-3,)), points)
+
+
+WATER_TANK = {"footing": {"width": 12.0, "shape": "circular", "base": "rough", "embedment": 0.5},
+              "ground": {"water_table": 1.5},
+              "layers": [{"name": "crust", "model": "tresca", "thickness": 2.5, "unit_weight": 18.5,
+                          "saturated_unit_weight": 19.0, "undrained_strength": 45.0},
+                         {"name": "soft clay", "model": "tresca", "unit_weight": 16.5, "undrained_strength": 18.0,
+                          "strength_gradient": 1.8}],
+              "analysis": {"mesh": "fixed", "elements": 1000}}
+
+
+def test_a_thin_band_of_criss_cross_stars_does_not_stall_the_circles_upper_bound():
+    # examples/water-tank.toml: the 1 m band above the water table is meshed in stars of four
+    # triangles whose nodes sit 1e-4 to 1e-3 h off their crossings; their incompressibility
+    # rows were nearly dependent and the solve crept (70 iterations here, 200 and "almost
+    # solved" at 2k triangles, against 22-24 with the nodes on their crossings).
+    case = parse_case(WATER_TANK)
+    mesh = build_mesh(case, order=2, elements=1000)
+    program = upper_bound_program_axisym(case, mesh)
+    solution = solve(program)
+    assert solution.status == "optimal" and solution.iterations < 45, (solution.status, solution.iterations)
+    assert certify_upper_axisym(case, mesh, program, solution)["passed"]
