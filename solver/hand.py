@@ -888,7 +888,9 @@ def _terzaghi_on(case: Case, soil: _Soil | None, why: str, local_shear: bool) ->
                                          "table (0 to 50 deg)")
     gamma = _mean_gamma(case, soil.layer, 0.0, st.width_eff)
     if phi_used > 0.0 and gamma > 0.0:
-        return _none(name, SRC_TERZAGHI, TERZAGHI_NGAMMA_UNCHECKED)
+        # for a circle this version has only EN 1997-1's shape factors beside Terzaghi's forms
+        return _none(name, SRC_TERZAGHI, TERZAGHI_NGAMMA_UNCHECKED if case.footing.shape == "strip"
+                     else TERZAGHI_NGAMMA_UNCHECKED.replace("Meyerhof, Hansen, Vesic, EN 1997-1", "EN 1997-1"))
     est = terzaghi_footing(soil.phi_deg, soil.c_kPa, gamma, st.width_eff, st.q,
                            "circle" if case.footing.shape == "circular" else "strip", local_shear=local_shear)
     notes = [why, est.note, *_setting_notes(st, soil, gamma)]

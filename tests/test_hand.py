@@ -698,3 +698,15 @@ def test_no_estimate_says_from_memory(layers):
         for est in hand_methods(strip_case(*layers, embedment=0.5), strength):
             assert "from memory" not in est.source and "from memory" not in est.note, est.method
             assert "memory" not in est.note and "recalled" not in est.note, est.method
+
+
+def test_a_circle_on_sand_with_weight_points_only_to_the_methods_it_has():
+    """Terzaghi gives no value where N_gamma counts; for a circle the note must send the reader
+    to the one method this version gives a circle (EN 1997-1), not to strip-only methods."""
+    from dataclasses import replace
+
+    strip = strip_case(sand("sand", 32.0))
+    circle = replace(strip, footing=replace(strip.footing, shape="circular"))
+    for case, pointed in ((strip, "see Meyerhof, Hansen, Vesic, EN 1997-1"), (circle, "- see EN 1997-1")):
+        note = by_method(case)["Terzaghi (1943), general shear"].note
+        assert note.endswith(pointed), note
