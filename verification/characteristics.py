@@ -347,10 +347,8 @@ def _active_zone(soil: Soil, axisymmetric: bool, cone_line: np.ndarray) -> np.nd
 
 def _ordered_prefix(x: np.ndarray) -> int:
     """Length of the leading run of valid points whose x falls strictly towards the axis."""
-    end = 1
-    while end < len(x) and np.isfinite(x[end]) and x[end] < x[end - 1]:
-        end += 1
-    return end
+    falling = x[1:] < x[:-1]  # False where either is NaN
+    return 1 + (int(np.argmin(falling)) if not np.all(falling) else len(falling))
 
 
 def _base_load(soil: Soil, base: np.ndarray, axisymmetric: bool) -> tuple[float, float]:
@@ -490,9 +488,10 @@ def capacity(soil: Soil, base: str, axisymmetric: bool, lines: int, fan_steps: i
 
 
 def reach(soil: Soil, base: str, axisymmetric: bool, lines: int = 64) -> float:
-    """m: how far along the surface the net must start so that the load's part of it is
-    inside: a coarse net on a generous guess (three times the strip's passive zone, common
-    practice for Prandtl-Reissner), then the first alpha line not needed, with a margin."""
+    """m: how far along the surface (from the axis) the net must reach so that the part of it
+    the load depends on is inside: a coarse net on a generous guess, 3 exp(pi/2 tan(phi))
+    tan(45 + phi/2) a beyond the edge (the strip's plastic zone reaches less far), then the
+    first alpha line not needed, with a margin."""
     phi = soil.phi
     guess = RADIUS_M * (1.0 + 3.0 * math.exp(math.pi / 2 * math.tan(phi)) * math.tan(math.pi / 4 + phi / 2))
     surface = np.linspace(RADIUS_M, guess, lines + 1)
