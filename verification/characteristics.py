@@ -26,13 +26,15 @@ circle's radius R = sigma sin(phi) + c cos(phi) (kPa), the yield condition gives
 
 Haar-von Karman: the hoop stress is the minor principal stress, sigma_theta = sigma - R. Why:
 a footing pushed into the ground drives the soil down and away from the axis (u_r >= 0), so the
-hoop strain rate u_r / r is an extension. With the associated flow rule of Mohr-Coulomb the
-extension is the strain rate along sigma_3, and a principal stress whose strain rate is not
-zero must lie on a yield plane with the largest or the smallest: the hoop stress sits on the
-edge of the pyramid with sigma_3, sigma_theta = sigma_3. (In the passive zone beside the
-footing sigma_3 = sigma_y = q, so sigma_theta = q at the surface.) This is the choice of Shield
-(1955) for the Tresca punch (the algebraically greatest stress, tension positive) and of Cox,
-Eason & Hopkins (1961) for indentation (from memory).
+hoop strain rate u_r / r is an extension. Under the associated flow rule of Mohr-Coulomb a
+principal stress strictly between the major and the minor one has no strain rate, the major
+one's is a compression and only the minor one's an extension (rates in the ratio
+-(1 - sin phi) : (1 + sin phi)). An extending hoop direction therefore needs sigma_theta =
+sigma_3: the stress lies on the edge of the yield pyramid where the hoop stress equals the
+in-plane minor stress. (In the passive zone beside the footing sigma_3 = sigma_y = q, so
+sigma_theta = q at the surface.) This is the choice of Shield (1955) for the Tresca punch (the
+algebraically greatest stress, tension positive) and of Cox, Eason & Hopkins (1961) for
+indentation (from memory).
 
 Equilibrium (weightless): d(sigma_x)/dx + d(tau)/dy + (sigma_x - sigma_theta)/x = 0 and
 d(tau)/dx + d(sigma_y)/dy + tau/x = 0 (the terms in 1/x only for the circle). Derived here (the
