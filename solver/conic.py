@@ -161,14 +161,18 @@ def default_settings(program: ConicProgram) -> dict:
     The linear solver is qdldl: Clarabel's "auto" picks faer here, which took
     twice as long on the lower bound (Prandtl, 2k and 4k triangles: 4.9 s and
     12.9 s against 2.4 s and 6.5 s; the same on the upper bound).
-    The relative duality gap tolerance is 1e-4 (Clarabel's default 1e-8):
-    either bound is the primal objective at a primal feasible point (the
-    certificate checks feasibility on its own), so stopping at a gap of 1e-4
-    costs at most 0.01 % of the bound, and it saves a quarter to a half of
-    the iterations of the lower bound, whose last decades creep at short
-    steps (Prandtl, 8k triangles: 28 iterations against 37 at 1e-5 and 53 at
-    1e-8; lower bound -0.0235 % against -0.0221 % and -0.0219 %; the upper
-    bound's 21 iterations did not change). Iterative refinement stops at
+    The relative duality gap tolerance of the lower bound is 1e-4 (Clarabel's
+    default 1e-8): either bound is the primal objective at a primal feasible
+    point (the certificate checks feasibility on its own), and stopping the
+    lower bound at 1e-4 saves a quarter to a half of its iterations, whose
+    last decades creep at short steps (Prandtl, 8k triangles: 28 iterations
+    against 37 at 1e-5 and 53 at 1e-8; lower bound -0.0235 % against -0.0221 %
+    and -0.0219 %). The strip's upper bound keeps 1e-8 (UPPER_GAP): at 1e-4 to
+    1e-7 Clarabel stopped one iteration early, 0.03-0.06 % above the optimum of
+    the same program (N_gamma phi 30, graded 16k: 135.196 against 135.158
+    kN/m, 26 against 27 iterations; adaptive 16k: 134.475 against 134.398, 23
+    against 24; phi 35, 8k: +0.017 %), with no change on Prandtl, sand over
+    clay or the slope at 8k. Iterative refinement stops at
     1e-9 relative, 1e-10 absolute (default 1e-13, 1e-12): about 10 % less
     time (Prandtl 8k, both bounds; N_gamma 4k lower bound), same iterations,
     same bounds to 1e-7. Feasibility tolerances stay at
@@ -196,11 +200,14 @@ def default_settings(program: ConicProgram) -> dict:
         # cones against this tolerance (certify_axisym).
         settings["tol_feas"] = AXISYM_UPPER_FEASIBILITY
         return settings
+    if program.kind == "upper":
+        settings["tol_gap_rel"] = UPPER_GAP
     if program.kind == "lower" or program.n_nonneg:
         settings["static_regularization_constant"] = STRONG_REGULARISATION
     return settings
 
 
+UPPER_GAP = 1e-8  # relative duality gap at which a strip's upper bound stops (settings(): measured)
 MKL_FROM_KKT = 200_000  # KKT dimension (variables + rows) from which MKL Pardiso is used when present.
 # Measured on Prandtl's case, solve time qdldl / MKL side by side (two runs each, shared machine):
 # lower bound 5k triangles (KKT 126k) 0.9-1.2, 10k (262k) 1.5-2.0, 20k (517k) 2.7-3.0; upper bound
