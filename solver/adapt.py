@@ -105,7 +105,11 @@ def gap_density(case: Case, lower, upper) -> np.ndarray:
     integrand is nonnegative everywhere (D is the largest work of any stress inside the
     yield cone) and its integral over the domain is the gap (times the half-domain's 1/2;
     the three-point rule makes it close, not exact: N_gamma 4k, 7.50 against 7.46 kN/m).
-    Points outside the lower bound's mesh count D alone; velocity jumps are not counted."""
+    Points outside the lower bound's mesh count D alone; velocity jumps are not counted.
+
+    A circle's (axisymmetric) share is the same integral over the ring, 2 pi r dA, with the
+    hoop terms: the upper bound's own dissipation of each triangle (exact, whole ring) less
+    the three-point rule of 2 pi r (sigma : strain rate + sigma_theta e_theta)."""
     from matplotlib.tri import Triangulation
 
     from .ground import material_arrays, node_cohesion
@@ -121,7 +125,8 @@ def gap_density(case: Case, lower, upper) -> np.ndarray:
     # it lies above the norm of the interpolated strain rate inside the triangle)
     rho = np.where(frictional, (strain[..., 0] + strain[..., 1]) / np.where(frictional, np.sin(phi)[:, None], 1.0),
                    np.hypot(strain[..., 0] - strain[..., 1], strain[..., 2]))
-    eta = np.zeros(up.n_elements)
+    axisymmetric = "hoop_rate" in upper.fields
+    eta = upper.fields["dissipation"].copy() if axisymmetric else np.zeros(up.n_elements)
     for weights in GAUSS_POINTS:
         x = np.einsum("c,ncd->nd", weights, corners)
         ex, ey, gxy = np.einsum("c,ncs->ns", weights, strain).T
@@ -134,7 +139,14 @@ def gap_density(case: Case, lower, upper) -> np.ndarray:
         bary = np.column_stack([1.0 - local.sum(axis=1), local])
         sigma = np.zeros((len(x), 3))
         sigma[inside] = np.einsum("kn,knc->kc", bary, lower.fields["stress"][element[inside]])
-        eta += up.areas() / 3.0 * (dissipation - (sigma[:, 0] * ex + sigma[:, 1] * ey + sigma[:, 2] * gxy))
+        work = sigma[:, 0] * ex + sigma[:, 1] * ey + sigma[:, 2] * gxy
+        if axisymmetric:  # the ring: 2 pi r dA, and the hoop stress's work on the hoop strain rate
+            hoop = np.zeros(len(x))
+            hoop[inside] = np.einsum("kn,kn->k", bary, lower.fields["hoop_kPa"][element[inside]])
+            work = 2.0 * np.pi * x[:, 0] * (work + hoop * (upper.fields["hoop_rate"] @ weights))
+            eta -= up.areas() / 3.0 * work
+        else:
+            eta += up.areas() / 3.0 * (dissipation - work)
     return eta
 
 
