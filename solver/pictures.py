@@ -846,13 +846,14 @@ def _section_caption(circle: bool) -> str:
 
 def _field_title(head: str, numbers: str, circle: bool) -> str:
     """A field picture's title: what it shows and its numbers; a circle's has a second line
-    saying that it is the half section r >= 0 (room for it: :func:`_title_height`)."""
-    return f"{head} ({numbers})" + (f"\n{SECTION_LINE}" if circle else "")
+    saying that it is the half section r >= 0, and its numbers on a line of their own, since
+    the half section's frame is narrower than the title on one line (room: :func:`_title_height`)."""
+    return f"{head}\n({numbers})\n{SECTION_LINE}" if circle else f"{head} ({numbers})"
 
 
 def _title_height(circle: bool) -> float:
-    """Inches of a picture's title row: one line, or two for a circle (:func:`_field_title`)."""
-    return TITLE_IN + (TITLE_LINE_IN if circle else 0.0)
+    """Inches of a picture's title row: one line, or three for a circle (:func:`_field_title`)."""
+    return TITLE_IN + (2 * TITLE_LINE_IN if circle else 0.0)
 
 
 def _draw_axis(ax, y_lo: float, y_hi: float, side: str = "right") -> None:
