@@ -32,18 +32,21 @@ def _field(x: float, y: float) -> tuple[float, float]:
     return 5.0 + 2.0 * x + 0.3 * y * y + x * y, 0.3 + 0.2 * x - 0.5 * y + 0.1 * x * y
 
 
-@pytest.mark.parametrize("friction_angle", [0.0, 20.0])
+@pytest.mark.parametrize(("friction_angle", "strength_gradient"), [(0.0, 0.0), (20.0, 0.0), (0.0, 2.5)])
 @pytest.mark.parametrize("axisymmetric", [False, True])
-def test_each_relation_is_a_combination_of_the_equilibrium_equations(friction_angle, axisymmetric):
+def test_each_relation_is_a_combination_of_the_equilibrium_equations(friction_angle, strength_gradient,
+                                                                     axisymmetric):
     # Along each characteristic, cos(phi) d(sigma)/ds -+ 2 R d(psi)/ds - G must equal a
     # combination of the two equilibrium residuals; on an arbitrary field the residuals are
-    # not zero, so a wrong sign or term in G shows.
-    soil = ch.Soil(friction_angle, 3.0, 0.0)
+    # not zero, so a wrong sign or term in G shows. With su rising with depth (Tresca) the
+    # residuals are taken of the stresses built with R = su0 + rho y, so the terms in d(su)/dy
+    # that G must carry come from the finite differences, not from the generator's algebra.
+    soil = ch.Soil(friction_angle, 3.0, 0.0, strength_gradient)
     x0, y0, h = 1.3, 0.7, 1e-5
 
     def stresses(x: float, y: float) -> np.ndarray:
         sigma, psi = _field(x, y)
-        radius = float(soil.radius_kPa(np.asarray(sigma)))
+        radius = float(soil.radius_kPa(np.asarray(sigma), y))
         return np.array([sigma + radius * math.cos(2 * psi), sigma - radius * math.cos(2 * psi),
                          radius * math.sin(2 * psi), sigma + ch.HOOP * radius])
 
@@ -57,8 +60,8 @@ def test_each_relation_is_a_combination_of_the_equilibrium_equations(friction_an
     res_x = grad_s[0] + grad_t[2] + ring * (sx - hoop)  # d sx/dx + d tau/dy + (sx - st)/x
     res_y = grad_s[2] + grad_t[1] + ring * tau  # d tau/dx + d sy/dy + tau/x
     sigma, psi = _field(x0, y0)
-    radius = float(soil.radius_kPa(np.asarray(sigma)))
-    g_alpha, g_beta = (float(g[0]) for g in ch._sources(soil, axisymmetric, np.array([x0]),
+    radius = float(soil.radius_kPa(np.asarray(sigma), y0))
+    g_alpha, g_beta = (float(g[0]) for g in ch._sources(soil, axisymmetric, np.array([x0]), np.array([y0]),
                                                             np.array([sigma]), np.array([psi])))
     mu = soil.mu
     for direction, sign, g, combination in ((psi - mu, -1.0, g_alpha, psi - math.pi / 2 + mu),
