@@ -152,5 +152,45 @@ def test_verification_cases_of_the_method_match_the_generator():
         if base == "rough" and phi > 0.0:
             continue
         soil = ch.soil_for(phi, which)
+        if soil_data.get("strength_gradient", 0.0) > 0.0:  # rho B / su0, B the case's diameter
+            soil = ch.rising_soil(soil_data["strength_gradient"] * case["case"]["footing"]["width"]
+                                  / soil_data["undrained_strength"])
         value = ch.factor(soil, ch.capacity(soil, base, True, 128, 64, ch.reach(soil, base, True)).pressure_kPa)
         assert value == pytest.approx(case["reference"], rel=1e-3), case["id"]
+
+
+# -- strength rising with depth (Tresca) ------------------------------------------------
+
+def test_rising_strength_needs_tresca_soil():
+    with pytest.raises(ValueError, match="strength_gradient_kPa_per_m"):
+        ch.capacity(ch.Soil(20.0, 1.0, 0.0, 1.0), "smooth", False, 16, 8, 2.0)
+
+
+@pytest.mark.parametrize("kappa", [2.0, 10.0])
+def test_smooth_strip_with_rising_strength_converges_at_second_order_within_rigorous_limits(kappa):
+    # su = su0 + rho y makes the relations non-linear in position, so the nets now carry an
+    # error of second order (a wrong or missing gradient term would not converge like this,
+    # and the relation test above pins the terms themselves). The limit must lie between two
+    # rigorous limits of the true collapse load: (2 + pi) su0 (the uniform field of su0 is
+    # admissible, su >= su0 everywhere; Prandtl 1920) and Prandtl's mechanism integrated on the
+    # su profile, (2 + pi) + 2 kappa (an upper bound; derived in verification/runner.py).
+    soil = ch.rising_soil(kappa)
+    reach = ch.reach(soil, "smooth", False)
+    values = [ch.capacity(soil, "smooth", False, n, n // 2, reach).pressure_kPa for n in (64, 128, 256)]
+    steps = np.diff(values)
+    assert 3.0 < steps[0] / steps[1] < 5.0
+    extrapolated = values[2] + steps[1] / 3.0
+    assert abs(extrapolated - values[2]) < 1e-4
+    assert 2.0 + math.pi < extrapolated < 2.0 + math.pi + 2.0 * kappa
+
+
+def test_smooth_circle_with_rising_strength_starts_at_shields_value_and_rises_with_kappa():
+    # kappa = 0 is Shield's smooth punch (5.69, from memory); a soil stronger everywhere
+    # carries no less (lower-bound theorem), so q_u / su0 must rise with kappa. The values
+    # themselves are pinned by the cases test above (typed from the generator's table).
+    values = []
+    for kappa in (0.0, 1.0, 2.0):
+        soil = ch.rising_soil(kappa)
+        values.append(ch.capacity(soil, "smooth", True, 64, 32, ch.reach(soil, "smooth", True)).pressure_kPa)
+    assert values[0] == pytest.approx(SHIELD_SMOOTH_FROM_MEMORY, abs=0.005)
+    assert values[0] < values[1] < values[2]
