@@ -140,7 +140,8 @@ def test_verification_cases_of_the_method_match_the_generator():
     # Every case marked "method of characteristics" was typed from the generator's table
     # (nets up to 1024 lines); a net of 128 lines must agree with the typed value within that
     # net's own error (below 2e-4 in the table; 1e-3 allowed), so a typing slip or a changed
-    # generator shows. The rough c-phi cases take several seconds each: the table covers them.
+    # generator shows. The rough c-phi cases and the rough one with su rising take several
+    # seconds each: the tables (`--levels 5`, `--rising --levels 4`) cover them.
     cases = tomllib.loads((ROOT / "verification" / "cases.toml").read_text())["cases"]
     ours = [c for c in cases if c["reference_note"] == "method of characteristics"]
     assert ours
@@ -149,10 +150,11 @@ def test_verification_cases_of_the_method_match_the_generator():
         phi = soil_data.get("friction_angle", 0.0)
         which = "Nq" if case["quantity"] == "nq" else "Nc"
         base = case["case"]["footing"]["base"]
-        if base == "rough" and phi > 0.0:
+        rising = soil_data.get("strength_gradient", 0.0) > 0.0
+        if base == "rough" and (phi > 0.0 or rising):
             continue
         soil = ch.soil_for(phi, which)
-        if soil_data.get("strength_gradient", 0.0) > 0.0:  # rho B / su0, B the case's diameter
+        if rising:  # rho B / su0, B the case's diameter
             soil = ch.rising_soil(soil_data["strength_gradient"] * case["case"]["footing"]["width"]
                                   / soil_data["undrained_strength"])
         value = ch.factor(soil, ch.capacity(soil, base, True, 128, 64, ch.reach(soil, base, True)).pressure_kPa)
@@ -194,3 +196,16 @@ def test_smooth_circle_with_rising_strength_starts_at_shields_value_and_rises_wi
         values.append(ch.capacity(soil, "smooth", True, 64, 32, ch.reach(soil, "smooth", True)).pressure_kPa)
     assert values[0] == pytest.approx(SHIELD_SMOOTH_FROM_MEMORY, abs=0.005)
     assert values[0] < values[1] < values[2]
+
+
+def test_rough_strip_with_rising_strength_carries_more_than_the_smooth_one():
+    # A rough base may take any shear up to su0, so the smooth footing's stress field is
+    # admissible under the rough one too: the rough value may not be lower. With su rising the
+    # rigid wedge is curved and its fan angle exceeds pi/2 (uniform soil: exactly pi/2, equal
+    # values). The rough construction reaches the axis only for small kappa (0.5 here).
+    soil = ch.rising_soil(0.5)
+    rough = ch.capacity(soil, "rough", False, 64, 32, ch.reach(soil, "rough", False))
+    smooth = ch.capacity(soil, "smooth", False, 64, 32, ch.reach(soil, "smooth", False))
+    assert rough.fan_angle > math.pi / 2 + 0.1
+    assert rough.pressure_kPa > smooth.pressure_kPa * 1.01
+    assert rough.pressure_kPa < 2.0 + math.pi + 2.0 * 0.5  # Prandtl's mechanism on the su profile

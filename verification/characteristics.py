@@ -70,10 +70,12 @@ the same rate of work to every mechanism (incompressible flow, rigid footing): g
 collapse pressure only through the overburden at the base, which the surcharge q reproduces
 (common practice; the argument of Davis & Booker (1973) for the strip, from memory). The
 factor reported is q_u / su0 with q = 0, against kappa = rho B / su0 (B = 2a). Only the smooth
-base is built for rising strength: with rho > 0 the rough base's rigid cone (wedge) bounded by
-the fan's last beta line does not reach the axis for kappa above about 1 (the line bends down
-towards the vertical); the rough solution then needs the base itself as a characteristic over
-its outer part (the interface shear at su0), which this file does not construct.
+base is built for every kappa: with rho > 0 the rough base's rigid cone (wedge) bounded by the
+fan's last beta line reaches the axis only for small kappa (the strip to about 1, the circle
+to about 0.5; beyond, no fan angle up to 3 pi/4 - 0.05 brings it there: the line bends down
+towards the vertical). The rough solution then needs another construction (the base itself a
+characteristic over its outer part, the interface shear at su0, is one guess), which this file
+does not attempt; `--rising` gives the rough rows only for KAPPAS_ROUGH.
 
 The field (footing from x = 0 to a on the surface y = 0; the ground x > a carries the surcharge q):
 
@@ -664,6 +666,8 @@ def format_rows(table: list[dict], closed: bool) -> str:
 
 
 KAPPAS = (0.0, 1.0, 2.0, 5.0, 10.0, 20.0)  # rho B / su0 for the rising-strength table
+# The rough base's cone (wedge) reaches the axis only for small kappa (module docstring).
+KAPPAS_ROUGH = {False: (0.5, 1.0), True: (0.5,)}
 # F recalled from Davis & Booker's (1973) chart for q_u = F [(2 + pi) su0 + rho B / 4], as in
 # verification/cases.toml (from memory; the recollection does not say rough or smooth).
 DAVIS_BOOKER_FROM_MEMORY = {0.0: 1.0, 2.0: 1.1, 10.0: 1.27, 20.0: 1.4}
@@ -674,15 +678,17 @@ def rising_soil(kappa: float) -> Soil:
     return Soil(0.0, 1.0, 0.0, kappa / (2.0 * RADIUS_M))
 
 
-def rising_rows(axisymmetric: bool, coarsest: int, levels: int,
+def rising_rows(axisymmetric: bool, base: str, coarsest: int, levels: int,
                 progress: Callable[[str], None] | None = None) -> list[dict]:
-    """q_u / su0 on a smooth base for KAPPAS (module docstring: the rough base is not built)."""
+    """q_u / su0 for KAPPAS (smooth) or KAPPAS_ROUGH (rough: only where the cone reaches the
+    axis, module docstring)."""
     table = []
-    for kappa in KAPPAS:
+    for kappa in KAPPAS if base == "smooth" else KAPPAS_ROUGH[axisymmetric]:
         if progress:
-            progress(f"{'circle' if axisymmetric else 'strip'}, smooth, rho B/su0 = {kappa:g}:")
-        result = study(rising_soil(kappa), "smooth", axisymmetric, coarsest, levels, progress=progress)
-        table.append({"shape": "circle" if axisymmetric else "strip", "kappa": kappa, **result._asdict()})
+            progress(f"{'circle' if axisymmetric else 'strip'}, {base}, rho B/su0 = {kappa:g}:")
+        result = study(rising_soil(kappa), base, axisymmetric, coarsest, levels, progress=progress)
+        table.append({"shape": "circle" if axisymmetric else "strip", "base": base, "kappa": kappa,
+                      **result._asdict()})
     return table
 
 
@@ -690,11 +696,11 @@ def format_rising(table: list[dict]) -> str:
     """The rising-strength rows as an aligned text table; the strip beside Davis & Booker's
     form with the computed F and the F recalled from their chart."""
     strip = table[0]["shape"] == "strip"
-    head = ["shape", "rho B/su0", *[f"{n} lines" for n in table[0]["lines"]], "order", "extrapolated",
+    head = ["shape", "base", "rho B/su0", *[f"{n} lines" for n in table[0]["lines"]], "order", "extrapolated",
             "est. error"] + (["F computed", "F recalled"] if strip else [])
     cells = [head]
     for row in table:
-        line = [row["shape"], f"{row['kappa']:g}", *[f"{v:.6f}" for v in row["values"]], f"{row['order']:.2f}",
+        line = [row["shape"], row["base"], f"{row['kappa']:g}", *[f"{v:.6f}" for v in row["values"]], f"{row['order']:.2f}",
                 f"{row['extrapolated']:.6f}", f"{row['error']:.1e}"]
         if strip:
             recalled = DAVIS_BOOKER_FROM_MEMORY.get(row["kappa"])
@@ -702,7 +708,7 @@ def format_rising(table: list[dict]) -> str:
                      "-" if recalled is None else f"{recalled:g}"]
         cells.append(line)
     widths = [max(len(c[i]) for c in cells) for i in range(len(head))]
-    text = ["  ".join(c.rjust(w) if i > 0 else c.ljust(w) for i, (c, w) in enumerate(zip(c_row, widths)))
+    text = ["  ".join(c.rjust(w) if i > 1 else c.ljust(w) for i, (c, w) in enumerate(zip(c_row, widths)))
             for c_row in cells]
     text.insert(1, "  ".join("-" * w for w in widths))
     return "\n".join(text)
@@ -715,17 +721,17 @@ def main(argv: list[str] | None = None) -> int:
                         help="nets of 64 lines doubled this many times less one (default 4: 64 to 512)")
     parser.add_argument("--strip", action="store_true", help="also the strip, beside its closed forms")
     parser.add_argument("--rising", action="store_true",
-                        help="instead: Tresca soil with su rising with depth, smooth strip and circle, "
-                             "nets of 128 lines doubled")
+                        help="instead: Tresca soil with su rising with depth, strip and circle (smooth, "
+                             "and rough for small kappa), nets of 128 lines doubled (rough: 64)")
     args = parser.parse_args(argv)
     levels = args.levels
     say = lambda line: print(line, file=sys.stderr, flush=True)  # noqa: E731
     if args.rising:
-        print("Tresca soil, su = su0 + rho y, smooth base: q_u / su0 (q_u = load / footing area; "
-              "strip: F = (q_u / su0) / (2 + pi + rho B / (4 su0)), recalled F from memory of Davis "
-              "& Booker 1973):\n")
-        print(format_rising(rising_rows(False, 128, levels, say)), "\n")
-        print(format_rising(rising_rows(True, 128, levels, say)))
+        print("Tresca soil, su = su0 + rho y: q_u / su0 (q_u = load / footing area; strip: "
+              "F = (q_u / su0) / (2 + pi + rho B / (4 su0)), recalled F from memory of Davis & Booker 1973):\n")
+        for axisymmetric in (False, True):
+            print(format_rising(rising_rows(axisymmetric, "smooth", 128, levels, say)), "\n")
+            print(format_rising(rising_rows(axisymmetric, "rough", 64, levels + 1, say)), "\n")
         return 0
     if args.strip:
         print("Strip (plane strain) against the closed forms:\n")
