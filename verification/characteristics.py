@@ -133,8 +133,8 @@ circle too, net by net: the table computes both, from their own boundary values.
 Run `python verification/characteristics.py` for the circle's table (about two minutes on one
 core), `--strip` for the strip's beside the closed forms too, `--levels 5` for a net of 1024
 lines as the finest (the values in verification/cases.toml); `--rising` for su rising with
-depth (smooth strip and circle, nets of 128 lines doubled; `--levels 4` to 1024 lines gives the
-circle-moc-rising values in verification/cases.toml).
+depth (strip and circle, smooth on nets of 128 lines doubled, rough where it is built on nets
+of 64; `--levels 4` to 1024 lines gives the circle-moc-rising values in verification/cases.toml).
 """
 from __future__ import annotations
 
