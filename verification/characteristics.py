@@ -36,7 +36,8 @@ sigma_theta = q at the surface.) This is the choice of Shield (1955) for the Tre
 algebraically greatest stress, tension positive) and of Cox, Eason & Hopkins (1961) for
 indentation (from memory).
 
-Equilibrium (weightless): d(sigma_x)/dx + d(tau)/dy + (sigma_x - sigma_theta)/x = 0 and
+Equilibrium (weightless; R here depends on sigma only, see below for su rising with depth):
+d(sigma_x)/dx + d(tau)/dy + (sigma_x - sigma_theta)/x = 0 and
 d(tau)/dx + d(sigma_y)/dy + tau/x = 0 (the terms in 1/x only for the circle). Derived here (the
 combination of the two equations that holds only derivatives along one direction): with
 mu = pi/4 - phi/2 the characteristics are
@@ -50,6 +51,31 @@ self-weight gamma, G_alpha gains -gamma cos(psi + mu) and G_beta gamma cos(psi -
 Sokolovskii's d(sigma) -+ 2 sigma tan(phi) d(psi) = gamma (dy -+ tan(phi) dx) for c = 0: a check
 of the signs; gamma is not used here. tests/test_characteristics.py checks both relations
 against the equilibrium equations on an arbitrary field.)
+
+Strength rising with depth (Tresca only, phi = 0): su = su0 + rho y (su0 kPa at the base's
+level, rho kPa/m), the problem of Davis & Booker (1973) for the strip and of Houlsby & Wroth
+(1983) for the circle (both from memory; neither paper is on this machine). Then R = su(y),
+mu = pi/4, and the equilibrium equations gain rho sin 2psi (first) and -rho cos 2psi (second)
+from d(tau)/dy and d(sigma_y)/dy. The combination along a line takes the residuals with the
+weights (cos c, sin c), c = psi - pi/2 + mu (alpha) or psi + pi/2 - mu (beta); the new terms
+contribute rho sin(2 psi - c), which moves to the right-hand side:
+
+    G_alpha gains -rho sin(psi + mu),   G_beta gains -rho sin(psi - mu)
+
+(in plane strain these are the whole of G). The passive zone stays uniform in psi = 0
+(sigma = q + su(y) satisfies equilibrium), and the fan's point relation at A is unchanged
+(R = su0 there). Why weightless: with phi = 0 the strength does not depend on the stress, so a
+unit weight gamma adds the hydrostatic field gamma (y + D) to every admissible stress field and
+the same rate of work to every mechanism (incompressible flow, rigid footing): gamma enters the
+collapse pressure only through the overburden at the base, which the surcharge q reproduces
+(common practice; the argument of Davis & Booker (1973) for the strip, from memory). The
+factor reported is q_u / su0 with q = 0, against kappa = rho B / su0 (B = 2a). Only the smooth
+base is built for every kappa: with rho > 0 the rough base's rigid cone (wedge) bounded by the
+fan's last beta line reaches the axis only for small kappa (the strip to about 1, the circle
+to about 0.5; beyond, no fan angle up to 3 pi/4 - 0.05 brings it there: the line bends down
+towards the vertical). The rough solution then needs another construction (the base itself a
+characteristic over its outer part, the interface shear at su0, is one guess), which this file
+does not attempt; `--rising` gives the rough rows only for KAPPAS_ROUGH.
 
 The field (footing from x = 0 to a on the surface y = 0; the ground x > a carries the surcharge q):
 
@@ -106,7 +132,9 @@ circle too, net by net: the table computes both, from their own boundary values.
 
 Run `python verification/characteristics.py` for the circle's table (about two minutes on one
 core), `--strip` for the strip's beside the closed forms too, `--levels 5` for a net of 1024
-lines as the finest (the values in verification/cases.toml).
+lines as the finest (the values in verification/cases.toml); `--rising` for su rising with
+depth (strip and circle, smooth on nets of 128 lines doubled, rough where it is built on nets
+of 64; `--levels 4` to 1024 lines gives the circle-moc-rising values in verification/cases.toml).
 """
 from __future__ import annotations
 
@@ -132,11 +160,13 @@ SECOND_WINDOW = (0.08, 0.35)  # the same, to see how much the fit's form matters
 
 
 class Soil(NamedTuple):
-    """A weightless Mohr-Coulomb soil (Tresca when the friction angle is 0) under a surcharge."""
+    """A weightless Mohr-Coulomb soil (Tresca when the friction angle is 0) under a surcharge;
+    a Tresca soil's strength may rise with depth, su = cohesion_kPa + strength_gradient y."""
 
     friction_angle_deg: float
-    cohesion_kPa: float
+    cohesion_kPa: float  # c, or su0 at the base's level
     surcharge_kPa: float
+    strength_gradient_kPa_per_m: float = 0.0  # rho, Tresca only
 
     @property
     def phi(self) -> float:
@@ -147,9 +177,16 @@ class Soil(NamedTuple):
         """rad: the characteristics' angle to the major principal stress, pi/4 - phi/2."""
         return math.pi / 4 - self.phi / 2
 
-    def radius_kPa(self, sigma: np.ndarray) -> np.ndarray:
-        """kPa: the Mohr circle's radius R at mean in-plane stress ``sigma``."""
-        return sigma * math.sin(self.phi) + self.cohesion_kPa * math.cos(self.phi)
+    def radius_kPa(self, sigma: np.ndarray, depth_m: np.ndarray) -> np.ndarray:
+        """kPa: the Mohr circle's radius R at mean in-plane stress ``sigma`` and ``depth_m``."""
+        cohesion = self.cohesion_kPa + self.strength_gradient_kPa_per_m * depth_m
+        return sigma * math.sin(self.phi) + cohesion * math.cos(self.phi)
+
+    def check(self) -> None:
+        """A strength gradient only with phi = 0 (the relations below are derived for Tresca)."""
+        if self.strength_gradient_kPa_per_m != 0.0 and self.friction_angle_deg != 0.0:
+            raise ValueError(f"strength_gradient_kPa_per_m: {self.strength_gradient_kPa_per_m:g} is not "
+                             f"allowed with friction_angle_deg {self.friction_angle_deg:g}; Tresca (0) only")
 
     def surface_sigma_kPa(self) -> float:
         """kPa: sigma in the passive zone at the surface (sigma_y = q, psi = 0)."""
@@ -160,7 +197,7 @@ class Soil(NamedTuple):
         s0 = self.surface_sigma_kPa()
         if self.phi == 0.0:
             return s0 + 2.0 * self.cohesion_kPa * psi
-        r = self.radius_kPa(np.asarray(s0)) * np.exp(2.0 * math.tan(self.phi) * psi)
+        r = self.radius_kPa(np.asarray(s0), 0.0) * np.exp(2.0 * math.tan(self.phi) * psi)
         return (r - self.cohesion_kPa * math.cos(self.phi)) / math.sin(self.phi)
 
 
@@ -192,15 +229,17 @@ class Study(NamedTuple):
 
 # -- one step of the net -----------------------------------------------------------
 
-def _sources(soil: Soil, axisymmetric: bool, x: np.ndarray, sigma: np.ndarray,
+def _sources(soil: Soil, axisymmetric: bool, x: np.ndarray, y: np.ndarray, sigma: np.ndarray,
              psi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """kPa/m: G_alpha and G_beta (module docstring); zero in plane strain."""
-    if not axisymmetric:
-        zero = np.zeros_like(x)
-        return zero, zero
-    r_over_x = soil.radius_kPa(sigma) / x
+    """kPa/m: G_alpha and G_beta (module docstring); zero in plane strain with uniform strength."""
     minus, plus = np.sin(psi - soil.mu), np.sin(psi + soil.mu)
-    return r_over_x * (minus + HOOP * plus), -r_over_x * (plus + HOOP * minus)
+    rising = soil.strength_gradient_kPa_per_m  # d(su)/dy, Tresca only
+    g_alpha, g_beta = -rising * plus, -rising * minus
+    if axisymmetric:
+        r_over_x = soil.radius_kPa(sigma, y) / x
+        g_alpha = g_alpha + r_over_x * (minus + HOOP * plus)
+        g_beta = g_beta - r_over_x * (plus + HOOP * minus)
+    return g_alpha, g_beta
 
 
 def _settled(new: np.ndarray, old: np.ndarray) -> np.ndarray:
@@ -222,9 +261,8 @@ def _meet(a: np.ndarray, b: np.ndarray, soil: Soil, axisymmetric: bool) -> np.nd
     """Points (n, 4: x m, y m, sigma kPa, psi rad) where the alpha line through each point of
     ``a`` meets the beta line through the matching point of ``b``."""
     cos_phi, mu = math.cos(soil.phi), soil.mu
-    ga_a, gb_b = _sources(soil, axisymmetric, a[:, 0], a[:, 2], a[:, 3])[0], \
-        _sources(soil, axisymmetric, b[:, 0], b[:, 2], b[:, 3])[1]
-    ra, rb = soil.radius_kPa(a[:, 2]), soil.radius_kPa(b[:, 2])
+    ga_a, gb_b = _sources(soil, axisymmetric, *a.T)[0], _sources(soil, axisymmetric, *b.T)[1]
+    ra, rb = soil.radius_kPa(a[:, 2], a[:, 1]), soil.radius_kPa(b[:, 2], b[:, 1])
     p = 0.5 * (a + b)
     for _ in range(MAX_ITERATIONS):
         th_a = 0.5 * (a[:, 3] + p[:, 3]) - mu
@@ -235,8 +273,8 @@ def _meet(a: np.ndarray, b: np.ndarray, soil: Soil, axisymmetric: bool) -> np.nd
         t_a = (cb * dy - sb * dx) / det
         t_b = (ca * dy - sa * dx) / det
         x, y = a[:, 0] + t_a * ca, a[:, 1] + t_a * sa
-        ga_p, gb_p = _sources(soil, axisymmetric, x, p[:, 2], p[:, 3])
-        rp = soil.radius_kPa(p[:, 2])
+        ga_p, gb_p = _sources(soil, axisymmetric, x, y, p[:, 2], p[:, 3])
+        rp = soil.radius_kPa(p[:, 2], y)
         r_a, r_b = 0.5 * (ra + rp), 0.5 * (rb + rp)  # R averaged along each step
         g_a, g_b = 0.5 * (ga_a + ga_p) * t_a, 0.5 * (gb_b + gb_p) * t_b
         # cos(phi)(s - s_a) - 2 r_a (psi - psi_a) = g_a;  cos(phi)(s - s_b) + 2 r_b (psi - psi_b) = g_b
@@ -254,16 +292,16 @@ def _to_base(a: np.ndarray, psi_base: float, soil: Soil, axisymmetric: bool) -> 
     """Points on the base y = 0 at the end of the alpha line through each point of ``a``,
     where psi = ``psi_base``."""
     cos_phi, mu = math.cos(soil.phi), soil.mu
-    ga_a = _sources(soil, axisymmetric, a[:, 0], a[:, 2], a[:, 3])[0]
-    ra = soil.radius_kPa(a[:, 2])
+    ga_a = _sources(soil, axisymmetric, *a.T)[0]
+    ra = soil.radius_kPa(a[:, 2], a[:, 1])
     p = a.copy()
     p[:, 1], p[:, 3] = 0.0, psi_base
     for _ in range(MAX_ITERATIONS):
         th_a = 0.5 * (a[:, 3] + psi_base) - mu
         t_a = -a[:, 1] / np.sin(th_a)
         x = a[:, 0] + t_a * np.cos(th_a)
-        ga_p = _sources(soil, axisymmetric, x, p[:, 2], p[:, 3])[0]
-        r_a = 0.5 * (ra + soil.radius_kPa(p[:, 2]))
+        ga_p = _sources(soil, axisymmetric, x, np.zeros_like(x), p[:, 2], p[:, 3])[0]
+        r_a = 0.5 * (ra + soil.radius_kPa(p[:, 2], 0.0))
         sigma = a[:, 2] + (2 * r_a * (psi_base - a[:, 3]) + 0.5 * (ga_a + ga_p) * t_a) / cos_phi
         new = np.column_stack([x, np.zeros_like(x), sigma, np.full_like(x, psi_base)])
         if _converged(new, p):
@@ -275,7 +313,7 @@ def _to_base(a: np.ndarray, psi_base: float, soil: Soil, axisymmetric: bool) -> 
 def _valid(points: np.ndarray, soil: Soil) -> np.ndarray:
     """Rows that are points of the field: finite, off the axis, a real Mohr circle."""
     return (np.all(np.isfinite(points), axis=1) & (points[:, 0] > 0.0)
-            & (soil.radius_kPa(points[:, 2]) > 0.0))
+            & (soil.radius_kPa(points[:, 2], points[:, 1]) > 0.0))
 
 
 def _solved(step: Callable[..., np.ndarray], soil: Soil, *known: np.ndarray) -> np.ndarray:
@@ -357,7 +395,7 @@ def _base_load(soil: Soil, base: np.ndarray, axisymmetric: bool) -> tuple[float,
     """(q_u kPa, where the last alpha line ends m) from the smooth base's points, edge first."""
     end = _ordered_prefix(base[:, 0])
     x = base[:end, 0]
-    pressure = base[:end, 2] + soil.radius_kPa(base[:end, 2])  # sigma_y = sigma + R at psi = pi/2
+    pressure = base[:end, 2] + soil.radius_kPa(base[:end, 2], 0.0)  # sigma_y = sigma + R at psi = pi/2
     if axisymmetric:
         moment = -np.sum(0.5 * (pressure[1:] * x[1:] + pressure[:-1] * x[:-1]) * np.diff(x))
         # The sliver next to the axis: there the pressure rises like -b ln r (seen in every net:
@@ -366,7 +404,10 @@ def _base_load(soil: Soil, base: np.ndarray, axisymmetric: bool) -> tuple[float,
         b = -(pressure[-1] - pressure[-2]) / math.log(x[-1] / x[-2])
         moment += 0.5 * x[-1] ** 2 * (pressure[-1] + 0.5 * max(b, 0.0))
         return 2.0 * moment / RADIUS_M ** 2, float(x[-1])
-    force = -np.sum(0.5 * (pressure[1:] + pressure[:-1]) * np.diff(x)) + pressure[-1] * x[-1]
+    # The sliver next to the centre line, the pressure's last slope carried on to x = 0 (it is
+    # uniform on uniform soil; with strength rising with depth it is not).
+    slope = (pressure[-1] - pressure[-2]) / (x[-1] - x[-2])
+    force = -np.sum(0.5 * (pressure[1:] + pressure[:-1]) * np.diff(x)) + x[-1] * (pressure[-1] - 0.5 * slope * x[-1])
     return force / RADIUS_M, float(x[-1])
 
 
@@ -421,7 +462,7 @@ def _cone_load(soil: Soil, cone: np.ndarray, fit: AxisFit, axisymmetric: bool) -
     ``cone`` (from `_cone_to_axis`), per footing area (per half width)."""
     net = cone[:, 4] == 0.0
     x, y, sigma, psi = cone[:, :4].T
-    radius = soil.radius_kPa(sigma)
+    radius = soil.radius_kPa(sigma, y)
     sigma_y, tau = sigma - radius * np.cos(2 * psi), radius * np.sin(2 * psi)
     weight = x if axisymmetric else np.ones_like(x)
     # force per length of the surface: tau dy - sigma_y dx (outward normal dy, -dx)
@@ -463,6 +504,7 @@ def capacity(soil: Soil, base: str, axisymmetric: bool, lines: int, fan_steps: i
     is fitted to find it (module docstring)."""
     if base not in BASES:
         raise ValueError(f"base: {base!r} is not allowed; must be one of {', '.join(BASES)}")
+    soil.check()
     edge_line = _passive_zone(soil, axisymmetric, reach_m, lines)
     if base == "smooth":
         fan = _fan(soil, axisymmetric, edge_line, math.pi / 2, fan_steps)
@@ -493,23 +535,30 @@ def reach(soil: Soil, base: str, axisymmetric: bool, lines: int = 64) -> float:
     """m: how far along the surface (from the axis) the net must reach so that the part of it
     the load depends on is inside: a coarse net on a generous guess, 3 exp(pi/2 tan(phi))
     tan(45 + phi/2) a beyond the edge (the strip's plastic zone reaches less far), then the
-    first alpha line not needed, with a margin."""
+    first alpha line not needed, with a margin. When that part spans less than a quarter of
+    the coarse net (strength rising steeply with depth makes the plastic zone shallow and
+    short), the coarse net is redone on twice that part, so that the reach is resolved."""
+    soil.check()
     phi = soil.phi
     guess = RADIUS_M * (1.0 + 3.0 * math.exp(math.pi / 2 * math.tan(phi)) * math.tan(math.pi / 4 + phi / 2))
-    surface = np.linspace(RADIUS_M, guess, lines + 1)
-    edge_line = _passive_zone(soil, axisymmetric, guess, lines)
-    if base == "smooth":
-        fan = _fan(soil, axisymmetric, edge_line, math.pi / 2, lines // 2)
-        end = _ordered_prefix(_active_zone(soil, axisymmetric, fan[:, -1])[:, 0])
-        margin = REACH_MARGIN
-    else:
-        def cone_line(fan_angle: float) -> np.ndarray:
-            return _fan(soil, axisymmetric, edge_line, fan_angle, lines // 2)[:, -1]
+    for _ in range(2):
+        surface = np.linspace(RADIUS_M, guess, lines + 1)
+        edge_line = _passive_zone(soil, axisymmetric, guess, lines)
+        if base == "smooth":
+            fan = _fan(soil, axisymmetric, edge_line, math.pi / 2, lines // 2)
+            end = _ordered_prefix(_active_zone(soil, axisymmetric, fan[:, -1])[:, 0])
+            margin = REACH_MARGIN
+        else:
+            def cone_line(fan_angle: float) -> np.ndarray:
+                return _fan(soil, axisymmetric, edge_line, fan_angle, lines // 2)[:, -1]
 
-        end = _ordered_prefix(cone_line(_rough_fan_angle(cone_line, soil, 1e-3))[:, 0])
-        margin = 1.0 + 2.0 * (REACH_MARGIN - 1.0)  # the fan angle moves on finer nets
-    if end > lines:
-        raise ArithmeticError(f"the guess {guess:g} m does not reach the axis")
+            end = _ordered_prefix(cone_line(_rough_fan_angle(cone_line, soil, 1e-3))[:, 0])
+            margin = 1.0 + 2.0 * (REACH_MARGIN - 1.0)  # the fan angle moves on finer nets
+        if end > lines:
+            raise ArithmeticError(f"the guess {guess:g} m does not reach the axis")
+        if 4 * end >= lines:
+            break
+        guess = float(surface[2 * end])
     return RADIUS_M + margin * (surface[end] - RADIUS_M)
 
 
@@ -616,15 +665,74 @@ def format_rows(table: list[dict], closed: bool) -> str:
     return "\n".join(text)
 
 
+KAPPAS = (0.0, 1.0, 2.0, 5.0, 10.0, 20.0)  # rho B / su0 for the rising-strength table
+# The rough base's cone (wedge) reaches the axis only for small kappa (module docstring).
+KAPPAS_ROUGH = {False: (0.5, 1.0), True: (0.5,)}
+# F recalled from Davis & Booker's (1973) chart for q_u = F [(2 + pi) su0 + rho B / 4], as in
+# verification/cases.toml (from memory; the recollection does not say rough or smooth).
+DAVIS_BOOKER_FROM_MEMORY = {0.0: 1.0, 2.0: 1.1, 10.0: 1.27, 20.0: 1.4}
+
+
+def rising_soil(kappa: float) -> Soil:
+    """su0 = 1 kPa, rho = kappa su0 / B kPa/m (B = 2a), no surcharge."""
+    return Soil(0.0, 1.0, 0.0, kappa / (2.0 * RADIUS_M))
+
+
+def rising_rows(axisymmetric: bool, base: str, coarsest: int, levels: int,
+                progress: Callable[[str], None] | None = None) -> list[dict]:
+    """q_u / su0 for KAPPAS (smooth) or KAPPAS_ROUGH (rough: only where the cone reaches the
+    axis, module docstring)."""
+    table = []
+    for kappa in KAPPAS if base == "smooth" else KAPPAS_ROUGH[axisymmetric]:
+        if progress:
+            progress(f"{'circle' if axisymmetric else 'strip'}, {base}, rho B/su0 = {kappa:g}:")
+        result = study(rising_soil(kappa), base, axisymmetric, coarsest, levels, progress=progress)
+        table.append({"shape": "circle" if axisymmetric else "strip", "base": base, "kappa": kappa,
+                      **result._asdict()})
+    return table
+
+
+def format_rising(table: list[dict]) -> str:
+    """The rising-strength rows as an aligned text table; the strip beside Davis & Booker's
+    form with the computed F and the F recalled from their chart."""
+    strip = table[0]["shape"] == "strip"
+    head = ["shape", "base", "rho B/su0", *[f"{n} lines" for n in table[0]["lines"]], "order", "extrapolated",
+            "est. error"] + (["F computed", "F recalled"] if strip else [])
+    cells = [head]
+    for row in table:
+        line = [row["shape"], row["base"], f"{row['kappa']:g}", *[f"{v:.6f}" for v in row["values"]], f"{row['order']:.2f}",
+                f"{row['extrapolated']:.6f}", f"{row['error']:.1e}"]
+        if strip:
+            recalled = DAVIS_BOOKER_FROM_MEMORY.get(row["kappa"])
+            line += [f"{row['extrapolated'] / (2.0 + math.pi + row['kappa'] / 4.0):.4f}",
+                     "-" if recalled is None else f"{recalled:g}"]
+        cells.append(line)
+    widths = [max(len(c[i]) for c in cells) for i in range(len(head))]
+    text = ["  ".join(c.rjust(w) if i > 1 else c.ljust(w) for i, (c, w) in enumerate(zip(c_row, widths)))
+            for c_row in cells]
+    text.insert(1, "  ".join("-" * w for w in widths))
+    return "\n".join(text)
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="verification/characteristics.py",
                                      description=__doc__.splitlines()[0])
     parser.add_argument("--levels", type=int, default=4, choices=range(3, 7), metavar="3..6",
                         help="nets of 64 lines doubled this many times less one (default 4: 64 to 512)")
     parser.add_argument("--strip", action="store_true", help="also the strip, beside its closed forms")
+    parser.add_argument("--rising", action="store_true",
+                        help="instead: Tresca soil with su rising with depth, strip and circle (smooth, "
+                             "and rough for small kappa), nets of 128 lines doubled (rough: 64)")
     args = parser.parse_args(argv)
     levels = args.levels
     say = lambda line: print(line, file=sys.stderr, flush=True)  # noqa: E731
+    if args.rising:
+        print("Tresca soil, su = su0 + rho y: q_u / su0 (q_u = load / footing area; strip: "
+              "F = (q_u / su0) / (2 + pi + rho B / (4 su0)), recalled F from memory of Davis & Booker 1973):\n")
+        for axisymmetric in (False, True):
+            print(format_rising(rising_rows(axisymmetric, "smooth", 128, levels, say)), "\n")
+            print(format_rising(rising_rows(axisymmetric, "rough", 64, levels + 1, say)), "\n")
+        return 0
     if args.strip:
         print("Strip (plane strain) against the closed forms:\n")
         print(format_rows(rows(False, 64, levels, say), closed=True), "\n")
