@@ -345,6 +345,10 @@ def _read_parameter(key: str, spec: Any, base: dict, varied: set[str]) -> Parame
             schema.read(value)
         except ValueError:
             raise _not_allowed(where, value, f"{schema.allowed} for every value") from None
+    if key == "footing.width" and "footing.shape" in varied:  # width = diameter for a circle
+        label = "footing width or diameter"
+    elif key == "footing.width" and (base.get("footing") or {}).get("shape") == "circular":
+        label = "footing diameter"
     return Parameter(key=key, values=values, label=label, unit=unit if schema.kind is not str else "")
 
 

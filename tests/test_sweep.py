@@ -310,3 +310,17 @@ def test_point_time_limit_is_checked(value):
     one_line_error(lambda: parse_sweep({"base": BASE, "vary": {"footing.width": [1.0]}, "point_time_limit_s": value}),
                    "point_time_limit_s: ", "is not allowed; must be a number > 0 and <= 604800 (s)")
     assert parse_sweep({"base": BASE, "vary": {"footing.width": [1.0]}}).point_time_limit_s == 3600.0
+
+
+def test_a_circles_width_is_charted_as_its_diameter():
+    from solver.sweep import parse_sweep
+
+    layers = [{"name": "clay", "model": "tresca", "unit_weight": 0, "undrained_strength": 20}]
+    labels = {}
+    for name, base, vary in (("strip", {"width": 1.0}, {"footing.width": [1.0, 2.0]}),
+                             ("circle", {"width": 1.0, "shape": "circular"}, {"footing.width": [1.0, 2.0]}),
+                             ("both", {"width": 1.0}, {"footing.width": [1.0, 2.0],
+                                                       "footing.shape": ["strip", "circular"]})):
+        sweep = parse_sweep({"base": {"footing": base, "layers": layers}, "vary": vary})
+        labels[name] = sweep.parameters[0].label
+    assert labels == {"strip": "footing width", "circle": "footing diameter", "both": "footing width or diameter"}
