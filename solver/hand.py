@@ -743,8 +743,11 @@ def _homogeneous(case: Case) -> tuple[_Soil | None, str]:
     if len(below) > 1:
         if not all(_same_ground(a, b) for a, b in zip(below, below[1:])):
             names = ", ".join(f"'{layer.name}'" for layer, *_ in below)
+            # the layered methods are strip formulas here: under a circle only the bracket is left
             return None, (f"layered ground ({len(below)} layers below the base: {names}); "
-                          "this method is for homogeneous ground - see the layered methods")
+                          "this method is for homogeneous ground - see the "
+                          + ("layered methods" if case.footing.shape == "strip" else
+                             "bracket (this version has no layered method for a circle)"))
         notes.append(f"the {len(below)} layers below the base have the same properties: "
                      "taken as one")
     if soil.tresca:

@@ -710,3 +710,13 @@ def test_a_circle_on_sand_with_weight_points_only_to_the_methods_it_has():
     for case, pointed in ((strip, "see Meyerhof, Hansen, Vesic, EN 1997-1"), (circle, "- see EN 1997-1")):
         note = by_method(case)["Terzaghi (1943), general shear"].note
         assert note.endswith(pointed), note
+
+
+def test_layered_ground_under_a_circle_does_not_point_to_strip_only_methods():
+    from dataclasses import replace
+
+    strip = strip_case(clay("crust", 60.0, thickness=1.0), clay("soft", 20.0))
+    circle = replace(strip, footing=replace(strip.footing, shape="circular"))
+    assert by_method(strip)["Terzaghi (1943), general shear"].note.endswith("see the layered methods")
+    note = by_method(circle)["Terzaghi (1943), general shear"].note
+    assert "layered methods" not in note and note.endswith("no layered method for a circle)")
