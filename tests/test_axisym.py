@@ -26,6 +26,13 @@ from solver.upper_axisym import (EG, ER, ET, EZ, axis_points, bernstein_basis, d
                                  upper_bound_program_axisym, velocity_map_axisym)
 
 
+def solved_upper(case, elements: int):
+    """(case, mesh, program, solution) of a circle's upper bound on a fixed mesh."""
+    mesh = build_mesh(case, order=2, elements=elements)
+    program = upper_bound_program_axisym(case, mesh)
+    return case, mesh, program, solve(program)
+
+
 def circle(**layer) -> dict:
     soil = {"name": "soil", "model": "tresca", "unit_weight": 0.0, "undrained_strength": 40.0} | layer
     return {"footing": {"width": 2.0, "shape": "circular"}, "layers": [soil]}
@@ -148,10 +155,7 @@ def test_upper_bound_flow_rule_holds_inside_every_triangle(phi):
     data = circle(**layer)
     if phi:
         data["layers"][0].pop("undrained_strength")
-    case = parse_case(data)
-    mesh = build_mesh(case, order=2, elements=300)
-    program = upper_bound_program_axisym(case, mesh)
-    solution = solve(program)
+    case, mesh, program, solution = solved_upper(parse_case(data), 300)
     certificate = certify_upper_axisym(case, mesh, program, solution)
     assert certificate["passed"], certificate
     w = velocities(program, solution.x)
@@ -229,10 +233,7 @@ def tresca_upper():
     data = circle(unit_weight=17.0)
     data["ground"] = {"surcharge": 10.0}
     data["footing"]["base"] = "rough"
-    case = parse_case(data)
-    mesh = build_mesh(case, order=2, elements=400)
-    program = upper_bound_program_axisym(case, mesh)
-    return case, mesh, program, solve(program)
+    return solved_upper(parse_case(data), 400)
 
 
 def corner_divergence(mesh, program, x) -> float:
@@ -288,10 +289,7 @@ def test_restoring_a_circle_in_sand_over_clay_keeps_the_sands_flow_rule():
             "layers": [{"name": "sand", "model": "mohr-coulomb", "thickness": 0.5, "unit_weight": 18.0,
                         "cohesion": 0.0, "friction_angle": 32.0},
                        {"name": "clay", "model": "tresca", "unit_weight": 17.0, "undrained_strength": 30.0}]}
-    case = parse_case(data)
-    mesh = build_mesh(case, order=2, elements=400)
-    program = upper_bound_program_axisym(case, mesh)
-    solution = solve(program)
+    case, mesh, program, solution = solved_upper(parse_case(data), 400)
     certificate = certify_upper_axisym(case, mesh, program, solution)
     assert certificate["passed"], certificate
     assert certificate["incompressibility"] <= 1e-10 and "restored" in certificate

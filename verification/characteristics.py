@@ -658,9 +658,15 @@ def format_rows(table: list[dict], closed: bool) -> str:
             exact = closed_form(row["phi"], row["factor"])
             line[-1:-1] = [f"{exact:.6f}", f"{row['extrapolated'] - exact:+.1e}"]
         cells.append(line)
-    widths = [max(len(c[i]) for c in cells) for i in range(len(head))]
-    text = ["  ".join(c.rjust(w) if i > 3 else c.ljust(w) for i, (c, w) in enumerate(zip(c_row, widths)))
-            for c_row in cells]
+    return _aligned(cells, text_columns=4)
+
+
+def _aligned(cells: list[list[str]], text_columns: int) -> str:
+    """Rows of cells (the first the header) as an aligned text table: the first
+    ``text_columns`` columns left-aligned, the numbers right-aligned, a rule under the header."""
+    widths = [max(len(row[i]) for row in cells) for i in range(len(cells[0]))]
+    text = ["  ".join(c.rjust(w) if i >= text_columns else c.ljust(w) for i, (c, w) in enumerate(zip(row, widths)))
+            for row in cells]
     text.insert(1, "  ".join("-" * w for w in widths))
     return "\n".join(text)
 
@@ -707,11 +713,7 @@ def format_rising(table: list[dict]) -> str:
             line += [f"{row['extrapolated'] / (2.0 + math.pi + row['kappa'] / 4.0):.4f}",
                      "-" if recalled is None else f"{recalled:g}"]
         cells.append(line)
-    widths = [max(len(c[i]) for c in cells) for i in range(len(head))]
-    text = ["  ".join(c.rjust(w) if i > 1 else c.ljust(w) for i, (c, w) in enumerate(zip(c_row, widths)))
-            for c_row in cells]
-    text.insert(1, "  ".join("-" * w for w in widths))
-    return "\n".join(text)
+    return _aligned(cells, text_columns=2)
 
 
 def main(argv: list[str] | None = None) -> int:
