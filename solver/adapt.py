@@ -41,7 +41,7 @@ then the upper bound is refined (on the benchmark cases it is the weaker side),
 then whichever has the larger estimated error (its last change scaled by an
 assumed convergence rate, or the gap less the other's error), since the gap is
 the sum of the two. Each refined bound grows by as much as the time left
-allows (at most GROWTH_MAX), predicted from its last solve; no step starts
+allows (at most GROWTH_MAX), predicted from its last solves (time_exponent); no step starts
 that would end after the time limit.
 
 On two cores (analysis.run_bounds) a step that refines one bound refines the
