@@ -41,7 +41,7 @@ then the upper bound is refined (on the benchmark cases it is the weaker side),
 then whichever has the larger estimated error (its last change scaled by an
 assumed convergence rate, or the gap less the other's error), since the gap is
 the sum of the two. Each refined bound grows by as much as the time left
-allows (at most GROWTH_MAX), predicted from its last solve; no step starts
+allows (at most GROWTH_MAX), predicted from its last solves (time_exponent); no step starts
 that would end after the time limit.
 
 On two cores (analysis.run_bounds) a step that refines one bound refines the
@@ -65,7 +65,19 @@ from .model import Case
 
 GROWTH_MAX = 4.0  # element target growth of a refined bound per step, at most ...
 GROWTH_MIN = 1.3  # ... and at least (a smaller step is not worth its solve)
-TIME_EXPONENT = 2.2  # wall time of a bound ~ elements^this (measured 1.5-2.1 at 4k-20k; the safe side)
+# Wall time of a bound ~ elements^k: TIME_EXPONENT_MAX (the safe side) until the bound has two
+# runs on one domain whose sizes differ by GROWTH_MIN or more, then k from those two runs
+# (:func:`time_exponent`), within [TIME_EXPONENT_MIN, TIME_EXPONENT_MAX]. Measured (one bound's
+# mesh, assembly, solve and certificate): upper bound, graded mesh, N_gamma (phi 30) 4k -> 20k
+# triangles 3.5 -> 19.7 s, k = 1.07; lower bound with qdldl only, Prandtl 5k -> 20k -> 80k,
+# k = 2.05 (README, make bench), with MKL Pardiso 1.45. Goal table (benchmarks/cases.py, 60 s,
+# quiet machine), one k of 2.2 throughout against this: N_gamma phi 30 1.35 -> 1.02 %, phi 35
+# 1.34 -> 1.17 %, sand over clay 1.35 -> 0.90 %, eccentric 0.92 -> 0.88 %, all within 60 s;
+# with TIME_EXPONENT_MIN 1.0 N_gamma ran 64-65 s (a step costs more than its predecessor's
+# pace: iterations rise, fill-in grows); a first guess of 1.3 for the upper bound (not 2.2)
+# made its first step 4x and did worse.
+TIME_EXPONENT_MIN = 1.3  # a step grows its solve more than its last one did (iterations rise, fill-in grows)
+TIME_EXPONENT_MAX = 2.2
 TIME_MARGIN = 0.85  # plan a step into this share of the time left (the prediction is rough: a Prandtl
 #                    run with a 60 s limit, on a shared machine, ended at 61.9 s planning into all of it)
 CONVERGENCE_RATE = 0.6  # error of either bound ~ elements^-this (measured on Prandtl and N_gamma, 2k-16k)
@@ -211,6 +223,7 @@ def refine_until(case: Case, kinds: list[str], elements: int, backend: str, doma
     hint = {k: None for k in kinds}
     domains = {k: domain for k in kinds}
     growths = {k: 0 for k in kinds}
+    runs: dict = {k: [] for k in kinds}  # (triangles, s, domain) of each run of each bound
     current: dict = {}
     best: dict = {}
     history: list[dict] = []
@@ -258,12 +271,15 @@ def refine_until(case: Case, kinds: list[str], elements: int, backend: str, doma
         if not any(current[k].pressure_kPa is not None for k in kinds) and step > 0:
             stopped, why = "no certified bound", "no bound was certified at two steps in a row"
             break
-        # Grow the refined bound as far as the time left allows (time ~ elements^TIME_EXPONENT
-        # from its last solve), at most GROWTH_MAX; no step that would end after the limit. If
+        # Grow the refined bound as far as the time left allows (time ~ elements^k from its
+        # last solves: time_exponent), at most GROWTH_MAX; no step that would end after the limit. If
         # the bound with the larger error cannot grow enough in the time left, the other may.
         left = TIME_MARGIN * max(limit - (time.perf_counter() - start), 0.0)
         cost = {k: max(sum(current[k].timing.values()), 1e-9) for k in kinds}
-        growth = {k: min(GROWTH_MAX, (left / cost[k]) ** (1.0 / TIME_EXPONENT)) for k in kinds}
+        for kind in refine:
+            runs[kind].append((current[kind].elements, cost[kind], domains[kind]))
+        power = {k: time_exponent(runs[k]) for k in kinds}
+        growth = {k: min(GROWTH_MAX, (left / cost[k]) ** (1.0 / power[k])) for k in kinds}
         # on a larger domain the same element count is worth a solve; a refinement needs GROWTH_MIN
         least = {k: 1.0 if k in grown else GROWTH_MIN for k in kinds}
         order = list(grown) + [k for k in _next_to_refine(kinds, current, refined_before,
@@ -276,15 +292,15 @@ def refine_until(case: Case, kinds: list[str], elements: int, backend: str, doma
             stopped = "time limit"
             why = (f"the time limit, time_limit_s = {limit:g}: the next step (the {first} bound"
                    + (" on a larger domain" if first in grown else f" on {least[first]:g} times the triangles")
-                   + f") would take about {cost[first] * least[first] ** TIME_EXPONENT:.0f} s, more than "
+                   + f") would take about {cost[first] * least[first] ** power[first]:.0f} s, more than "
                    f"{100 * TIME_MARGIN:.0f} % of the {max(limit - (time.perf_counter() - start), 0):.0f} s left")
             break
         if parallel:  # the other bound on the other core, predicted to end no later
             first = refine[0]
-            window = cost[first] * growth[first] ** TIME_EXPONENT
+            window = cost[first] * growth[first] ** power[first]
             for k in kinds:
                 if k != first and current[k].pressure_kPa is not None:
-                    growth[k] = min(GROWTH_MAX, (window / cost[k]) ** (1.0 / TIME_EXPONENT))
+                    growth[k] = min(GROWTH_MAX, (window / cost[k]) ** (1.0 / power[k]))
                     if growth[k] >= least[k]:
                         refine.append(k)
         refined_before.update(refine)
@@ -307,6 +323,28 @@ def refine_until(case: Case, kinds: list[str], elements: int, backend: str, doma
                "max_steps": case.analysis.max_steps, "steps": len(history),
                "reached": stopped == "target gap reached", "stopped": stopped, "why": why}
     return chosen["lower"], chosen["upper"], history, timing, summary
+
+
+def time_exponent(runs: list[tuple[int, float, object]]) -> float:
+    """k in time ~ elements^k for a bound's next run: from its last two runs on the same domain
+    whose sizes differ by GROWTH_MIN or more, within [TIME_EXPONENT_MIN, TIME_EXPONENT_MAX];
+    TIME_EXPONENT_MAX until there are two such runs.
+
+    >>> time_exponent([(4000, 3.5, "d")])
+    2.2
+    >>> round(time_exponent([(4000, 3.5, "d"), (16000, 14.0, "d")]), 2)  # linear: at least 1.3
+    1.3
+    >>> round(time_exponent([(4000, 2.0, "d"), (16000, 22.6, "d")]), 2)
+    1.75
+    >>> time_exponent([(4000, 2.0, "d"), (4000, 9.0, "larger")])  # a larger domain: no pair
+    2.2
+    """
+    if len(runs) >= 2:
+        (n0, t0, d0), (n1, t1, d1) = runs[-2], runs[-1]
+        if d0 == d1 and n1 >= GROWTH_MIN * n0 and t0 > 0 and t1 > 0:
+            k = np.log(t1 / t0) / np.log(n1 / n0)
+            return float(min(max(k, TIME_EXPONENT_MIN), TIME_EXPONENT_MAX))
+    return TIME_EXPONENT_MAX
 
 
 def extend_hint(hint: SizeHint, domain, mesh) -> SizeHint:
